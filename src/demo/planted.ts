@@ -67,7 +67,7 @@ export const PLANTED_SKILLS: readonly PlantedSkill[] = [
   { id: 'vmware-vsphere', phrase: 'vSphere', baseShare: 0.04, shape: { kind: 'declining', halfLifeYears: 6 }, expectedState: 'declining' },
   { id: 'php', phrase: 'PHP', baseShare: 0.06, shape: { kind: 'declining', halfLifeYears: 8 }, expectedState: 'declining' },
   // fading out: already rare and still falling fast
-  { id: 'adobe-flash', phrase: 'Flash', baseShare: 0.008, shape: { kind: 'fading', halfLifeYears: 1.2 }, expectedState: 'fading' },
+  { id: 'adobe-flash', phrase: 'Adobe Flash', baseShare: 0.008, shape: { kind: 'fading', halfLifeYears: 1.2 }, expectedState: 'fading' },
   { id: 'silverlight', phrase: 'Silverlight', baseShare: 0.006, shape: { kind: 'fading', halfLifeYears: 1.5 }, expectedState: 'fading' },
   { id: 'visual-basic-6', phrase: 'Visual Basic 6', baseShare: 0.007, shape: { kind: 'fading', halfLifeYears: 1.5 }, expectedState: 'fading' },
   // steady, then declining for the last ten months (a change point)
