@@ -1,0 +1,139 @@
+/**
+ * @module db/connection
+ * Opens the one SQLite database (WAL, foreign keys, synchronous=NORMAL) and brings its schema up to
+ * date. Everything else in src/db/ takes the `Db` handle this returns.
+ */
+import crypto from 'node:crypto'
+import fs from 'node:fs'
+import path from 'node:path'
+import Database from 'better-sqlite3'
+import { MIGRATIONS, SCHEMA_VERSION, type Migration } from './migrations.ts'
+
+export type Db = Database.Database
+
+/** A database problem the user can act on (newer schema, unwritable file). */
+export class DbError extends Error {
+  override name = 'DbError'
+}
+
+export interface OpenOptions {
+  /** open read-only (dashboard readers); no migrations are applied */
+  readonly?: boolean
+  /** apply migrations up to this version only (tests of the upgrade path) */
+  upTo?: number
+}
+
+/**
+ * Opens (creating if needed) the database at `file` and migrates it.
+ * @param file path, or ':memory:'
+ * @throws DbError when the file was written by a newer version of skill-tides
+ * @example
+ * const db = openDb(':memory:'); db.pragma('user_version', { simple: true }) // => 2
+ */
+export function openDb(file: string, options: OpenOptions = {}): Db {
+  if (file !== ':memory:' && !options.readonly) {
+    fs.mkdirSync(path.dirname(path.resolve(file)), { recursive: true })
+  }
+  let db: Db
+  try {
+    db = new Database(file, { readonly: options.readonly ?? false, fileMustExist: options.readonly ?? false })
+  } catch (err) {
+    throw new DbError(`cannot open database ${file}: ${(err as Error).message}`, { cause: err })
+  }
+  try {
+    if (!options.readonly) {
+      db.pragma('journal_mode = WAL')
+      db.pragma('synchronous = NORMAL')
+    }
+    db.pragma('foreign_keys = ON')
+    db.pragma('busy_timeout = 5000')
+    if (!options.readonly) migrate(db, options.upTo ?? SCHEMA_VERSION)
+    else checkVersion(db, file)
+  } catch (err) {
+    db.close()
+    throw err
+  }
+  return db
+}
+
+function checkVersion(db: Db, file: string): number {
+  const current = db.pragma('user_version', { simple: true }) as number
+  if (current > SCHEMA_VERSION) {
+    throw new DbError(
+      `database ${file} has schema version ${current}, newer than this skill-tides (${SCHEMA_VERSION}); ` +
+        'upgrade skill-tides or point --db at another file',
+    )
+  }
+  return current
+}
+
+/**
+ * Applies every migration above the database's `user_version`, each in its own transaction.
+ * @returns the versions applied
+ */
+export function migrate(db: Db, upTo: number = SCHEMA_VERSION, migrations: readonly Migration[] = MIGRATIONS): number[] {
+  const current = checkVersion(db, db.name)
+  const applied: number[] = []
+  for (const m of migrations) {
+    if (m.version <= current || m.version > upTo) continue
+    const step = db.transaction(() => {
+      db.exec(m.sql)
+      db.pragma(`user_version = ${m.version}`)
+    })
+    try {
+      step()
+    } catch (err) {
+      throw new DbError(`migration ${m.version} (${m.name}) failed: ${(err as Error).message}`, { cause: err })
+    }
+    applied.push(m.version)
+  }
+  return applied
+}
+
+/** The schema version recorded in the database. */
+export function schemaVersion(db: Db): number {
+  return db.pragma('user_version', { simple: true }) as number
+}
+
+/** Reads a value from the settings table. */
+export function getSetting(db: Db, key: string): string | undefined {
+  const row = db.prepare('SELECT value FROM settings WHERE key = ?').get(key) as { value: string } | undefined
+  return row?.value
+}
+
+/** Writes a value to the settings table. */
+export function setSetting(db: Db, key: string, value: string): void {
+  db.prepare('INSERT INTO settings(key, value) VALUES (?, ?) ON CONFLICT(key) DO UPDATE SET value = excluded.value').run(key, value)
+}
+
+/**
+ * A digest of every table's rows in primary-key order, for determinism and crash-safety tests.
+ * Columns that record wall-clock times are left out by name.
+ */
+export function contentHash(db: Db, tables?: readonly string[], ignoreColumns: readonly string[] = TIME_COLUMNS): string {
+  const hash = crypto.createHash('sha256')
+  const names =
+    tables ??
+    (db.prepare("SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite_%' ORDER BY name").all() as { name: string }[]).map(
+      (r) => r.name,
+    )
+  for (const name of names) {
+    const cols = (db.prepare(`PRAGMA table_info(${JSON.stringify(name)})`).all() as { name: string }[])
+      .map((c) => c.name)
+      .filter((c) => !ignoreColumns.includes(c))
+    if (cols.length === 0) continue
+    const list = cols.map((c) => JSON.stringify(c)).join(', ')
+    hash.update(`#${name}\n`)
+    for (const row of db.prepare(`SELECT ${list} FROM ${JSON.stringify(name)} ORDER BY ${list}`).raw().iterate()) {
+      hash.update(JSON.stringify(row))
+      hash.update('\n')
+    }
+  }
+  return hash.digest('hex')
+}
+
+const TIME_COLUMNS = [
+  'created_at', 'ingested_at', 'updated_at', 'fitted_at', 'started_at', 'ended_at', 'at',
+  'delivered_at', 'next_attempt_at', 'expires_at', 'pid', 'holder',
+]
+

@@ -1,0 +1,319 @@
+/**
+ * @module db/migrations
+ * Numbered schema migrations. The database records the last applied number in `PRAGMA user_version`;
+ * `migrate()` in connection.ts applies the missing ones in order, each in its own transaction.
+ * Never edit a migration that has shipped: add a new one at the end.
+ *
+ * Skill ids in people/roles/items/abilities/courses are not foreign keys to `concepts`: organisations
+ * import their assessment data and their taxonomy in any order; the stages report unknown ids instead.
+ */
+
+export interface Migration {
+  version: number
+  name: string
+  sql: string
+}
+
+const V1_CORE = `
+CREATE TABLE settings (
+  key TEXT PRIMARY KEY,
+  value TEXT NOT NULL
+);
+
+CREATE TABLE sources (
+  id TEXT PRIMARY KEY,
+  kind TEXT NOT NULL CHECK (kind IN ('feed','jsonl','requests','folder','import')),
+  location TEXT NOT NULL,
+  schedule TEXT,
+  options_json TEXT NOT NULL DEFAULT '{}',
+  etag TEXT,
+  last_modified TEXT,
+  cursor TEXT,
+  created_at TEXT NOT NULL DEFAULT (strftime('%Y-%m-%dT%H:%M:%fZ','now'))
+);
+
+-- one row per posting or internal request; reposts point at their original through duplicate_of
+CREATE TABLE documents (
+  id INTEGER PRIMARY KEY,
+  source_id TEXT NOT NULL REFERENCES sources(id),
+  external_id TEXT NOT NULL,
+  kind TEXT NOT NULL CHECK (kind IN ('posting','request')),
+  title TEXT NOT NULL DEFAULT '',
+  body TEXT NOT NULL DEFAULT '',
+  posted_at TEXT NOT NULL,
+  month TEXT NOT NULL,
+  date_estimated INTEGER NOT NULL DEFAULT 0,
+  text_hash TEXT NOT NULL,
+  duplicate_of INTEGER REFERENCES documents(id),
+  dup_similarity REAL,
+  occupation TEXT,
+  organisation TEXT,
+  location TEXT,
+  channel TEXT,
+  team TEXT,
+  skills_json TEXT,
+  ingested_at TEXT NOT NULL DEFAULT (strftime('%Y-%m-%dT%H:%M:%fZ','now')),
+  mapped_version INTEGER,
+  UNIQUE (source_id, external_id)
+);
+CREATE INDEX documents_hash ON documents(text_hash);
+CREATE INDEX documents_month ON documents(kind, month);
+CREATE INDEX documents_unmapped ON documents(mapped_version);
+
+-- MinHash LSH band keys for near-duplicate detection
+CREATE TABLE document_bands (
+  band INTEGER NOT NULL,
+  key INTEGER NOT NULL,
+  document_id INTEGER NOT NULL REFERENCES documents(id) ON DELETE CASCADE
+);
+CREATE INDEX document_bands_key ON document_bands(band, key);
+
+CREATE TABLE concepts (
+  id TEXT PRIMARY KEY,
+  pref_label TEXT NOT NULL,
+  type TEXT NOT NULL CHECK (type IN ('hard','soft')),
+  rule_json TEXT,
+  origin TEXT NOT NULL DEFAULT 'import',
+  created_at TEXT NOT NULL DEFAULT (strftime('%Y-%m-%dT%H:%M:%fZ','now'))
+);
+
+CREATE TABLE labels (
+  concept_id TEXT NOT NULL REFERENCES concepts(id) ON DELETE CASCADE,
+  label TEXT NOT NULL,
+  kind TEXT NOT NULL CHECK (kind IN ('pref','alt','hidden')),
+  case_sensitive INTEGER NOT NULL DEFAULT 0,
+  PRIMARY KEY (concept_id, label, kind)
+);
+CREATE INDEX labels_label ON labels(label);
+
+CREATE TABLE concept_broader (
+  concept_id TEXT NOT NULL REFERENCES concepts(id) ON DELETE CASCADE,
+  broader_id TEXT NOT NULL REFERENCES concepts(id) ON DELETE CASCADE,
+  PRIMARY KEY (concept_id, broader_id)
+);
+
+-- a document mentions a concept or not; via = 'text' | 'skills' (schema.org skills field) | 'rollup'
+CREATE TABLE mentions (
+  document_id INTEGER NOT NULL REFERENCES documents(id) ON DELETE CASCADE,
+  concept_id TEXT NOT NULL REFERENCES concepts(id) ON DELETE CASCADE,
+  count INTEGER NOT NULL,
+  first_offset INTEGER,
+  via TEXT NOT NULL,
+  PRIMARY KEY (document_id, concept_id)
+);
+CREATE INDEX mentions_concept ON mentions(concept_id);
+
+CREATE TABLE candidate_terms (
+  term TEXT PRIMARY KEY,
+  score REAL NOT NULL,
+  recent_df INTEGER NOT NULL,
+  earlier_df INTEGER NOT NULL,
+  trend_json TEXT NOT NULL DEFAULT '[]',
+  examples_json TEXT NOT NULL DEFAULT '[]',
+  status TEXT NOT NULL DEFAULT 'open' CHECK (status IN ('open','accepted','dismissed')),
+  decision_json TEXT,
+  updated_at TEXT NOT NULL DEFAULT (strftime('%Y-%m-%dT%H:%M:%fZ','now'))
+);
+
+-- monthly demand per skill: n documents mentioning it of total documents of that series
+CREATE TABLE demand (
+  concept_id TEXT NOT NULL,
+  series TEXT NOT NULL CHECK (series IN ('external','internal')),
+  month TEXT NOT NULL,
+  n INTEGER NOT NULL,
+  total INTEGER NOT NULL,
+  PRIMARY KEY (concept_id, series, month)
+);
+
+CREATE TABLE curves (
+  concept_id TEXT PRIMARY KEY,
+  state TEXT NOT NULL,
+  annual_growth REAL,
+  growth_low REAL,
+  growth_high REAL,
+  half_life_months REAL,
+  half_life_low REAL,
+  half_life_high REAL,
+  p_value REAL,
+  p_adjusted REAL,
+  latest_share REAL,
+  forecast_share12 REAL,
+  forecast_method TEXT,
+  change_month TEXT,
+  emerged_month TEXT,
+  details_json TEXT NOT NULL DEFAULT '{}',
+  fitted_at TEXT NOT NULL
+);
+
+CREATE TABLE people (
+  person_id TEXT PRIMARY KEY,
+  role TEXT NOT NULL,
+  team TEXT NOT NULL DEFAULT ''
+);
+CREATE INDEX people_role ON people(role);
+
+CREATE TABLE roles (
+  role TEXT NOT NULL,
+  skill_id TEXT NOT NULL,
+  required_theta REAL NOT NULL,
+  PRIMARY KEY (role, skill_id)
+);
+
+CREATE TABLE items (
+  item_id TEXT PRIMARY KEY,
+  skill_id TEXT NOT NULL,
+  a REAL,
+  b REAL,
+  c REAL,
+  origin TEXT NOT NULL DEFAULT 'import',
+  fit_json TEXT
+);
+CREATE INDEX items_skill ON items(skill_id);
+
+CREATE TABLE responses (
+  person_id TEXT NOT NULL,
+  item_id TEXT NOT NULL REFERENCES items(item_id),
+  response INTEGER NOT NULL CHECK (response IN (0,1)),
+  taken_at TEXT NOT NULL,
+  PRIMARY KEY (person_id, item_id, taken_at)
+);
+
+-- origin 'import' = estimates made elsewhere; 'estimate' = computed here from responses
+CREATE TABLE abilities (
+  person_id TEXT NOT NULL,
+  skill_id TEXT NOT NULL,
+  origin TEXT NOT NULL CHECK (origin IN ('import','estimate')),
+  theta REAL NOT NULL,
+  se REAL NOT NULL,
+  assessed_at TEXT NOT NULL,
+  method TEXT,
+  note TEXT,
+  PRIMARY KEY (person_id, skill_id, origin)
+);
+
+CREATE TABLE coverage (
+  skill_id TEXT NOT NULL,
+  role TEXT NOT NULL,
+  required_theta REAL NOT NULL,
+  headcount INTEGER NOT NULL,
+  assessed INTEGER NOT NULL,
+  unknown INTEGER NOT NULL,
+  stale INTEGER NOT NULL DEFAULT 0,
+  expected_meeting REAL NOT NULL,
+  coverage REAL,
+  expected_gap REAL NOT NULL,
+  gap_low REAL NOT NULL,
+  gap_high REAL NOT NULL,
+  updated_at TEXT NOT NULL,
+  PRIMARY KEY (skill_id, role)
+);
+
+CREATE TABLE courses (
+  course_id TEXT PRIMARY KEY,
+  title TEXT NOT NULL,
+  last_reviewed TEXT,
+  enrollments_12m INTEGER,
+  enrollments_prev_12m INTEGER,
+  owner TEXT NOT NULL DEFAULT ''
+);
+
+-- inferred = 1 when the skill was mapped from the title because the course had no tags
+CREATE TABLE course_skills (
+  course_id TEXT NOT NULL REFERENCES courses(course_id) ON DELETE CASCADE,
+  skill_ref TEXT NOT NULL,
+  skill_id TEXT,
+  inferred INTEGER NOT NULL DEFAULT 0,
+  PRIMARY KEY (course_id, skill_ref)
+);
+
+-- plan outputs: needs ranking, course flags, pathways, reskilling forecast (one row per key)
+CREATE TABLE plan_outputs (
+  kind TEXT NOT NULL,
+  key TEXT NOT NULL,
+  rank INTEGER,
+  score REAL,
+  payload_json TEXT NOT NULL,
+  updated_at TEXT NOT NULL,
+  PRIMARY KEY (kind, key)
+);
+
+CREATE TABLE course_flag_notes (
+  id INTEGER PRIMARY KEY,
+  course_id TEXT NOT NULL,
+  action TEXT NOT NULL,
+  flag TEXT,
+  note TEXT NOT NULL DEFAULT '',
+  actor TEXT NOT NULL DEFAULT '',
+  until TEXT,
+  at TEXT NOT NULL DEFAULT (strftime('%Y-%m-%dT%H:%M:%fZ','now'))
+);
+
+CREATE TABLE job_runs (
+  id INTEGER PRIMARY KEY,
+  stage TEXT NOT NULL,
+  source_id TEXT,
+  trigger TEXT NOT NULL DEFAULT 'manual',
+  started_at TEXT NOT NULL,
+  ended_at TEXT,
+  status TEXT NOT NULL DEFAULT 'running' CHECK (status IN ('running','ok','failed','partial')),
+  read INTEGER NOT NULL DEFAULT 0,
+  new INTEGER NOT NULL DEFAULT 0,
+  duplicate INTEGER NOT NULL DEFAULT 0,
+  rejected INTEGER NOT NULL DEFAULT 0,
+  error TEXT,
+  details_json TEXT NOT NULL DEFAULT '{}'
+);
+CREATE INDEX job_runs_stage ON job_runs(stage, started_at);
+
+-- the outbox: written in the same transaction as the work it announces, delivered after commit
+CREATE TABLE events (
+  id INTEGER PRIMARY KEY,
+  type TEXT NOT NULL,
+  payload_json TEXT NOT NULL,
+  created_at TEXT NOT NULL DEFAULT (strftime('%Y-%m-%dT%H:%M:%fZ','now'))
+);
+CREATE INDEX events_type ON events(type, id);
+
+-- per consumer (in-process stage subscription or webhook endpoint): how far it has got
+CREATE TABLE event_cursors (
+  consumer TEXT PRIMARY KEY,
+  last_event_id INTEGER NOT NULL DEFAULT 0
+);
+
+CREATE TABLE webhook_deliveries (
+  event_id INTEGER NOT NULL REFERENCES events(id),
+  endpoint TEXT NOT NULL,
+  status TEXT NOT NULL CHECK (status IN ('pending','delivered','failed')),
+  attempts INTEGER NOT NULL DEFAULT 0,
+  next_attempt_at TEXT,
+  last_error TEXT,
+  delivered_at TEXT,
+  PRIMARY KEY (event_id, endpoint)
+);
+
+-- advisory lock with a lease, so that two pipeline runs never overlap and a dead holder's lock expires
+CREATE TABLE locks (
+  name TEXT PRIMARY KEY,
+  holder TEXT NOT NULL,
+  pid INTEGER NOT NULL,
+  expires_at INTEGER NOT NULL
+);
+`
+
+/**
+ * Migration 2 is kept apart from 1 on purpose: it is the first real upgrade step and the migration
+ * tests upgrade a version-1 database through it in place.
+ */
+const V2_RUN_INDEXES = `
+CREATE INDEX documents_duplicate ON documents(duplicate_of);
+CREATE INDEX curves_state ON curves(state);
+CREATE INDEX plan_outputs_rank ON plan_outputs(kind, rank);
+`
+
+export const MIGRATIONS: readonly Migration[] = [
+  { version: 1, name: 'core tables', sql: V1_CORE },
+  { version: 2, name: 'indexes for duplicates, states and ranks', sql: V2_RUN_INDEXES },
+]
+
+/** The schema version this build of the program writes. */
+export const SCHEMA_VERSION = MIGRATIONS[MIGRATIONS.length - 1]!.version

@@ -1,0 +1,148 @@
+/**
+ * @module inputs/tables
+ * The CSV import kinds for workforce and course data (DESIGN.md "Input kinds"): columns, row
+ * validation and storage. A file with bad rows imports nothing unless `skipBad` is set; then the good
+ * rows land and the bad ones are counted. Every problem names file, line and column.
+ */
+import fs from 'node:fs'
+import type { Db } from '../db/connection.ts'
+import * as store from '../db/workforce.ts'
+import { type InputProblem, readCsv } from '../util/csv.ts'
+import { FieldError, date, list, number, text } from './fields.ts'
+
+export type TableKind = 'items' | 'responses' | 'abilities' | 'people' | 'roles' | 'courses'
+
+interface TableSpec<R> {
+  required: readonly string[]
+  optional?: readonly string[]
+  row(values: Record<string, string>): R
+  /** checks against what is already stored or earlier in the file; returns a problem reason or null */
+  check?(db: Db, row: R): { column: string; reason: string } | null
+  store(db: Db, rows: R[]): void
+}
+
+const SPECS: { [K in TableKind]: TableSpec<never> } = {
+  items: {
+    required: ['item_id', 'skill_id', 'a', 'b', 'c'],
+    row: (v) =>
+      ({
+        item_id: text(v, 'item_id', { max: 200 }),
+        skill_id: text(v, 'skill_id', { max: 200 }),
+        a: number(v, 'a', { required: false, min: 0.01, max: 10 }),
+        b: number(v, 'b', { required: false, min: -10, max: 10 }),
+        c: number(v, 'c', { required: false, min: 0, max: 0.99 }),
+      }) as never,
+    store: (db, rows) => store.upsertItems(db, rows),
+  } as TableSpec<store.ItemRow> as never,
+  responses: {
+    required: ['person_id', 'item_id', 'response', 'taken_at'],
+    row: (v) =>
+      ({
+        person_id: text(v, 'person_id', { max: 200 }),
+        item_id: text(v, 'item_id', { max: 200 }),
+        response: number(v, 'response', { min: 0, max: 1, integer: true }),
+        taken_at: date(v, 'taken_at'),
+      }) as never,
+    check: (db, row: store.ResponseRow) => (store.itemExists(db, row.item_id) ? null : { column: 'item_id', reason: `unknown item "${row.item_id}" (import items first)` }),
+    store: (db, rows) => store.upsertResponses(db, rows),
+  } as TableSpec<store.ResponseRow> as never,
+  abilities: {
+    required: ['person_id', 'skill_id', 'theta', 'se', 'assessed_at'],
+    row: (v) =>
+      ({
+        person_id: text(v, 'person_id', { max: 200 }),
+        skill_id: text(v, 'skill_id', { max: 200 }),
+        theta: number(v, 'theta', { min: -10, max: 10 }),
+        se: number(v, 'se', { min: 0.0001, max: 10 }),
+        assessed_at: date(v, 'assessed_at'),
+      }) as never,
+    store: (db, rows) => store.upsertImportedAbilities(db, rows),
+  } as TableSpec<store.AbilityRow> as never,
+  people: {
+    required: ['person_id', 'role'],
+    optional: ['team'],
+    row: (v) => ({ person_id: text(v, 'person_id', { max: 200 }), role: text(v, 'role', { max: 200 }), team: text(v, 'team', { required: false, max: 200 }) }) as never,
+    store: (db, rows) => store.upsertPeople(db, rows),
+  } as TableSpec<store.PersonRow> as never,
+  roles: {
+    required: ['role', 'skill_id', 'required_theta'],
+    row: (v) => ({ role: text(v, 'role', { max: 200 }), skill_id: text(v, 'skill_id', { max: 200 }), required_theta: number(v, 'required_theta', { min: -6, max: 6 }) }) as never,
+    store: (db, rows) => store.upsertRoles(db, rows),
+  } as TableSpec<store.RoleRow> as never,
+  courses: {
+    required: ['course_id', 'title', 'skills', 'last_reviewed', 'enrollments_12m', 'owner'],
+    optional: ['enrollments_prev_12m'],
+    row: (v) =>
+      ({
+        course_id: text(v, 'course_id', { max: 200 }),
+        title: text(v, 'title', { max: 500 }),
+        skills: list(v, 'skills'),
+        last_reviewed: date(v, 'last_reviewed', { required: false }),
+        enrollments_12m: number(v, 'enrollments_12m', { required: false, min: 0, integer: true }),
+        enrollments_prev_12m: number(v, 'enrollments_prev_12m', { required: false, min: 0, integer: true }),
+        owner: text(v, 'owner', { required: false, max: 200 }),
+      }) as never,
+    store: (db, rows) => store.upsertCourses(db, rows),
+  } as TableSpec<store.CourseRow> as never,
+}
+
+export const TABLE_KINDS = Object.keys(SPECS) as TableKind[]
+
+export function tableColumns(kind: TableKind): { required: readonly string[]; optional: readonly string[] } {
+  return { required: SPECS[kind].required, optional: SPECS[kind].optional ?? [] }
+}
+
+export interface ImportResult {
+  kind: string
+  file: string
+  read: number
+  imported: number
+  skipped: number
+  problems: InputProblem[]
+  /** true when nothing was stored because of bad rows (and skipBad was not set) */
+  refused: boolean
+}
+
+/** Validates and stores one CSV file of a table kind. */
+export function importTableFile(db: Db, kind: TableKind, file: string, opts: { skipBad?: boolean } = {}): ImportResult {
+  let content: string
+  try {
+    content = fs.readFileSync(file, 'utf8')
+  } catch (err) {
+    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [{ file, line: 0, reason: `cannot read: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}` }] }
+  }
+  return importTableText(db, kind, content, file, opts)
+}
+
+export function importTableText(db: Db, kind: TableKind, content: string, file: string, opts: { skipBad?: boolean } = {}): ImportResult {
+  const spec = SPECS[kind] as TableSpec<unknown>
+  if (content.includes('\uFFFD')) {
+    const line = content.slice(0, content.indexOf('\uFFFD')).split('\n').length
+    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [{ file, line, reason: 'not valid UTF-8 text' }] }
+  }
+  const parsed = readCsv(content, file, spec.required, spec.optional ?? [])
+  if (parsed.fatal) return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [parsed.fatal] }
+  const problems = [...parsed.problems]
+  const warnings = problems.length
+  const good: unknown[] = []
+  const run = db.transaction(() => {
+    for (const { line, values } of parsed.rows) {
+      try {
+        const row = spec.row(values)
+        const bad = spec.check?.(db, row as never)
+        if (bad) problems.push({ file, line, column: bad.column, reason: bad.reason })
+        else good.push(row)
+      } catch (err) {
+        if (err instanceof FieldError) problems.push({ file, line, column: err.column, reason: err.message })
+        else throw err
+      }
+    }
+    const bad = problems.length - warnings
+    if (bad > 0 && !opts.skipBad) return false
+    spec.store(db, good as never[])
+    return true
+  })
+  const stored = run()
+  const read = parsed.rows.length + parsed.problems.length - warnings
+  return { kind, file, read, imported: stored ? good.length : 0, skipped: stored ? read - good.length : 0, refused: !stored, problems }
+}

@@ -1,0 +1,50 @@
+/**
+ * @module serve
+ * `tides serve`: the dashboard/API server on loopback by default, plus the schedules.
+ */
+import { serve as serveHttp } from '@hono/node-server'
+import type { AddressInfo } from 'node:net'
+import { JOBS } from '../jobs/index.ts'
+import type { Config } from './config.ts'
+import type { Db } from './db/connection.ts'
+import { startSchedules, type Scheduler } from './schedule.ts'
+import { createApp } from './server/app.ts'
+
+export interface Running {
+  url: string
+  scheduler: Scheduler | null
+  /** resolves when the server has shut down (SIGINT/SIGTERM or close()) */
+  closed: Promise<void>
+  close(): Promise<void>
+}
+
+const LOOPBACK = new Set(['127.0.0.1', '::1', 'localhost'])
+
+export async function serve(db: Db, config: Config, opts: { schedules: boolean; log: (m: string) => void; signals?: boolean }): Promise<Running> {
+  const { host, port } = config.server
+  if (!LOOPBACK.has(host)) {
+    opts.log(`warning: listening on ${host}, not loopback: anyone who can reach this address can read the dashboard; writes still need the token`)
+  }
+  let scheduler: Scheduler | null = null
+  const app = createApp(db, config, { nextRuns: () => scheduler?.nextRuns() ?? [] })
+  const server = await new Promise<ReturnType<typeof serveHttp>>((resolve, reject) => {
+    const s = serveHttp({ fetch: app.fetch, hostname: host, port }, () => resolve(s))
+    s.once('error', reject)
+  })
+  const address = server.address() as AddressInfo
+  const url = `http://${host.includes(':') ? `[${host}]` : host}:${address.port}/`
+  if (opts.schedules) scheduler = startSchedules(db, config, JOBS, opts.log)
+  let resolveClosed!: () => void
+  const closed = new Promise<void>((r) => (resolveClosed = r))
+  const close = async () => {
+    await scheduler?.stop()
+    await new Promise<void>((r) => server.close(() => r()))
+    resolveClosed()
+  }
+  if (opts.signals !== false) {
+    const onSignal = () => void close()
+    process.once('SIGINT', onSignal)
+    process.once('SIGTERM', onSignal)
+  }
+  return { url, scheduler, closed, close }
+}

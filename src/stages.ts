@@ -1,0 +1,14 @@
+/**
+ * @module stages
+ * The registry of built stages, in pipeline order. Each stage module exports one `Stage`; add yours
+ * here (one import line and one array entry).
+ */
+import type { Stage, StageName } from './stage.ts'
+
+export const STAGE_ORDER: readonly StageName[] = ['ingest', 'map', 'fit', 'ability', 'plan']
+
+export const STAGES: readonly Stage[] = []
+
+export function findStage(name: string): Stage | undefined {
+  return STAGES.find((s) => s.name === name)
+}
