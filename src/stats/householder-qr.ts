@@ -1,0 +1,161 @@
+/**
+ * @module stats/householder-qr
+ * QR decomposition by Householder reflections, the numerically stable way to solve (weighted)
+ * least-squares problems without forming the normal equations X'X, whose condition number is the
+ * square of X's.
+ */
+
+/** A QR factorisation of an m × n matrix (m >= n), stored compactly as in LINPACK/JAMA. */
+export interface QrDecomposition {
+  readonly rows: number
+  readonly cols: number
+  /** column-major m × n: Householder vectors on and below the diagonal, R strictly above it */
+  readonly packed: Float64Array
+  /** diagonal of R */
+  readonly rDiagonal: Float64Array
+}
+
+/** Raised when the design matrix does not have full column rank (within rounding). */
+export class RankDeficientError extends Error {
+  readonly column: number
+  constructor(column: number) {
+    super(`leastSquares requires a full-rank design, column ${column} is (nearly) a combination of the others`)
+    this.name = 'RankDeficientError'
+    this.column = column
+  }
+}
+
+/**
+ * Householder QR decomposition A = QR of a column-major m × n matrix.
+ *
+ * Each column's norm is computed with scaling (largest entry first) so that neither overflow nor
+ * underflow can spoil it. A column whose remaining norm is below 1e-12 of its original norm makes the
+ * matrix rank deficient and raises RankDeficientError rather than returning meaningless coefficients.
+ *
+ * Reference: https://en.wikipedia.org/wiki/QR_decomposition#Using_Householder_reflections
+ * (layout as in the public-domain JAMA library).
+ * Cost: O(m n²) time, O(m n) memory.
+ *
+ * @param matrix column-major values, length rows × cols (not modified)
+ * @param rows m
+ * @param cols n (<= m)
+ * @throws RankDeficientError when a column is (nearly) dependent on earlier ones
+ * @example
+ * ```ts
+ * const qr = qrDecompose(Float64Array.from([1, 1, 1, 1, 2, 3]), 3, 2)
+ * qrSolve(qr, Float64Array.from([1, 2, 3])) // => Float64Array [0, 1]
+ * ```
+ */
+export function qrDecompose(matrix: Float64Array, rows: number, cols: number): QrDecomposition {
+  if (rows < cols) throw new RangeError(`qrDecompose requires at least as many rows as columns, got ${rows} × ${cols}`)
+  if (matrix.length !== rows * cols) throw new RangeError(`qrDecompose requires ${rows * cols} values, got ${matrix.length}`)
+  const packed = Float64Array.from(matrix)
+  const rDiagonal = new Float64Array(cols)
+  for (let k = 0; k < cols; k++) {
+    const columnK = k * rows
+    // original norm of column k, for the rank test
+    let originalScale = 0
+    for (let i = 0; i < rows; i++) originalScale = Math.max(originalScale, Math.abs(matrix[columnK + i]!))
+    let scale = 0
+    for (let i = k; i < rows; i++) scale = Math.max(scale, Math.abs(packed[columnK + i]!))
+    let norm = 0
+    if (scale > 0) {
+      let sumSquares = 0
+      for (let i = k; i < rows; i++) {
+        const scaled = packed[columnK + i]! / scale
+        sumSquares += scaled * scaled
+      }
+      norm = scale * Math.sqrt(sumSquares)
+    }
+    if (!(norm > 1e-12 * originalScale * Math.sqrt(rows)) || originalScale === 0) throw new RankDeficientError(k)
+    if (packed[columnK + k]! < 0) norm = -norm
+    for (let i = k; i < rows; i++) packed[columnK + i]! /= norm
+    packed[columnK + k]! += 1
+    // apply the reflection to the remaining columns
+    for (let j = k + 1; j < cols; j++) {
+      const columnJ = j * rows
+      let dot = 0
+      for (let i = k; i < rows; i++) dot += packed[columnK + i]! * packed[columnJ + i]!
+      const factor = -dot / packed[columnK + k]!
+      for (let i = k; i < rows; i++) packed[columnJ + i]! += factor * packed[columnK + i]!
+    }
+    rDiagonal[k] = -norm
+  }
+  return { rows, cols, packed, rDiagonal }
+}
+
+/**
+ * Apply Qᵀ to a vector of length m (returns a new array).
+ *
+ * @example
+ * ```ts
+ * applyQTranspose(qrDecompose(Float64Array.from([3, 4]), 2, 1), Float64Array.from([3, 4])) // => [-5, 0]
+ * ```
+ */
+export function applyQTranspose(qr: QrDecomposition, vector: Float64Array): Float64Array {
+  const { rows, cols, packed } = qr
+  if (vector.length !== rows) throw new RangeError(`applyQTranspose requires a vector of length ${rows}, got ${vector.length}`)
+  const result = Float64Array.from(vector)
+  for (let k = 0; k < cols; k++) {
+    const columnK = k * rows
+    let dot = 0
+    for (let i = k; i < rows; i++) dot += packed[columnK + i]! * result[i]!
+    const factor = -dot / packed[columnK + k]!
+    for (let i = k; i < rows; i++) result[i]! += factor * packed[columnK + i]!
+  }
+  return result
+}
+
+/**
+ * Least-squares solution of A x ≈ b from a QR decomposition: x = R⁻¹ (Qᵀ b)[0..n).
+ *
+ * @example
+ * ```ts
+ * qrSolve(qrDecompose(Float64Array.from([1, 1, 1, 1, 2, 3]), 3, 2), Float64Array.from([2, 4, 6])) // => [0, 2]
+ * ```
+ */
+export function qrSolve(qr: QrDecomposition, rightHandSide: Float64Array): Float64Array {
+  const { rows, cols, packed, rDiagonal } = qr
+  const rotated = applyQTranspose(qr, rightHandSide)
+  const solution = new Float64Array(cols)
+  for (let k = cols - 1; k >= 0; k--) {
+    let value = rotated[k]!
+    for (let j = k + 1; j < cols; j++) value -= packed[j * rows + k]! * solution[j]!
+    solution[k] = value / rDiagonal[k]!
+  }
+  return solution
+}
+
+/**
+ * Unscaled covariance (RᵀR)⁻¹ = (AᵀA)⁻¹ as a row-major n × n array, computed as R⁻¹R⁻ᵀ so that AᵀA
+ * is never formed.
+ *
+ * Cost: O(n³).
+ * @example
+ * ```ts
+ * qrUnscaledCovariance(qrDecompose(Float64Array.from([1, 1, 1, 1]), 4, 1)) // => [0.25]
+ * ```
+ */
+export function qrUnscaledCovariance(qr: QrDecomposition): Float64Array {
+  const { rows, cols, packed, rDiagonal } = qr
+  // inverse of the upper-triangular R, column by column (row-major storage)
+  const rInverse = new Float64Array(cols * cols)
+  for (let column = 0; column < cols; column++) {
+    rInverse[column * cols + column] = 1 / rDiagonal[column]!
+    for (let row = column - 1; row >= 0; row--) {
+      let sum = 0
+      for (let k = row + 1; k <= column; k++) sum += packed[k * rows + row]! * rInverse[k * cols + column]!
+      rInverse[row * cols + column] = -sum / rDiagonal[row]!
+    }
+  }
+  const covariance = new Float64Array(cols * cols)
+  for (let i = 0; i < cols; i++) {
+    for (let j = i; j < cols; j++) {
+      let sum = 0
+      for (let k = Math.max(i, j); k < cols; k++) sum += rInverse[i * cols + k]! * rInverse[j * cols + k]!
+      covariance[i * cols + j] = sum
+      covariance[j * cols + i] = sum
+    }
+  }
+  return covariance
+}
