@@ -6,6 +6,7 @@
  */
 import fs from 'node:fs'
 import path from 'node:path'
+import cron from 'node-cron'
 import { z } from 'zod'
 import { abilityConfigSchema } from './ability/config.ts'
 import { curvesConfigSchema } from './curves/config.ts'
@@ -38,6 +39,9 @@ export const configSchema = z
     cfg.sources.forEach((s, i) => {
       if (seen.has(s.id)) ctx.addIssue({ code: 'custom', path: ['sources', i, 'id'], message: `duplicate source id "${s.id}"` })
       seen.add(s.id)
+      if (s.schedule !== undefined && !cron.validate(s.schedule)) {
+        ctx.addIssue({ code: 'custom', path: ['sources', i, 'schedule'], message: `"${s.schedule}" is not a valid cron expression` })
+      }
     })
   })
 

@@ -123,7 +123,6 @@ export function importTableText(db: Db, kind: TableKind, content: string, file: 
   const parsed = readCsv(content, file, spec.required, spec.optional ?? [])
   if (parsed.fatal) return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [parsed.fatal] }
   const problems = [...parsed.problems]
-  const warnings = problems.length
   const good: unknown[] = []
   const run = db.transaction(() => {
     for (const { line, values } of parsed.rows) {
@@ -137,12 +136,11 @@ export function importTableText(db: Db, kind: TableKind, content: string, file: 
         else throw err
       }
     }
-    const bad = problems.length - warnings
-    if (bad > 0 && !opts.skipBad) return false
+    if (problems.length > 0 && !opts.skipBad) return false
     spec.store(db, good as never[])
     return true
   })
   const stored = run()
-  const read = parsed.rows.length + parsed.problems.length - warnings
-  return { kind, file, read, imported: stored ? good.length : 0, skipped: stored ? read - good.length : 0, refused: !stored, problems }
+  const read = parsed.rows.length + parsed.problems.length
+  return { kind, file, read, imported: stored ? good.length : 0, skipped: stored ? read - good.length : 0, refused: !stored, problems: [...parsed.warnings, ...problems] }
 }

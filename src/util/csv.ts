@@ -23,7 +23,10 @@ export interface CsvRow {
 
 export interface CsvReadResult {
   rows: CsvRow[]
+  /** bad rows (wrong number of fields) */
   problems: InputProblem[]
+  /** notes that reject nothing (unknown columns are ignored) */
+  warnings: InputProblem[]
   /** a problem that stops the whole file (missing column, unclosed quote) */
   fatal?: InputProblem
 }
@@ -38,18 +41,19 @@ export function readCsv(text: string, file: string, required: readonly string[],
     records = parse(text, { info: true, raw: true, relax_column_count: true, bom: true, skip_empty_lines: true, trim: false }) as never
   } catch (err) {
     const e = err as Error & { lines?: number }
-    return { rows: [], problems: [], fatal: { file, line: e.lines ?? 1, reason: `not valid CSV: ${e.message}` } }
+    return { rows: [], problems: [], warnings: [], fatal: { file, line: e.lines ?? 1, reason: `not valid CSV: ${e.message}` } }
   }
-  if (records.length === 0) return { rows: [], problems: [], fatal: { file, line: 1, reason: 'empty file (a header row is required)' } }
+  if (records.length === 0) return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, reason: 'empty file (a header row is required)' } }
   const header = records[0]!.record.map((h) => h.trim())
   const missing = required.filter((c) => !header.includes(c))
   if (missing.length) {
-    return { rows: [], problems: [], fatal: { file, line: 1, column: missing.join(', '), reason: `missing required column(s); header has: ${header.join(', ')}` } }
+    return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, column: missing.join(', '), reason: `missing required column(s); header has: ${header.join(', ')}` } }
   }
   const known = new Set([...required, ...optional])
   const unknown = header.filter((h) => !known.has(h))
   const problems: InputProblem[] = []
-  if (unknown.length) problems.push({ file, line: 1, column: unknown.join(', '), reason: 'unknown column(s) ignored' })
+  const warnings: InputProblem[] = []
+  if (unknown.length) warnings.push({ file, line: 1, column: unknown.join(', '), reason: 'unknown column(s) ignored' })
   const rows: CsvRow[] = []
   for (const { record, info, raw } of records.slice(1)) {
     const line = info.lines - (raw.replace(/\r?\n$/, '').split('\n').length - 1)
@@ -61,7 +65,7 @@ export function readCsv(text: string, file: string, required: readonly string[],
     header.forEach((h, i) => (values[h] = record[i]!))
     rows.push({ line, values })
   }
-  return { rows, problems }
+  return { rows, problems, warnings }
 }
 
 /** Cells that a spreadsheet would run as a formula get a leading apostrophe (OWASP CSV injection advice). */

@@ -1,0 +1,91 @@
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import { describe, expect, it } from 'vitest'
+import { main, type Io } from '../../src/cli.ts'
+
+async function tides(...args: string[]): Promise<{ code: number; out: string; err: string }> {
+  let out = ''
+  let err = ''
+  const io: Io = { out: (t) => (out += t), err: (t) => (err += t), isTty: false }
+  const code = await main(args, io)
+  return { code, out, err }
+}
+
+function tmpDir(): string {
+  return fs.mkdtempSync(path.join(os.tmpdir(), 'tides-cli-'))
+}
+
+describe('tides CLI', () => {
+  it('prints help with every DESIGN.md command and exits 0', async () => {
+    const r = await tides('--help')
+    expect(r.code).toBe(0)
+    for (const c of ['init', 'demo', 'import', 'run', 'serve', 'report', 'map']) expect(r.out).toContain(`  ${c} `)
+  })
+
+  it('gives every command its own --help', async () => {
+    for (const c of ['init', 'demo', 'import', 'run', 'serve', 'report', 'map']) {
+      const r = await tides(c, '--help')
+      expect(r.code, c).toBe(0)
+      expect(r.out).toContain(`usage: tides ${c}`)
+    }
+  })
+
+  it('answers a usage error with one line and exit 2', async () => {
+    expect(await tides()).toMatchObject({ code: 2 })
+    expect((await tides('frobnicate')).err).toMatch(/unknown command "frobnicate"/)
+    const r = await tides('report', 'skills', '--colour')
+    expect(r.code).toBe(2)
+    expect(r.err).toMatch(/Unknown option '--colour'/)
+    expect((await tides('run')).code).toBe(2)
+    expect((await tides('run', 'teleport')).err).toMatch(/unknown stage "teleport"/)
+    expect((await tides('import', 'gossip', 'x.csv')).err).toMatch(/import needs a kind/)
+    expect((await tides('report', 'runs', '--limit', 'ten')).err).toMatch(/--limit needs a whole number/)
+  })
+
+  it('imports a CSV, refuses a bad one with file:line, and accepts the good rows with --skip-bad', async () => {
+    const dir = tmpDir()
+    const db = path.join(dir, 't.db')
+    const good = path.join(dir, 'people.csv')
+    fs.writeFileSync(good, 'person_id,role,team\np1,analyst,north\n')
+    const bad = path.join(dir, 'bad.csv')
+    fs.writeFileSync(bad, 'person_id,role,team\np2,analyst,north\n,engineer,south\n')
+    expect(await tides('--db', db, 'import', 'people', good)).toMatchObject({ code: 0 })
+    const refused = await tides('import', 'people', bad, '--db', db)
+    expect(refused.code).toBe(1)
+    expect(refused.err).toContain(`${bad}:3: column person_id: is empty`)
+    expect(refused.err).toMatch(/nothing imported .* --skip-bad/)
+    const skipped = await tides('import', 'people', bad, '--db', db, '--skip-bad', '--json')
+    expect(skipped.code).toBe(0)
+    expect(JSON.parse(skipped.out)[0]).toMatchObject({ imported: 1, skipped: 1 })
+  })
+
+  it('--json prints exactly one parseable JSON document on stdout', async () => {
+    const dir = tmpDir()
+    const r = await tides('report', 'runs', '--json', '--db', path.join(dir, 't.db'))
+    expect(r.code).toBe(0)
+    expect(JSON.parse(r.out)).toEqual([])
+  })
+
+  it('reports a bad config file naming the key, exit 1', async () => {
+    const dir = tmpDir()
+    const cfg = path.join(dir, 'c.json')
+    fs.writeFileSync(cfg, JSON.stringify({ curves: { q: 7 } }))
+    const r = await tides('--config', cfg, 'report', 'runs')
+    expect(r.code).toBe(1)
+    expect(r.err).toMatch(/curves\.q/)
+  })
+
+  it('init writes a config with a token once, and never overwrites it', async () => {
+    const dir = tmpDir()
+    const cfg = path.join(dir, 'tides.config.json')
+    const first = await tides('init', '--config', cfg, '--db', path.join(dir, 't.db'))
+    expect(first.code).toBe(0)
+    expect(first.out).toMatch(/dashboard token \(shown once/)
+    const token = JSON.parse(fs.readFileSync(cfg, 'utf8')).server.token
+    expect(token.length).toBeGreaterThanOrEqual(16)
+    const second = await tides('init', '--config', cfg, '--db', path.join(dir, 't.db'))
+    expect(second.out).not.toMatch(/token/)
+    expect(JSON.parse(fs.readFileSync(cfg, 'utf8')).server.token).toBe(token)
+  })
+})
