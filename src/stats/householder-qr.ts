@@ -51,23 +51,43 @@ export function qrDecompose(matrix: Float64Array, rows: number, cols: number): Q
   if (matrix.length !== rows * cols) throw new RangeError(`qrDecompose requires ${rows * cols} values, got ${matrix.length}`)
   const packed = Float64Array.from(matrix)
   const rDiagonal = new Float64Array(cols)
+  qrDecomposeInPlace(packed, rows, cols, rDiagonal)
+  return { rows, cols, packed, rDiagonal }
+}
+
+/**
+ * In-place variant of {@link qrDecompose} for hot loops (iteratively reweighted least squares):
+ * overwrites `packed` with the compact factorisation and fills `rDiagonal`, allocating nothing.
+ *
+ * @throws RankDeficientError when a column is (nearly) dependent on earlier ones
+ * @example
+ * ```ts
+ * const packed = Float64Array.from([1, 1, 1, 1, 2, 3]); const diagonal = new Float64Array(2)
+ * qrDecomposeInPlace(packed, 3, 2, diagonal) // diagonal => [-1.732..., 1.414...]
+ * ```
+ */
+export function qrDecomposeInPlace(packed: Float64Array, rows: number, cols: number, rDiagonal: Float64Array): void {
   for (let k = 0; k < cols; k++) {
     const columnK = k * rows
-    // original norm of column k, for the rank test
-    let originalScale = 0
-    for (let i = 0; i < rows; i++) originalScale = Math.max(originalScale, Math.abs(matrix[columnK + i]!))
-    let scale = 0
-    for (let i = k; i < rows; i++) scale = Math.max(scale, Math.abs(packed[columnK + i]!))
+    // size of the whole original column k (rows above k have not been touched yet by step k's
+    // own reflection, but earlier reflections preserve the column norm), for the rank test
+    let columnScale = 0
+    let remainingScale = 0
+    for (let i = 0; i < rows; i++) {
+      const magnitude = Math.abs(packed[columnK + i]!)
+      if (magnitude > columnScale) columnScale = magnitude
+      if (i >= k && magnitude > remainingScale) remainingScale = magnitude
+    }
     let norm = 0
-    if (scale > 0) {
+    if (remainingScale > 0) {
       let sumSquares = 0
       for (let i = k; i < rows; i++) {
-        const scaled = packed[columnK + i]! / scale
+        const scaled = packed[columnK + i]! / remainingScale
         sumSquares += scaled * scaled
       }
-      norm = scale * Math.sqrt(sumSquares)
+      norm = remainingScale * Math.sqrt(sumSquares)
     }
-    if (!(norm > 1e-12 * originalScale * Math.sqrt(rows)) || originalScale === 0) throw new RankDeficientError(k)
+    if (columnScale === 0 || !(norm > 1e-12 * columnScale * Math.sqrt(rows))) throw new RankDeficientError(k)
     if (packed[columnK + k]! < 0) norm = -norm
     for (let i = k; i < rows; i++) packed[columnK + i]! /= norm
     packed[columnK + k]! += 1
@@ -81,7 +101,6 @@ export function qrDecompose(matrix: Float64Array, rows: number, cols: number): Q
     }
     rDiagonal[k] = -norm
   }
-  return { rows, cols, packed, rDiagonal }
 }
 
 /**
@@ -158,4 +177,36 @@ export function qrUnscaledCovariance(qr: QrDecomposition): Float64Array {
     }
   }
   return covariance
+}
+
+/**
+ * Allocation-free least-squares solve for hot loops: overwrites `rightHandSide` with Qᵀb and writes
+ * the n coefficients into `solution`.
+ *
+ * @example
+ * ```ts
+ * // after qrDecomposeInPlace(packed, 3, 2, diagonal) on [[1,1],[1,2],[1,3]]:
+ * qrSolveInPlace(packed, 3, 2, diagonal, Float64Array.from([2, 4, 6]), out) // out => [0, 2]
+ * ```
+ */
+export function qrSolveInPlace(
+  packed: Float64Array,
+  rows: number,
+  cols: number,
+  rDiagonal: Float64Array,
+  rightHandSide: Float64Array,
+  solution: Float64Array,
+): void {
+  for (let k = 0; k < cols; k++) {
+    const columnK = k * rows
+    let dot = 0
+    for (let i = k; i < rows; i++) dot += packed[columnK + i]! * rightHandSide[i]!
+    const factor = -dot / packed[columnK + k]!
+    for (let i = k; i < rows; i++) rightHandSide[i]! += factor * packed[columnK + i]!
+  }
+  for (let k = cols - 1; k >= 0; k--) {
+    let value = rightHandSide[k]!
+    for (let j = k + 1; j < cols; j++) value -= packed[j * rows + k]! * solution[j]!
+    solution[k] = value / rDiagonal[k]!
+  }
 }
