@@ -21,7 +21,16 @@ export function text(values: Record<string, string>, column: string, opts: { req
   return v
 }
 
-export function number(values: Record<string, string>, column: string, opts: { required?: boolean; min?: number; max?: number; integer?: boolean } = {}): number | null {
+interface NumberOptions {
+  required?: boolean
+  min?: number
+  max?: number
+  integer?: boolean
+}
+
+export function number(values: Record<string, string>, column: string, opts: NumberOptions & { required: false }): number | null
+export function number(values: Record<string, string>, column: string, opts?: NumberOptions & { required?: true }): number
+export function number(values: Record<string, string>, column: string, opts: NumberOptions = {}): number | null {
   const raw = (values[column] ?? '').trim()
   if (raw === '') {
     if (opts.required === false) return null
@@ -39,6 +48,8 @@ export function number(values: Record<string, string>, column: string, opts: { r
 const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})(?:[T ](\d{2}):(\d{2})(?::(\d{2})(?:\.\d+)?)?(Z|[+-]\d{2}:?\d{2})?)?$/
 
 /** An ISO 8601 date or date-time; returns the normalised ISO string (UTC). */
+export function date(values: Record<string, string>, column: string, opts: { required: false }): string | null
+export function date(values: Record<string, string>, column: string, opts?: { required?: true }): string
 export function date(values: Record<string, string>, column: string, opts: { required?: boolean } = {}): string | null {
   const raw = (values[column] ?? '').trim()
   if (raw === '') {

@@ -21,8 +21,13 @@ interface TableSpec<R> {
   store(db: Db, rows: R[]): void
 }
 
-const SPECS: { [K in TableKind]: TableSpec<never> } = {
-  items: {
+/** Erases a spec's row type once it is checked, so the specs can share one table. */
+function spec<R>(s: TableSpec<R>): TableSpec<unknown> {
+  return s as TableSpec<unknown>
+}
+
+const SPECS: Record<TableKind, TableSpec<unknown>> = {
+  items: spec<store.ItemRow>({
     required: ['item_id', 'skill_id', 'a', 'b', 'c'],
     row: (v) =>
       ({
@@ -31,10 +36,10 @@ const SPECS: { [K in TableKind]: TableSpec<never> } = {
         a: number(v, 'a', { required: false, min: 0.01, max: 10 }),
         b: number(v, 'b', { required: false, min: -10, max: 10 }),
         c: number(v, 'c', { required: false, min: 0, max: 0.99 }),
-      }) as never,
+      }),
     store: (db, rows) => store.upsertItems(db, rows),
-  } as TableSpec<store.ItemRow> as never,
-  responses: {
+  }),
+  responses: spec<store.ResponseRow>({
     required: ['person_id', 'item_id', 'response', 'taken_at'],
     row: (v) =>
       ({
@@ -42,11 +47,11 @@ const SPECS: { [K in TableKind]: TableSpec<never> } = {
         item_id: text(v, 'item_id', { max: 200 }),
         response: number(v, 'response', { min: 0, max: 1, integer: true }),
         taken_at: date(v, 'taken_at'),
-      }) as never,
-    check: (db, row: store.ResponseRow) => (store.itemExists(db, row.item_id) ? null : { column: 'item_id', reason: `unknown item "${row.item_id}" (import items first)` }),
+      }),
+    check: (db, row) => (store.itemExists(db, row.item_id) ? null : { column: 'item_id', reason: `unknown item "${row.item_id}" (import items first)` }),
     store: (db, rows) => store.upsertResponses(db, rows),
-  } as TableSpec<store.ResponseRow> as never,
-  abilities: {
+  }),
+  abilities: spec<store.AbilityRow>({
     required: ['person_id', 'skill_id', 'theta', 'se', 'assessed_at'],
     row: (v) =>
       ({
@@ -55,21 +60,21 @@ const SPECS: { [K in TableKind]: TableSpec<never> } = {
         theta: number(v, 'theta', { min: -10, max: 10 }),
         se: number(v, 'se', { min: 0.0001, max: 10 }),
         assessed_at: date(v, 'assessed_at'),
-      }) as never,
+      }),
     store: (db, rows) => store.upsertImportedAbilities(db, rows),
-  } as TableSpec<store.AbilityRow> as never,
-  people: {
+  }),
+  people: spec<store.PersonRow>({
     required: ['person_id', 'role'],
     optional: ['team'],
-    row: (v) => ({ person_id: text(v, 'person_id', { max: 200 }), role: text(v, 'role', { max: 200 }), team: text(v, 'team', { required: false, max: 200 }) }) as never,
+    row: (v) => ({ person_id: text(v, 'person_id', { max: 200 }), role: text(v, 'role', { max: 200 }), team: text(v, 'team', { required: false, max: 200 }) }),
     store: (db, rows) => store.upsertPeople(db, rows),
-  } as TableSpec<store.PersonRow> as never,
-  roles: {
+  }),
+  roles: spec<store.RoleRow>({
     required: ['role', 'skill_id', 'required_theta'],
-    row: (v) => ({ role: text(v, 'role', { max: 200 }), skill_id: text(v, 'skill_id', { max: 200 }), required_theta: number(v, 'required_theta', { min: -6, max: 6 }) }) as never,
+    row: (v) => ({ role: text(v, 'role', { max: 200 }), skill_id: text(v, 'skill_id', { max: 200 }), required_theta: number(v, 'required_theta', { min: -6, max: 6 }) }),
     store: (db, rows) => store.upsertRoles(db, rows),
-  } as TableSpec<store.RoleRow> as never,
-  courses: {
+  }),
+  courses: spec<store.CourseRow>({
     required: ['course_id', 'title', 'skills', 'last_reviewed', 'enrollments_12m', 'owner'],
     optional: ['enrollments_prev_12m'],
     row: (v) =>
@@ -81,9 +86,9 @@ const SPECS: { [K in TableKind]: TableSpec<never> } = {
         enrollments_12m: number(v, 'enrollments_12m', { required: false, min: 0, integer: true }),
         enrollments_prev_12m: number(v, 'enrollments_prev_12m', { required: false, min: 0, integer: true }),
         owner: text(v, 'owner', { required: false, max: 200 }),
-      }) as never,
+      }),
     store: (db, rows) => store.upsertCourses(db, rows),
-  } as TableSpec<store.CourseRow> as never,
+  }),
 }
 
 export const TABLE_KINDS = Object.keys(SPECS) as TableKind[]
@@ -115,7 +120,7 @@ export function importTableFile(db: Db, kind: TableKind, file: string, opts: { s
 }
 
 export function importTableText(db: Db, kind: TableKind, content: string, file: string, opts: { skipBad?: boolean } = {}): ImportResult {
-  const spec = SPECS[kind] as TableSpec<unknown>
+  const spec = SPECS[kind]
   if (content.includes('\uFFFD')) {
     const line = content.slice(0, content.indexOf('\uFFFD')).split('\n').length
     return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [{ file, line, reason: 'not valid UTF-8 text' }] }
@@ -128,7 +133,7 @@ export function importTableText(db: Db, kind: TableKind, content: string, file: 
     for (const { line, values } of parsed.rows) {
       try {
         const row = spec.row(values)
-        const bad = spec.check?.(db, row as never)
+        const bad = spec.check?.(db, row)
         if (bad) problems.push({ file, line, column: bad.column, reason: bad.reason })
         else good.push(row)
       } catch (err) {
@@ -137,7 +142,7 @@ export function importTableText(db: Db, kind: TableKind, content: string, file: 
       }
     }
     if (problems.length > 0 && !opts.skipBad) return false
-    spec.store(db, good as never[])
+    spec.store(db, good)
     return true
   })
   const stored = run()
