@@ -4,10 +4,11 @@
  * here (one import line and one array entry).
  */
 import type { Stage, StageName } from './stage.ts'
+import { planStage } from './plan/stage.ts'
 
 export const STAGE_ORDER: readonly StageName[] = ['ingest', 'map', 'fit', 'ability', 'plan']
 
-export const STAGES: readonly Stage[] = []
+export const STAGES: readonly Stage[] = [planStage]
 
 export function findStage(name: string): Stage | undefined {
   return STAGES.find((s) => s.name === name)

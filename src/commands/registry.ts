@@ -7,6 +7,7 @@ import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
 import { type ImportResult, TABLE_KINDS, importTableFile, type TableKind } from '../inputs/tables.ts'
 import { listRuns } from '../db/runs.ts'
+import { PLAN_REPORTS } from '../plan/reports.ts'
 
 export interface ImportOptions {
   skipBad: boolean
@@ -66,6 +67,7 @@ export const REPORTS: Record<string, Report> = {
       return { rows, columns: ['id', 'stage', 'source', 'trigger', 'started', 'ended', 'status', 'read', 'new', 'duplicate', 'rejected', 'error'] }
     },
   },
+  ...PLAN_REPORTS,
 }
 
 /** Report names DESIGN.md promises; those not in REPORTS yet answer "not built". */

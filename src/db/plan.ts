@@ -1,0 +1,309 @@
+/**
+ * @module db/plan
+ * SQL of the plan stage: it reads curves, coverage, mentions, documents, courses, people, roles and
+ * abilities, and writes plan_outputs, course_flag_notes and the skill_id resolution of course_skills.
+ */
+import type { Db } from './connection.ts'
+
+/** A row of the curves table as the plan stage reads it. */
+export interface CurveRecord {
+  concept_id: string
+  state: string
+  annual_growth: number | null
+  growth_low: number | null
+  growth_high: number | null
+  half_life_months: number | null
+  half_life_low: number | null
+  half_life_high: number | null
+  p_value: number | null
+  p_adjusted: number | null
+  latest_share: number | null
+  forecast_share12: number | null
+  details_json: string
+  fitted_at: string
+}
+
+export function readCurves(db: Db): CurveRecord[] {
+  return db
+    .prepare(
+      `SELECT concept_id, state, annual_growth, growth_low, growth_high, half_life_months, half_life_low, half_life_high,
+              p_value, p_adjusted, latest_share, forecast_share12, details_json, fitted_at
+       FROM curves ORDER BY concept_id`,
+    )
+    .all() as CurveRecord[]
+}
+
+/** concept id -> prefLabel */
+export function readConceptLabels(db: Db): Map<string, string> {
+  const rows = db.prepare('SELECT id, pref_label FROM concepts').all() as { id: string; pref_label: string }[]
+  return new Map(rows.map((r) => [r.id, r.pref_label]))
+}
+
+export interface LabelRecord {
+  concept_id: string
+  label: string
+  kind: 'pref' | 'alt' | 'hidden'
+  case_sensitive: number
+}
+
+export function readLabels(db: Db): LabelRecord[] {
+  return db.prepare('SELECT concept_id, label, kind, case_sensitive FROM labels ORDER BY concept_id, kind, label').all() as LabelRecord[]
+}
+
+export interface CoverageRecord {
+  skill_id: string
+  role: string
+  required_theta: number
+  headcount: number
+  assessed: number
+  unknown: number
+  expected_meeting: number
+  coverage: number | null
+  expected_gap: number
+  gap_low: number
+  gap_high: number
+}
+
+export function readCoverage(db: Db): CoverageRecord[] {
+  return db
+    .prepare(
+      `SELECT skill_id, role, required_theta, headcount, assessed, unknown, expected_meeting, coverage, expected_gap, gap_low, gap_high
+       FROM coverage ORDER BY skill_id, role`,
+    )
+    .all() as CoverageRecord[]
+}
+
+export interface RoleRequirement {
+  role: string
+  skill_id: string
+  required_theta: number
+}
+
+export function readRoleRequirements(db: Db): RoleRequirement[] {
+  return db.prepare('SELECT role, skill_id, required_theta FROM roles ORDER BY role, skill_id').all() as RoleRequirement[]
+}
+
+export interface PersonRecord {
+  person_id: string
+  role: string
+}
+
+export function readPeople(db: Db): PersonRecord[] {
+  return db.prepare('SELECT person_id, role FROM people ORDER BY person_id').all() as PersonRecord[]
+}
+
+export interface AbilityRecord {
+  person_id: string
+  skill_id: string
+  theta: number
+  se: number
+  assessed_at: string
+}
+
+/**
+ * One ability per person and skill: the latest assessment; on the same date an estimate made here
+ * wins over an imported one.
+ */
+export function readLatestAbilities(db: Db): AbilityRecord[] {
+  return db
+    .prepare(
+      `SELECT person_id, skill_id, theta, se, assessed_at FROM (
+         SELECT person_id, skill_id, theta, se, assessed_at,
+                ROW_NUMBER() OVER (PARTITION BY person_id, skill_id
+                                   ORDER BY assessed_at DESC, CASE origin WHEN 'estimate' THEN 0 ELSE 1 END) AS pick
+         FROM abilities)
+       WHERE pick = 1 ORDER BY person_id, skill_id`,
+    )
+    .all() as AbilityRecord[]
+}
+
+/** A distinct (not duplicate) document with the concepts it mentions directly (not by roll-up). */
+export interface DocumentConcepts {
+  id: number
+  month: string
+  title: string
+  occupation: string | null
+  concepts: string[]
+}
+
+/**
+ * Distinct documents of a kind with their directly mentioned concepts, oldest first.
+ * @param sinceMonth first month to include ('YYYY-MM'), or null for all
+ */
+export function readDocumentConcepts(db: Db, kind: 'posting' | 'request', sinceMonth: string | null = null): DocumentConcepts[] {
+  const docs = new Map<number, DocumentConcepts>()
+  const rows = db
+    .prepare(
+      `SELECT d.id, d.month, d.title, d.occupation, m.concept_id
+       FROM documents d LEFT JOIN mentions m ON m.document_id = d.id AND m.via <> 'rollup'
+       WHERE d.kind = ? AND d.duplicate_of IS NULL AND (? IS NULL OR d.month >= ?)
+       ORDER BY d.month, d.id, m.concept_id`,
+    )
+    .iterate(kind, sinceMonth, sinceMonth) as IterableIterator<{ id: number; month: string; title: string; occupation: string | null; concept_id: string | null }>
+  for (const r of rows) {
+    let doc = docs.get(r.id)
+    if (!doc) {
+      doc = { id: r.id, month: r.month, title: r.title, occupation: r.occupation, concepts: [] }
+      docs.set(r.id, doc)
+    }
+    if (r.concept_id !== null) doc.concepts.push(r.concept_id)
+  }
+  return [...docs.values()]
+}
+
+/** The latest month with a distinct document of this kind, or null. */
+export function latestDocumentMonth(db: Db, kind: 'posting' | 'request'): string | null {
+  const row = db.prepare('SELECT MAX(month) AS m FROM documents WHERE kind = ? AND duplicate_of IS NULL').get(kind) as { m: string | null }
+  return row.m
+}
+
+/** Distinct documents of a kind per month. */
+export function documentTotalsByMonth(db: Db, kind: 'posting' | 'request'): Map<string, number> {
+  const rows = db
+    .prepare('SELECT month, COUNT(*) AS n FROM documents WHERE kind = ? AND duplicate_of IS NULL GROUP BY month')
+    .all(kind) as { month: string; n: number }[]
+  return new Map(rows.map((r) => [r.month, r.n]))
+}
+
+/** Distinct documents of a kind mentioning each concept (directly or by roll-up), per month. */
+export function mentionCountsByMonth(db: Db, kind: 'posting' | 'request'): { concept_id: string; month: string; n: number }[] {
+  return db
+    .prepare(
+      `SELECT m.concept_id, d.month, COUNT(DISTINCT d.id) AS n
+       FROM mentions m JOIN documents d ON d.id = m.document_id
+       WHERE d.kind = ? AND d.duplicate_of IS NULL
+       GROUP BY m.concept_id, d.month`,
+    )
+    .all(kind) as { concept_id: string; month: string; n: number }[]
+}
+
+export interface CourseRecord {
+  course_id: string
+  title: string
+  last_reviewed: string | null
+  enrollments_12m: number | null
+  enrollments_prev_12m: number | null
+  owner: string
+}
+
+export function readCourses(db: Db): CourseRecord[] {
+  return db
+    .prepare('SELECT course_id, title, last_reviewed, enrollments_12m, enrollments_prev_12m, owner FROM courses ORDER BY course_id')
+    .all() as CourseRecord[]
+}
+
+export function courseExists(db: Db, courseId: string): boolean {
+  return db.prepare('SELECT 1 FROM courses WHERE course_id = ?').get(courseId) !== undefined
+}
+
+export interface CourseSkillRecord {
+  course_id: string
+  skill_ref: string
+  skill_id: string | null
+  inferred: number
+}
+
+export function readCourseSkills(db: Db): CourseSkillRecord[] {
+  return db.prepare('SELECT course_id, skill_ref, skill_id, inferred FROM course_skills ORDER BY course_id, skill_ref').all() as CourseSkillRecord[]
+}
+
+/** Records which concept a course's skill reference resolved to (null when unknown). */
+export function setCourseSkillId(db: Db, courseId: string, skillRef: string, skillId: string | null): void {
+  db.prepare('UPDATE course_skills SET skill_id = ? WHERE course_id = ? AND skill_ref = ?').run(skillId, courseId, skillRef)
+}
+
+/** Adds a skill mapped from the title of an untagged course (inferred = 1). */
+export function upsertInferredCourseSkill(db: Db, courseId: string, skillRef: string, skillId: string): void {
+  db.prepare(
+    `INSERT INTO course_skills(course_id, skill_ref, skill_id, inferred) VALUES (?, ?, ?, 1)
+     ON CONFLICT(course_id, skill_ref) DO UPDATE SET skill_id = excluded.skill_id WHERE course_skills.inferred = 1`,
+  ).run(courseId, skillRef, skillId)
+}
+
+/** Removes title-inferred skills of a course that no longer maps to them. */
+export function deleteInferredCourseSkills(db: Db, courseId: string, keepRefs: readonly string[]): void {
+  const rows = db.prepare('SELECT skill_ref FROM course_skills WHERE course_id = ? AND inferred = 1').all(courseId) as { skill_ref: string }[]
+  const del = db.prepare('DELETE FROM course_skills WHERE course_id = ? AND skill_ref = ? AND inferred = 1')
+  for (const r of rows) if (!keepRefs.includes(r.skill_ref)) del.run(courseId, r.skill_ref)
+}
+
+/** A row of plan_outputs with its payload parsed. */
+export interface PlanOutput<P = Record<string, unknown>> {
+  kind: string
+  key: string
+  rank: number | null
+  score: number | null
+  payload: P
+  updated_at: string
+}
+
+export interface PlanOutputInput {
+  kind: string
+  key: string
+  rank: number | null
+  score: number | null
+  payload: unknown
+}
+
+/** Replaces every row of the given kinds with `rows` (call inside the stage's transaction). */
+export function replacePlanOutputs(db: Db, kinds: readonly string[], rows: readonly PlanOutputInput[], updatedAt: string): void {
+  const del = db.prepare('DELETE FROM plan_outputs WHERE kind = ?')
+  for (const k of kinds) del.run(k)
+  const ins = db.prepare('INSERT INTO plan_outputs(kind, key, rank, score, payload_json, updated_at) VALUES (?, ?, ?, ?, ?, ?)')
+  for (const r of rows) ins.run(r.kind, r.key, r.rank, r.score, JSON.stringify(r.payload), updatedAt)
+}
+
+/** Rows of one kind, by rank (unranked last) then key. */
+export function readPlanOutputs<P = Record<string, unknown>>(db: Db, kind: string): PlanOutput<P>[] {
+  const rows = db
+    .prepare('SELECT kind, key, rank, score, payload_json, updated_at FROM plan_outputs WHERE kind = ? ORDER BY rank IS NULL, rank, key')
+    .all(kind) as { kind: string; key: string; rank: number | null; score: number | null; payload_json: string; updated_at: string }[]
+  return rows.map((r) => ({ kind: r.kind, key: r.key, rank: r.rank, score: r.score, payload: JSON.parse(r.payload_json) as P, updated_at: r.updated_at }))
+}
+
+export interface FlagNoteInput {
+  course_id: string
+  action: 'flagged' | 'snooze' | 'unsnooze'
+  flag: string | null
+  note: string
+  actor: string
+  until: string | null
+}
+
+export interface FlagNoteRecord extends FlagNoteInput {
+  id: number
+  at: string
+}
+
+export function insertFlagNote(db: Db, note: FlagNoteInput, at: string = new Date().toISOString()): number {
+  return Number(
+    db
+      .prepare('INSERT INTO course_flag_notes(course_id, action, flag, note, actor, until, at) VALUES (?, ?, ?, ?, ?, ?, ?)')
+      .run(note.course_id, note.action, note.flag, note.note, note.actor, note.until, at).lastInsertRowid,
+  )
+}
+
+/** The audit trail of one course (or all courses), oldest first. */
+export function readFlagNotes(db: Db, courseId?: string): FlagNoteRecord[] {
+  if (courseId !== undefined) {
+    return db.prepare('SELECT * FROM course_flag_notes WHERE course_id = ? ORDER BY id').all(courseId) as FlagNoteRecord[]
+  }
+  return db.prepare('SELECT * FROM course_flag_notes ORDER BY id').all() as FlagNoteRecord[]
+}
+
+/** The latest snooze or unsnooze note of each course. */
+export function latestSnoozeNotes(db: Db): Map<string, FlagNoteRecord> {
+  const rows = db
+    .prepare(
+      `SELECT n.* FROM course_flag_notes n
+       JOIN (SELECT course_id, MAX(id) AS id FROM course_flag_notes WHERE action IN ('snooze','unsnooze') GROUP BY course_id) m ON m.id = n.id`,
+    )
+    .all() as FlagNoteRecord[]
+  return new Map(rows.map((r) => [r.course_id, r]))
+}
+
+/** Headcount per role from the people table. */
+export function roleHeadcounts(db: Db): Map<string, number> {
+  const rows = db.prepare('SELECT role, COUNT(*) AS n FROM people GROUP BY role').all() as { role: string; n: number }[]
+  return new Map(rows.map((r) => [r.role, r.n]))
+}

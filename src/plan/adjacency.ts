@@ -1,0 +1,125 @@
+/**
+ * @module plan/adjacency
+ * Skill adjacency from co-occurrence in postings: positive pointwise mutual information (PPMI) or the
+ * cosine of co-occurrence vectors, each with a minimum support (postings mentioning both skills).
+ *
+ * Pointwise mutual information of skills a and b over N documents:
+ *   PMI(a, b) = log2( P(a, b) / (P(a)·P(b)) ) = log2( n_ab·N / (n_a·n_b) )
+ * with n_a the documents mentioning a and n_ab those mentioning both. PPMI = max(0, PMI): a pair seen
+ * together no more often than chance has no adjacency. PMI overrates rare pairs, hence the minimum
+ * support n_ab ≥ minSupport.
+ * Reference: https://en.wikipedia.org/wiki/Pointwise_mutual_information ; Church & Hanks (1990),
+ * "Word association norms, mutual information, and lexicography", https://aclanthology.org/J90-1003/
+ *
+ * Cosine of co-occurrence vectors: v_a[c] = n_ac for every skill c ≠ a;
+ *   cos(a, b) = Σ_c v_a[c]·v_b[c] / (|v_a|·|v_b|)
+ * Reference: https://en.wikipedia.org/wiki/Cosine_similarity
+ *
+ * Cost: counting is O(Σ_d k_d²) for documents with k_d skills; one PMI is O(1); one cosine is
+ * O(min(deg a, deg b)) over the neighbour lists.
+ *
+ * @example
+ * ```ts
+ * const co = countCoOccurrence([['a', 'b'], ['a', 'b'], ['a'], ['c']])
+ * pmi(co, 'a', 'b') // => log2(2·4/(3·2)) = 0.415
+ * ```
+ */
+
+export interface CoOccurrence {
+  /** documents counted (including those with no skill) */
+  documents: number
+  /** documents mentioning each skill */
+  counts: Map<string, number>
+  /** skill -> other skill -> documents mentioning both (stored in both directions) */
+  pairs: Map<string, Map<string, number>>
+}
+
+/** Counts single and pair document frequencies; a skill repeated in one document counts once. */
+export function countCoOccurrence(documents: Iterable<readonly string[]>): CoOccurrence {
+  const counts = new Map<string, number>()
+  const pairs = new Map<string, Map<string, number>>()
+  let n = 0
+  for (const doc of documents) {
+    n++
+    const skills = [...new Set(doc)].sort()
+    for (const s of skills) counts.set(s, (counts.get(s) ?? 0) + 1)
+    for (let i = 0; i < skills.length; i++) {
+      const a = skills[i]!
+      let row = pairs.get(a)
+      if (!row) pairs.set(a, (row = new Map()))
+      for (let j = 0; j < skills.length; j++) {
+        if (i === j) continue
+        const b = skills[j]!
+        row.set(b, (row.get(b) ?? 0) + 1)
+      }
+    }
+  }
+  return { documents: n, counts, pairs }
+}
+
+/** Documents mentioning both skills. */
+export function support(co: CoOccurrence, a: string, b: string): number {
+  return co.pairs.get(a)?.get(b) ?? 0
+}
+
+/** Pointwise mutual information in bits; null when a pair or a skill is never seen. */
+export function pmi(co: CoOccurrence, a: string, b: string): number | null {
+  const nab = support(co, a, b)
+  const na = co.counts.get(a) ?? 0
+  const nb = co.counts.get(b) ?? 0
+  if (nab === 0 || na === 0 || nb === 0) return null
+  return Math.log2((nab * co.documents) / (na * nb))
+}
+
+/** Positive PMI with a minimum support: 0 below the support or for negative association. */
+export function ppmi(co: CoOccurrence, a: string, b: string, minSupport: number): number {
+  if (a === b || support(co, a, b) < minSupport) return 0
+  const value = pmi(co, a, b)
+  return value === null ? 0 : Math.max(0, value)
+}
+
+/** Cosine of the co-occurrence vectors of a and b, 0 below the minimum support. */
+export function cosine(co: CoOccurrence, a: string, b: string, minSupport: number): number {
+  if (a === b || support(co, a, b) < minSupport) return 0
+  const va = co.pairs.get(a)
+  const vb = co.pairs.get(b)
+  if (!va || !vb) return 0
+  const [small, large] = va.size <= vb.size ? [va, vb] : [vb, va]
+  let dot = 0
+  for (const [c, x] of small) {
+    const y = large.get(c)
+    if (y !== undefined) dot += x * y
+  }
+  let na = 0
+  for (const x of va.values()) na += x * x
+  let nb = 0
+  for (const x of vb.values()) nb += x * x
+  return na > 0 && nb > 0 ? dot / Math.sqrt(na * nb) : 0
+}
+
+export interface Neighbour {
+  id: string
+  score: number
+  support: number
+  pmi: number | null
+}
+
+/**
+ * The skills among `candidates` most adjacent to `skill`, best first (ties by id), at most `topK`,
+ * only those with a positive score.
+ */
+export function nearest(
+  co: CoOccurrence,
+  skill: string,
+  candidates: Iterable<string>,
+  opts: { method: 'ppmi' | 'cosine'; minSupport: number; topK: number },
+): Neighbour[] {
+  const out: Neighbour[] = []
+  for (const c of candidates) {
+    if (c === skill) continue
+    const score = opts.method === 'ppmi' ? ppmi(co, skill, c, opts.minSupport) : cosine(co, skill, c, opts.minSupport)
+    if (score > 0) out.push({ id: c, score, support: support(co, skill, c), pmi: pmi(co, skill, c) })
+  }
+  out.sort((x, y) => y.score - x.score || (x.id < y.id ? -1 : x.id > y.id ? 1 : 0))
+  return out.slice(0, opts.topK)
+}

@@ -1,0 +1,293 @@
+/**
+ * @module plan/compute
+ * Gathers the plan stage's inputs from the database and computes every planning output: needs
+ * ranking (per skill and per role × skill), suggested role requirements, course flags, reskilling
+ * pathways and candidates, and the reskilling forecast. Reads only; stage.ts writes.
+ */
+import type { Config } from '../config.ts'
+import type { Db } from '../db/connection.ts'
+import * as store from '../db/plan.ts'
+import { countCoOccurrence } from './adjacency.ts'
+import { flagCourse, type AdjacentRising, type CourseFlag, type CourseSkillInput } from './course-flags.ts'
+import { buildLabelIndex, mapTitle, resolveSkillRef } from './course-skills.ts'
+import { RISING_STATES, readSkillCurve, type SkillCurve } from './curve-model.ts'
+import { rankNeeds, scoreNeed, type NeedInput, type PullInput, type RankedNeed } from './needs.ts'
+import { buildPathways, findCandidates, type CandidateGroup, type Pathway } from './pathways.ts'
+import { forecastTarget, type ForecastTarget, type QuarterForecast } from './reskilling-forecast.ts'
+import { addMonths, suggestRequirements, type RoleSuggestion } from './role-suggestions.ts'
+
+export interface RoleNeed extends RankedNeed {
+  role: string
+  required: boolean
+}
+
+/** How a course's skill references resolved, to be written back to course_skills. */
+export interface CourseSkillResolution {
+  courseId: string
+  resolved: { ref: string; skillId: string | null }[]
+  /** skills mapped from the title of an untagged course */
+  inferred: { ref: string; skillId: string }[]
+  /** true when the course had no tags, so inferred rows replace any earlier inferred ones */
+  untagged: boolean
+}
+
+export interface PlanResult {
+  baseMonth: string
+  needs: RankedNeed[]
+  roleNeeds: RoleNeed[]
+  suggestions: RoleSuggestion[]
+  courseFlags: CourseFlag[]
+  courseSkills: CourseSkillResolution[]
+  pathways: Pathway[]
+  candidates: CandidateGroup[]
+  forecast: QuarterForecast[]
+  assumptions: Record<string, unknown>
+}
+
+function currentMonth(now: Date): string {
+  return `${now.getUTCFullYear()}-${String(now.getUTCMonth() + 1).padStart(2, '0')}`
+}
+
+function minMonth(a: string | null, b: string | null): string | null {
+  if (a === null || b === null) return null
+  return a < b ? a : b
+}
+
+/** Internal-request shares of each skill in the recent and the earlier window. */
+function pullInputs(db: Db, pullMonths: number): Map<string, PullInput> & { windows: { recentTotal: number; earlierTotal: number } } {
+  const out = new Map<string, PullInput>() as Map<string, PullInput> & { windows: { recentTotal: number; earlierTotal: number } }
+  const latest = store.latestDocumentMonth(db, 'request')
+  out.windows = { recentTotal: 0, earlierTotal: 0 }
+  if (!latest) return out
+  const recentStart = addMonths(latest, -(pullMonths - 1))
+  const earlierStart = addMonths(recentStart, -pullMonths)
+  const inWindow = (m: string): 'recent' | 'earlier' | null => (m >= recentStart && m <= latest ? 'recent' : m >= earlierStart && m < recentStart ? 'earlier' : null)
+  for (const [month, n] of store.documentTotalsByMonth(db, 'request')) {
+    const w = inWindow(month)
+    if (w === 'recent') out.windows.recentTotal += n
+    else if (w === 'earlier') out.windows.earlierTotal += n
+  }
+  for (const r of store.mentionCountsByMonth(db, 'request')) {
+    const w = inWindow(r.month)
+    if (!w) continue
+    let p = out.get(r.concept_id)
+    if (!p) out.set(r.concept_id, (p = { recentMentions: 0, recentTotal: out.windows.recentTotal, earlierMentions: 0, earlierTotal: out.windows.earlierTotal }))
+    if (w === 'recent') p.recentMentions += r.n
+    else p.earlierMentions += r.n
+  }
+  return out
+}
+
+/** Computes every planning output from the current tables. */
+export function computePlan(db: Db, config: Config, now: Date = new Date()): PlanResult {
+  const cfg = config.plan
+  const labels = store.readConceptLabels(db)
+  const label = (id: string) => labels.get(id) ?? id
+  const curves = new Map<string, SkillCurve>(store.readCurves(db).map((r) => [r.concept_id, readSkillCurve(r)]))
+  const coverage = store.readCoverage(db)
+  const requirementRows = store.readRoleRequirements(db)
+  const people = store.readPeople(db)
+  const headByRole = store.roleHeadcounts(db)
+  const totalHeadcount = people.length
+  const abilities = store.readLatestAbilities(db)
+
+  const requirements = new Map<string, Map<string, number>>()
+  for (const r of requirementRows) {
+    let m = requirements.get(r.role)
+    if (!m) requirements.set(r.role, (m = new Map()))
+    m.set(r.skill_id, r.required_theta)
+  }
+  const requirementSets = new Map<string, Set<string>>([...requirements].map(([role, m]) => [role, new Set(m.keys())]))
+  const roles = [...new Set([...requirements.keys(), ...headByRole.keys()])].sort()
+
+  // postings: one read for both the adjacency window and the two suggestion windows
+  const latestPosting = store.latestDocumentMonth(db, 'posting')
+  const baseMonth = latestPosting ?? currentMonth(now)
+  const adjacencyStart = cfg.adjacency.months > 0 && latestPosting ? addMonths(latestPosting, -(cfg.adjacency.months - 1)) : null
+  const suggestionStart = latestPosting ? addMonths(latestPosting, -(2 * cfg.suggestions.recentMonths - 1)) : null
+  const postings = store.readDocumentConcepts(db, 'posting', minMonth(adjacencyStart, suggestionStart))
+
+  const suggestions = suggestRequirements({ roles, requirements: requirementSets, postings, latestMonth: latestPosting, curves, labels }, cfg)
+  const suggestedBySkill = new Map<string, RoleSuggestion[]>()
+  for (const s of suggestions) {
+    const list = suggestedBySkill.get(s.skillId)
+    if (list) list.push(s)
+    else suggestedBySkill.set(s.skillId, [s])
+  }
+
+  // needs per skill
+  const pulls = pullInputs(db, cfg.needs.pullMonths)
+  const hasRequests = pulls.windows.recentTotal > 0 && pulls.windows.earlierTotal > 0
+  const pullFor = (id: string): PullInput | null =>
+    hasRequests ? (pulls.get(id) ?? { recentMentions: 0, recentTotal: pulls.windows.recentTotal, earlierMentions: 0, earlierTotal: pulls.windows.earlierTotal }) : null
+  const coverageBySkill = new Map<string, store.CoverageRecord[]>()
+  for (const c of coverage) {
+    const list = coverageBySkill.get(c.skill_id)
+    if (list) list.push(c)
+    else coverageBySkill.set(c.skill_id, [c])
+  }
+  const rolesRequiring = new Map<string, string[]>()
+  for (const r of requirementRows) {
+    const list = rolesRequiring.get(r.skill_id)
+    if (list) list.push(r.role)
+    else rolesRequiring.set(r.skill_id, [r.role])
+  }
+  const skills = new Set<string>([...curves.keys(), ...coverageBySkill.keys(), ...rolesRequiring.keys(), ...suggestedBySkill.keys()])
+  const head = (role: string) => headByRole.get(role) ?? 0
+  const needs = rankNeeds(
+    [...skills].map((id) => {
+      const input: NeedInput = {
+        id,
+        label: label(id),
+        curve: curves.get(id) ?? null,
+        coverage: coverageBySkill.get(id) ?? [],
+        requiredHeadcount: (rolesRequiring.get(id) ?? []).reduce((s, r) => s + head(r), 0),
+        futureHeadcount: (suggestedBySkill.get(id) ?? []).reduce((s, r) => s + head(r.role), 0),
+        totalHeadcount,
+        pull: pullFor(id),
+      }
+      return scoreNeed(input, cfg)
+    }),
+  )
+
+  // needs per role × skill: every requirement and every suggestion
+  const roleNeedInputs: { role: string; required: boolean; input: NeedInput }[] = []
+  for (const r of requirementRows) {
+    roleNeedInputs.push({
+      role: r.role,
+      required: true,
+      input: {
+        id: r.skill_id,
+        label: label(r.skill_id),
+        curve: curves.get(r.skill_id) ?? null,
+        coverage: (coverageBySkill.get(r.skill_id) ?? []).filter((c) => c.role === r.role),
+        requiredHeadcount: head(r.role),
+        futureHeadcount: 0,
+        totalHeadcount,
+        pull: pullFor(r.skill_id),
+      },
+    })
+  }
+  for (const s of suggestions) {
+    roleNeedInputs.push({
+      role: s.role,
+      required: false,
+      input: { id: s.skillId, label: s.label, curve: curves.get(s.skillId) ?? null, coverage: [], requiredHeadcount: 0, futureHeadcount: head(s.role), totalHeadcount, pull: pullFor(s.skillId) },
+    })
+  }
+  const roleNeeds: RoleNeed[] = []
+  for (const role of roles) {
+    const mine = roleNeedInputs.filter((x) => x.role === role)
+    const ranked = rankNeeds(mine.map((x) => scoreNeed(x.input, cfg)))
+    for (const r of ranked) roleNeeds.push({ ...r, role, required: mine.find((x) => x.input.id === r.id)!.required })
+  }
+
+  // adjacency and pathways
+  const adjacencyDocs = adjacencyStart ? postings.filter((d) => d.month >= adjacencyStart) : postings
+  const co = countCoOccurrence(adjacencyDocs.map((d) => d.concepts))
+  const pathways = buildPathways(co, curves, labels, cfg.adjacency)
+  const candidates = findCandidates({ people, abilities, requirements, pathways }, cfg.reskilling, true)
+
+  // courses
+  const index = buildLabelIndex(labels.keys(), store.readLabels(db))
+  const courseSkillRows = store.readCourseSkills(db)
+  const adjacent = new Map<string, AdjacentRising[]>(pathways.map((p) => [p.skillId, p.targets.map((t) => ({ id: t.id, label: t.label, score: t.score, support: t.support }))]))
+  const courseFlags: CourseFlag[] = []
+  const courseSkills: CourseSkillResolution[] = []
+  for (const course of store.readCourses(db)) {
+    const tagged = courseSkillRows.filter((r) => r.course_id === course.course_id && r.inferred === 0)
+    const resolution: CourseSkillResolution = { courseId: course.course_id, resolved: [], inferred: [], untagged: tagged.length === 0 }
+    const inputs: CourseSkillInput[] = []
+    const unresolved: string[] = []
+    if (tagged.length) {
+      for (const t of tagged) {
+        const hit = resolveSkillRef(index, t.skill_ref)
+        resolution.resolved.push({ ref: t.skill_ref, skillId: hit?.id ?? null })
+        if (!hit) unresolved.push(t.skill_ref)
+        else if (!inputs.some((i) => i.id === hit.id)) inputs.push({ ref: t.skill_ref, id: hit.id, label: label(hit.id), inferred: false, curve: curves.get(hit.id) ?? null })
+      }
+    } else {
+      for (const m of mapTitle(index, course.title)) {
+        resolution.inferred.push({ ref: m.label, skillId: m.id })
+        inputs.push({ ref: m.label, id: m.id, label: label(m.id), inferred: true, curve: curves.get(m.id) ?? null })
+      }
+    }
+    courseSkills.push(resolution)
+    courseFlags.push(flagCourse(course, inputs, unresolved, adjacent, cfg.courses))
+  }
+
+  // reskilling forecast for rising skills that roles require or are going to require
+  const thetaOf = new Map<string, number>(abilities.map((a) => [`${a.person_id}\u0000${a.skill_id}`, a.theta]))
+  const peopleByRole = new Map<string, string[]>()
+  for (const p of people) {
+    const list = peopleByRole.get(p.role)
+    if (list) list.push(p.person_id)
+    else peopleByRole.set(p.role, [p.person_id])
+  }
+  const candidatesFor = new Map<string, number>()
+  for (const g of candidates) for (const t of g.targets) candidatesFor.set(t.id, (candidatesFor.get(t.id) ?? 0) + t.lacking)
+  const forecast: QuarterForecast[] = []
+  const targets = [...curves.values()].filter((c) => c.evidenced && RISING_STATES.includes(c.state)).sort((a, b) => (a.id < b.id ? -1 : 1))
+  for (const curve of targets) {
+    const t: ForecastTarget = { id: curve.id, label: label(curve.id), curve, headcount: 0, needNow: 0, expectedMeeting: 0, assessed: 0, unknown: 0, candidatesAvailable: candidatesFor.get(curve.id) ?? 0 }
+    for (const role of rolesRequiring.get(curve.id) ?? []) {
+      // the coverage row's own headcount when the ability stage has counted it, else the people table
+      const cov = (coverageBySkill.get(curve.id) ?? []).find((c) => c.role === role)
+      const h = cov ? cov.headcount : head(role)
+      t.headcount += h
+      t.needNow += h
+      if (cov) {
+        t.expectedMeeting += cov.expected_meeting
+        t.assessed += cov.assessed
+        t.unknown += cov.unknown
+      } else t.unknown += h
+    }
+    for (const s of suggestedBySkill.get(curve.id) ?? []) {
+      const members = peopleByRole.get(s.role) ?? []
+      t.headcount += members.length
+      t.needNow += s.recentShare * members.length
+      for (const person of members) {
+        const theta = thetaOf.get(`${person}\u0000${curve.id}`)
+        if (theta === undefined) t.unknown++
+        else {
+          t.assessed++
+          if (theta >= cfg.reskilling.strongTheta) t.expectedMeeting++
+        }
+      }
+    }
+    if (t.headcount === 0) continue
+    forecast.push(
+      ...forecastTarget(t, baseMonth, {
+        horizonQuarters: cfg.horizonQuarters,
+        attritionRate: cfg.attritionRate,
+        hiringRate: cfg.hiringRate,
+        seed: cfg.seed,
+        reskilling: cfg.reskilling,
+        shareFloor: cfg.needs.shareFloor,
+      }),
+    )
+  }
+
+  return {
+    baseMonth,
+    needs,
+    roleNeeds,
+    suggestions,
+    courseFlags,
+    courseSkills,
+    pathways,
+    candidates,
+    forecast,
+    assumptions: {
+      weights: cfg.weights,
+      needs: cfg.needs,
+      horizonQuarters: cfg.horizonQuarters,
+      attritionRate: cfg.attritionRate,
+      hiringRate: cfg.hiringRate,
+      reskilling: cfg.reskilling,
+      adjacency: { ...cfg.adjacency, postings: co.documents },
+      seed: cfg.seed,
+      courseSkillMapping: 'tags resolved by concept id or label; untagged courses mapped from their titles by whole-word label matching (inferred)',
+    },
+  }
+}

@@ -1,0 +1,140 @@
+/**
+ * @module plan/role-suggestions
+ * Role requirements not yet written down: skills that postings for a role's occupation increasingly
+ * ask for and that the role's requirements lack.
+ *
+ * Postings are matched to a role by `plan.roleOccupations` (role -> keywords or occupationalCategory
+ * codes; default: the role's own name): a keyword matches an occupation exactly or occurs as whole
+ * words in the title or occupation, case-insensitive. For each skill the role does not require, the
+ * share of the role's postings asking for it in the recent window (p1 = n1/N1) is compared with the
+ * window of the same length just before (p0 = n0/N0) by a one-sided two-proportion z-test:
+ *   z = (p1 − p0)/√(p̂(1 − p̂)(1/N1 + 1/N0)), p̂ = (n1 + n0)/(N1 + N0), p-value = 1 − Φ(z).
+ * Reference: https://en.wikipedia.org/wiki/Two-proportion_Z-test
+ * A skill is suggested when N1 ≥ minPostings, p1 ≥ minShare, p1 > p0, and either the increase is
+ * significant (p-value < alpha) or the skill's own demand curve is emerging or rising.
+ */
+import { normalSurvival } from '../stats/normal-distribution.ts'
+import type { DocumentConcepts } from '../db/plan.ts'
+import type { PlanConfig } from './config.ts'
+import { RISING_STATES, type SkillCurve } from './curve-model.ts'
+
+export interface RoleSuggestion {
+  role: string
+  skillId: string
+  label: string
+  recentPostings: number
+  recentMentions: number
+  recentShare: number
+  earlierPostings: number
+  earlierMentions: number
+  earlierShare: number | null
+  pValue: number | null
+  state: string | null
+  reason: string
+}
+
+/** 'YYYY-MM' shifted by `delta` months. */
+export function addMonths(month: string, delta: number): string {
+  const m = /^(\d{4})-(\d{2})$/.exec(month)
+  if (!m) throw new Error(`addMonths requires a YYYY-MM month, got "${month}"`)
+  const index = Number(m[1]) * 12 + Number(m[2]) - 1 + delta
+  const year = Math.floor(index / 12)
+  return `${String(year).padStart(4, '0')}-${String(index - year * 12 + 1).padStart(2, '0')}`
+}
+
+function escapeRegExp(s: string): string {
+  return s.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')
+}
+
+/** A predicate telling whether a posting belongs to the occupation of a role. */
+export function roleMatcher(keywords: readonly string[]): (doc: Pick<DocumentConcepts, 'title' | 'occupation'>) => boolean {
+  const words = keywords.map((k) => k.trim()).filter(Boolean)
+  const exact = new Set(words.map((k) => k.toLowerCase()))
+  const res = words.map((k) => new RegExp(`(?<![\\p{L}\\p{N}])${escapeRegExp(k)}(?![\\p{L}\\p{N}])`, 'iu'))
+  return (doc) => {
+    const occ = doc.occupation?.trim() ?? ''
+    if (occ && exact.has(occ.toLowerCase())) return true
+    return res.some((re) => re.test(doc.title) || (occ !== '' && re.test(occ)))
+  }
+}
+
+/** One-sided p-value of p1 > p0 (null when the pooled share is 0 or 1). */
+export function twoProportionP(n1: number, total1: number, n0: number, total0: number): number | null {
+  if (total1 <= 0 || total0 <= 0) return null
+  const pooled = (n1 + n0) / (total1 + total0)
+  if (pooled <= 0 || pooled >= 1) return null
+  const z = (n1 / total1 - n0 / total0) / Math.sqrt(pooled * (1 - pooled) * (1 / total1 + 1 / total0))
+  return normalSurvival(z)
+}
+
+export interface SuggestionInput {
+  roles: readonly string[]
+  requirements: ReadonlyMap<string, ReadonlySet<string>>
+  postings: readonly DocumentConcepts[]
+  /** the latest posting month; the recent window ends there */
+  latestMonth: string | null
+  curves: ReadonlyMap<string, SkillCurve>
+  labels: ReadonlyMap<string, string>
+}
+
+/** Suggested requirements for every role, strongest increase first within a role. */
+export function suggestRequirements(input: SuggestionInput, cfg: Pick<PlanConfig, 'roleOccupations' | 'suggestions'>): RoleSuggestion[] {
+  if (!input.latestMonth) return []
+  const s = cfg.suggestions
+  const recentStart = addMonths(input.latestMonth, -(s.recentMonths - 1))
+  const earlierStart = addMonths(recentStart, -s.recentMonths)
+  const out: RoleSuggestion[] = []
+  for (const role of input.roles) {
+    const matches = roleMatcher(cfg.roleOccupations[role] ?? [role])
+    const required = input.requirements.get(role) ?? new Set<string>()
+    let recentTotal = 0
+    let earlierTotal = 0
+    const recent = new Map<string, number>()
+    const earlier = new Map<string, number>()
+    for (const doc of input.postings) {
+      if (doc.month < earlierStart || doc.month > input.latestMonth || !matches(doc)) continue
+      const isRecent = doc.month >= recentStart
+      if (isRecent) recentTotal++
+      else earlierTotal++
+      const counts = isRecent ? recent : earlier
+      for (const c of new Set(doc.concepts)) counts.set(c, (counts.get(c) ?? 0) + 1)
+    }
+    if (recentTotal < s.minPostings) continue
+    const found: RoleSuggestion[] = []
+    for (const [skill, n1] of recent) {
+      if (required.has(skill)) continue
+      const p1 = n1 / recentTotal
+      const n0 = earlier.get(skill) ?? 0
+      const p0 = earlierTotal > 0 ? n0 / earlierTotal : null
+      if (p1 < s.minShare || (p0 !== null && p1 <= p0)) continue
+      const pValue = twoProportionP(n1, recentTotal, n0, earlierTotal)
+      const curve = input.curves.get(skill)
+      const risingCurve = curve !== undefined && curve.evidenced && RISING_STATES.includes(curve.state)
+      const significant = pValue !== null && pValue < s.alpha
+      if (!significant && !risingCurve) continue
+      const pct = (x: number) => `${(100 * x).toFixed(0)}%`
+      const reason = [
+        `${pct(p1)} of the last ${s.recentMonths} months' ${recentTotal} postings for this role ask for it`,
+        p0 === null ? 'no earlier postings to compare' : `against ${pct(p0)} of ${earlierTotal} the ${s.recentMonths} months before`,
+        significant ? `a significant increase (one-sided p ${pValue! < 0.001 ? '< 0.001' : pValue!.toFixed(3)})` : `its demand is ${curve!.state} across all postings`,
+      ].join('; ')
+      found.push({
+        role,
+        skillId: skill,
+        label: input.labels.get(skill) ?? skill,
+        recentPostings: recentTotal,
+        recentMentions: n1,
+        recentShare: p1,
+        earlierPostings: earlierTotal,
+        earlierMentions: n0,
+        earlierShare: p0,
+        pValue,
+        state: curve?.state ?? null,
+        reason,
+      })
+    }
+    found.sort((a, b) => b.recentShare - (b.earlierShare ?? 0) - (a.recentShare - (a.earlierShare ?? 0)) || (a.skillId < b.skillId ? -1 : 1))
+    out.push(...found)
+  }
+  return out
+}
