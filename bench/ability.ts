@@ -26,7 +26,7 @@ const rng = mulberry32(20240601)
   const items = Array.from({ length: 30 }, () => makeItem('2pl', { a: 0.7 + 1.3 * rng(), b: normalDraw(rng) }))
   const thetas = Float64Array.from({ length: 100_000 }, () => normalDraw(rng))
   const matrix = simulateResponses(thetas, items, rng)
-  let theta = new Float64Array(0)
+  let theta: Float64Array = new Float64Array(0)
   const eapSeconds = seconds(() => {
     theta = eapBatch(items, matrix).theta
   })

@@ -35,6 +35,7 @@ export type CalibrationModel = 'rasch' | '2pl'
 
 export type ItemCalibrationStatus =
   | 'converged'
+  | 'fixed'
   | 'not-converged'
   | 'out-of-range'
   | 'all-correct'
@@ -60,6 +61,12 @@ export interface CalibrationOptions {
   maxAbsB?: number
   /** compute standard errors and fit (default true) */
   diagnostics?: boolean
+  /**
+   * Anchor items: parameters known (e.g. imported), one entry per item, null for items to estimate.
+   * Anchors take part in the E-step with their parameters fixed and so set the metric; with anchors
+   * the latent distribution is still taken as N(0, 1) (2PL) or N(0, σ²) (Rasch).
+   */
+  fixed?: ReadonlyArray<ItemParams | null>
 }
 
 export interface CalibratedItem {
@@ -125,6 +132,8 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
   const x = grid.nodes
   const K = x.length
   const J = matrix.nItems
+  const fixed = options.fixed
+  if (fixed && fixed.length !== J) throw new RangeError(`fixed has ${fixed.length} entries for ${J} items`)
 
   // ---- item screening
   const nResp = new Int32Array(J)
@@ -134,14 +143,23 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
     nCorrect[matrix.item[e]] += matrix.response[e]
   }
   const status: ItemCalibrationStatus[] = new Array(J)
+  // active: in the E-step; free: estimated in the M-step (active and not an anchor)
   const active = new Uint8Array(J)
+  const free = new Uint8Array(J)
   for (let j = 0; j < J; j++) {
+    const anchor = fixed?.[j]
+    if (anchor) {
+      status[j] = 'fixed'
+      active[j] = nResp[j] > 0 ? 1 : 0
+      continue
+    }
     if (nResp[j] < minResponses) status[j] = 'too-few-responses'
     else if (nCorrect[j] === nResp[j]) status[j] = 'all-correct'
     else if (nCorrect[j] === 0) status[j] = 'all-wrong'
     else {
       status[j] = 'converged'
       active[j] = 1
+      free[j] = 1
     }
   }
 
@@ -153,7 +171,20 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
     const p = (nCorrect[j] + 0.5) / (nResp[j] + 1)
     alpha[j] = D
     beta[j] = Math.log(p / (1 - p)) * Math.sqrt(1 + (D / 1.702) ** 2)
+    const anchor = fixed?.[j]
+    if (anchor) {
+      // z = D·a·(θ − b); for Rasch the slope on the standard scale is (Dσ)·a = commonAlpha·a
+      alpha[j] = D * anchor.a
+      beta[j] = -D * anchor.a * anchor.b
+    }
   }
+  /** slope on the standard-normal node scale */
+  const slopeOf = (j: number): number => {
+    const anchor = fixed?.[j]
+    if (model === 'rasch') return anchor ? commonAlpha * anchor.a : commonAlpha
+    return alpha[j]
+  }
+  const guessOf = (j: number): number => fixed?.[j]?.c ?? 0
 
   const reported = (): Float64Array => {
     // reported parameters for the convergence test: (a, b) per item, then σ
@@ -177,12 +208,20 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
   const buildTables = () => {
     for (let j = 0; j < J; j++) {
       if (!active[j]) continue
-      const slope = model === 'rasch' ? commonAlpha : alpha[j]
+      const slope = slopeOf(j)
+      const c = guessOf(j)
       for (let k = 0; k < K; k++) {
         const z = slope * x[k] + beta[j]
-        logP[j * K + k] = -softplus(-z)
-        logQ[j * K + k] = -softplus(z)
-        prob[j * K + k] = logistic(z)
+        if (c > 0) {
+          const P = c + (1 - c) * logistic(z)
+          logP[j * K + k] = Math.log(P)
+          logQ[j * K + k] = Math.log(1 - c) - softplus(z)
+          prob[j * K + k] = P
+        } else {
+          logP[j * K + k] = -softplus(-z)
+          logQ[j * K + k] = -softplus(z)
+          prob[j * K + k] = logistic(z)
+        }
       }
     }
   }
@@ -277,7 +316,7 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
   const mStepRasch = () => {
     for (let pass = 0; pass < 3; pass++) {
       for (let j = 0; j < J; j++) {
-        if (!active[j]) continue
+        if (!free[j]) continue
         const offset = j * K
         let b = beta[j]
         for (let iteration = 0; iteration < 25; iteration++) {
@@ -300,12 +339,14 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
         let g = 0
         let h = 0
         for (let j = 0; j < J; j++) {
-          if (!active[j]) continue
+          // anchors with a lower asymptote are left out of the slope update (their score differs)
+          if (!active[j] || guessOf(j) > 0) continue
           const offset = j * K
+          const scale = fixed?.[j]?.a ?? 1
           for (let k = 0; k < K; k++) {
-            const P = logistic(commonAlpha * x[k] + beta[j])
-            g += (r[offset + k] - n[offset + k] * P) * x[k]
-            h += n[offset + k] * P * (1 - P) * x[k] * x[k]
+            const P = logistic(commonAlpha * scale * x[k] + beta[j])
+            g += (r[offset + k] - n[offset + k] * P) * x[k] * scale
+            h += n[offset + k] * P * (1 - P) * x[k] * x[k] * scale * scale
           }
         }
         if (!(h > 0)) break
@@ -322,18 +363,18 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
   let lastChange = new Float64Array(2 * J + 1)
   let converged = false
   let cycles = 0
-  const anyActive = active.some((flag) => flag === 1)
+  const anyActive = free.some((flag) => flag === 1)
   while (anyActive && cycles < maxCycles) {
     cycles++
     buildTables()
     history.push(eStep())
     if (model === 'rasch') mStepRasch()
-    else for (let j = 0; j < J; j++) if (active[j]) mStep2pl(j)
+    else for (let j = 0; j < J; j++) if (free[j]) mStep2pl(j)
     const current = reported()
     let maxChange = 0
     for (let i = 0; i < current.length; i++) {
       const item = i < 2 * J ? i >> 1 : -1
-      if (item >= 0 && !active[item]) continue
+      if (item >= 0 && !free[item]) continue
       lastChange[i] = Math.abs(current[i] - previous[i])
       if (lastChange[i] > maxChange) maxChange = lastChange[i]
     }
@@ -352,7 +393,13 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
   const params: Array<ItemParams | null> = new Array(J).fill(null)
   const notes: Array<string | null> = new Array(J).fill(null)
   for (let j = 0; j < J; j++) {
-    if (!active[j]) {
+    const anchor = fixed?.[j]
+    if (anchor) {
+      params[j] = { ...anchor }
+      notes[j] = nResp[j] > 0 ? 'anchor: parameters held fixed' : 'anchor without responses'
+      continue
+    }
+    if (!free[j]) {
       notes[j] =
         status[j] === 'too-few-responses'
           ? `only ${nResp[j]} responses (minimum ${minResponses})`
@@ -384,7 +431,8 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
     const computed = standardErrors()
     if (computed) ({ seA, seB, populationSdSe } = computed)
     const scored = params.map((item) => item ?? { a: 1, b: 0, c: 0 })
-    const activeMatrix = onlyActive(matrix, active)
+    const usable = active.map((flag, j) => (flag && params[j] ? 1 : 0))
+    const activeMatrix = onlyActive(matrix, usable)
     // person measures for fit: finite MLEs; people with extreme scores carry no fit information and
     // are left out, as in Rasch practice (EAP measures would bias the mean squares towards overfit)
     const thetas = estimateAbilities(scored, activeMatrix, { method: 'mle', D }).map((estimate) =>
@@ -399,8 +447,8 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
       index: j,
       status: status[j],
       params: params[j],
-      se: active[j] && seB ? { a: seA ? seA[j] : null, b: seB[j] } : null,
-      fit: active[j] && fits ? fits[j] : null,
+      se: free[j] && seB ? { a: seA ? seA[j] : null, b: seB[j] } : null,
+      fit: active[j] && params[j] && fits ? fits[j] : null,
       nResponses: nResp[j],
       proportionCorrect: nResp[j] > 0 ? nCorrect[j] / nResp[j] : Number.NaN,
       note: notes[j],
@@ -412,7 +460,7 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
   function standardErrors(): { seA: Float64Array | null; seB: Float64Array; populationSdSe: number | null } | null {
     const index = new Int32Array(J).fill(-1)
     let m = 0
-    for (let j = 0; j < J; j++) if (active[j]) index[j] = m++
+    for (let j = 0; j < J; j++) if (free[j]) index[j] = m++
     const perItem = model === '2pl' ? 2 : 1
     const slopeIndex = model === 'rasch' && estimateSd ? m * perItem : -1
     const dim = m * perItem + (slopeIndex >= 0 ? 1 : 0)
@@ -434,6 +482,10 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
           const residual = post[k] * (u - prob[j * K + k])
           s1 += residual
           sx += residual * x[k]
+        }
+        if (!free[j]) {
+          if (model === 'rasch' && guessOf(j) === 0) slopeScore += sx * (fixed?.[j]?.a ?? 1)
+          continue
         }
         const at = index[j] * perItem
         if (model === '2pl') {
@@ -458,7 +510,7 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
     const outA = model === '2pl' ? new Float64Array(J).fill(Number.NaN) : null
     const outB = new Float64Array(J).fill(Number.NaN)
     for (let j = 0; j < J; j++) {
-      if (!active[j]) continue
+      if (!free[j]) continue
       const at = index[j] * perItem
       if (model === '2pl') {
         const va = cov[at * dim + at]

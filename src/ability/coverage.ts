@@ -6,13 +6,16 @@
  * is p = Φ((θ̂ − θreq)/SE). For a group (a role, or all roles requiring a skill):
  *
  * - coverage = mean of p over assessed people (null when nobody is assessed);
- * - expected meeting = headcount × coverage and expected gap = headcount × (1 − coverage): the
- *   never-assessed are assumed to resemble the assessed for the point figure, and counted apart;
- * - gap interval: the number of assessed people truly meeting the requirement is a sum of
- *   independent Bernoulli(p_i), i.e. Poisson-binomial; take its central `level` interval [m₋, m₊]
- *   (exact up to 2,000 people, normal beyond) and let each never-assessed person be anything from
- *   0 to 1 (no information). Then meeting ∈ [m₋, m₊ + unknown] and gap ∈ [headcount − m₊ − unknown,
- *   headcount − m₋]. The interval is conservative: it holds whatever the never-assessed can do.
+ * - among the assessed: expected meeting Σp and expected gap assessed − Σp;
+ * - over the whole headcount (the figures the issue asks for): expected meeting = headcount ×
+ *   coverage and expected gap = headcount × (1 − coverage), i.e. the never-assessed are assumed to
+ *   resemble the assessed for the point figure, while being counted apart as `unknown`;
+ * - intervals: the number of assessed people truly meeting the requirement is a sum of independent
+ *   Bernoulli(p_i), i.e. Poisson-binomial; take its central `level` interval [m₋, m₊] (exact up to
+ *   2,000 people, normal beyond). Among the assessed the gap lies in [assessed − m₊, assessed − m₋].
+ *   Over the headcount each never-assessed person may be anything from 0 to 1 (no information), so
+ *   meeting ∈ [m₋, m₊ + unknown] and gap ∈ [assessed − m₊, assessed − m₋ + unknown]: conservative,
+ *   it holds whatever the never-assessed can do, and contains the headcount point figure.
  *
  * With SE = 0 the probability is a step (θ̂ ≥ θreq). Reference for p: the normal approximation to the
  * sampling distribution of an IRT estimate (Baker 2001, ch. 5, https://eric.ed.gov/?id=ED458219).
@@ -39,13 +42,17 @@ export interface CoverageSummary {
   coverage: number | null
   /** Σ p over assessed people */
   expectedMeetingAssessed: number
+  /** assessed − Σ p */
+  expectedGapAssessed: number
+  /** [assessed − m₊, assessed − m₋] */
+  gapIntervalAssessed: [number, number]
   /** headcount × coverage; null when nobody is assessed */
   expectedMeeting: number | null
   /** headcount × (1 − coverage); null when nobody is assessed */
   expectedGap: number | null
-  /** [low, high] number of people meeting the requirement (see module notes) */
+  /** [m₋, m₊ + unknown] people meeting the requirement */
   meetingInterval: [number, number]
-  /** [low, high] gap, always defined (with nobody assessed it is [0, headcount]) */
+  /** [assessed − m₊, assessed − m₋ + unknown], always defined (nobody assessed: [0, headcount]) */
   gapInterval: [number, number]
   level: number
 }
@@ -98,10 +105,12 @@ export function summariseCoverage(rows: readonly PersonRequirement[], level = 0.
     stale,
     coverage,
     expectedMeetingAssessed: sum,
+    expectedGapAssessed: assessed - sum,
+    gapIntervalAssessed: [assessed - high, assessed - low],
     expectedMeeting: coverage === null ? null : headcount * coverage,
     expectedGap: coverage === null ? null : headcount * (1 - coverage),
     meetingInterval,
-    gapInterval: [headcount - meetingInterval[1], headcount - meetingInterval[0]],
+    gapInterval: [assessed - high, assessed - low + unknown],
     level,
   }
 }

@@ -73,6 +73,8 @@ describe('SE-aware coverage', () => {
     // 95% interval is [1, 1]; the two unknowns widen the meeting interval to [1, 3]
     expect(s.meetingInterval).toEqual([1, 1 + 2])
     expect(s.gapInterval).toEqual([1, 3])
+    expect(s.expectedGapAssessed).toBeCloseTo(1, 12)
+    expect(s.gapIntervalAssessed).toEqual([1, 1])
     expect(s.gapInterval[0]).toBeLessThanOrEqual(s.expectedGap!)
     expect(s.gapInterval[1]).toBeGreaterThanOrEqual(s.expectedGap!)
   })
@@ -83,6 +85,7 @@ describe('SE-aware coverage', () => {
     ])
     expect(s).toMatchObject({ headcount: 2, assessed: 0, unknown: 2, coverage: null, expectedGap: null, expectedMeeting: null })
     expect(s.gapInterval).toEqual([0, 2])
+    expect(s).toMatchObject({ expectedMeetingAssessed: 0, expectedGapAssessed: 0, gapIntervalAssessed: [0, 0] })
   })
   it('the gap interval holds in simulation when abilities are measured with the stated error', () => {
     // simulate true θ, report θ̂ = θ + SE·z; the true gap should fall in the interval at least 95% of the time
