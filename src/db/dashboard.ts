@@ -1,0 +1,504 @@
+/**
+ * @module db/dashboard
+ * Read-only queries behind the dashboard and its JSON/CSV API. Nothing here writes: changes go through
+ * the owning stage's functions (taxonomy decisions, course snoozes). Statements are prepared once per
+ * database handle and reused, so a page costs a handful of indexed lookups.
+ */
+import type { Statement } from 'better-sqlite3'
+import type { Db } from './connection.ts'
+
+const CACHE = new WeakMap<Db, Map<string, Statement>>()
+
+/** A prepared statement, cached per database handle. */
+function stmt(db: Db, sql: string): Statement {
+  let map = CACHE.get(db)
+  if (!map) CACHE.set(db, (map = new Map()))
+  let st = map.get(sql)
+  if (!st) map.set(sql, (st = db.prepare(sql)))
+  return st
+}
+
+// ---------------------------------------------------------------- overview
+
+export const OVERVIEW_SORTS = ['rank', 'label', 'state', 'growth', 'halflife', 'share', 'coverage', 'score'] as const
+export type OverviewSort = (typeof OVERVIEW_SORTS)[number]
+
+/** Lifecycle states in display order; states the curves stage adds later sort after these. */
+export const STATE_ORDER = ['emerging', 'rising', 'steady', 'declining', 'fading'] as const
+
+const STATE_RANK = `CASE cu.state ${STATE_ORDER.map((s, i) => `WHEN '${s}' THEN ${i}`).join(' ')} ELSE ${STATE_ORDER.length} END`
+
+/**
+ * Coverage of a skill across roles (or in one role): expected people meeting the requirement over
+ * people assessed. Groups with fewer assessed people than the minimum group size sort as unknown, so
+ * the order of the table does not reveal a suppressed value.
+ */
+function coverageExpr(minGroup: number, byRole: boolean): string {
+  const min = Math.max(1, Math.floor(minGroup))
+  return `(SELECT CASE WHEN SUM(v.assessed) >= ${min} AND SUM(v.headcount) >= ${min} THEN SUM(v.expected_meeting) / SUM(v.assessed) END
+    FROM coverage v WHERE v.skill_id = c.id${byRole ? ' AND v.role = ?' : ''})`
+}
+
+const SORT_SQL: Record<Exclude<OverviewSort, 'coverage'>, string> = {
+  rank: 'n.rank',
+  label: 'c.pref_label COLLATE NOCASE',
+  state: STATE_RANK,
+  growth: 'cu.annual_growth',
+  halflife: 'cu.half_life_months',
+  share: 'cu.latest_share',
+  score: 'n.score',
+}
+
+export interface OverviewQuery {
+  sort: OverviewSort
+  dir: 'asc' | 'desc'
+  role?: string
+  team?: string
+  type?: string
+  state?: string
+  search?: string
+  limit: number
+  offset: number
+  /** smallest group whose coverage may be shown (config.ability.minGroupSize) */
+  minGroup: number
+}
+
+export interface OverviewDbRow {
+  id: string
+  label: string
+  type: string
+  state: string | null
+  annual_growth: number | null
+  growth_low: number | null
+  growth_high: number | null
+  half_life_months: number | null
+  half_life_low: number | null
+  half_life_high: number | null
+  p_adjusted: number | null
+  latest_share: number | null
+  forecast_share12: number | null
+  change_month: string | null
+  rank: number | null
+  score: number | null
+  payload_json: string | null
+}
+
+function overviewWhere(q: OverviewQuery): { sql: string; params: unknown[] } {
+  const parts: string[] = []
+  const params: unknown[] = []
+  if (q.role) {
+    parts.push('c.id IN (SELECT skill_id FROM roles WHERE role = ?)')
+    params.push(q.role)
+  }
+  if (q.team) {
+    parts.push('c.id IN (SELECT r.skill_id FROM roles r WHERE r.role IN (SELECT DISTINCT p.role FROM people p WHERE p.team = ?))')
+    params.push(q.team)
+  }
+  if (q.type) {
+    parts.push('c.type = ?')
+    params.push(q.type)
+  }
+  if (q.state === 'none') parts.push('cu.state IS NULL')
+  else if (q.state) {
+    parts.push('cu.state = ?')
+    params.push(q.state)
+  }
+  if (q.search) {
+    parts.push("(c.pref_label LIKE ? ESCAPE '\\' OR c.id LIKE ? ESCAPE '\\')")
+    const like = `%${q.search.replace(/[\\%_]/g, (m) => `\\${m}`)}%`
+    params.push(like, like)
+  }
+  return { sql: parts.length ? `WHERE ${parts.join(' AND ')}` : '', params }
+}
+
+const OVERVIEW_FROM = `FROM concepts c
+  LEFT JOIN curves cu ON cu.concept_id = c.id
+  LEFT JOIN plan_outputs n ON n.kind = 'needs' AND n.key = c.id`
+
+/**
+ * One page of the skills table, with the number of rows matching the filters.
+ * Rows without a value in the sort column come last in either direction.
+ */
+export function overviewRows(db: Db, q: OverviewQuery): { total: number; rows: OverviewDbRow[] } {
+  const where = overviewWhere(q)
+  const total = (stmt(db, `SELECT COUNT(*) AS n ${OVERVIEW_FROM} ${where.sql}`).get(...where.params) as { n: number }).n
+  const byRole = q.sort === 'coverage' && Boolean(q.role)
+  const expr = q.sort === 'coverage' ? coverageExpr(q.minGroup, byRole) : SORT_SQL[q.sort]
+  const sortParams = byRole ? [q.role, q.role] : []
+  const dir = q.dir === 'desc' ? 'DESC' : 'ASC'
+  const rows = stmt(
+    db,
+    `SELECT c.id, c.pref_label AS label, c.type, cu.state, cu.annual_growth, cu.growth_low, cu.growth_high,
+       cu.half_life_months, cu.half_life_low, cu.half_life_high, cu.p_adjusted, cu.latest_share, cu.forecast_share12,
+       cu.change_month, n.rank, n.score, n.payload_json
+     ${OVERVIEW_FROM} ${where.sql}
+     ORDER BY (${expr}) IS NULL, ${expr} ${dir}, n.rank IS NULL, n.rank, c.id
+     LIMIT ? OFFSET ?`,
+  ).all(...where.params, ...sortParams, q.limit, q.offset) as OverviewDbRow[]
+  return { total, rows }
+}
+
+/** Number of skills per lifecycle state; skills without a fitted curve are counted as `null`. */
+export function stateCounts(db: Db): { state: string | null; count: number }[] {
+  return stmt(
+    db,
+    `SELECT cu.state AS state, COUNT(*) AS count FROM concepts c LEFT JOIN curves cu ON cu.concept_id = c.id GROUP BY cu.state ORDER BY count DESC`,
+  ).all() as { state: string | null; count: number }[]
+}
+
+/** Values offered in the overview's filters. */
+export function filterChoices(db: Db): { roles: string[]; teams: string[]; types: string[]; states: string[] } {
+  const col = (sql: string) => (stmt(db, sql).pluck().all() as string[]).filter((v) => v !== '')
+  return {
+    roles: col('SELECT DISTINCT role FROM roles ORDER BY role'),
+    teams: col('SELECT DISTINCT team FROM people ORDER BY team'),
+    types: col('SELECT DISTINCT type FROM concepts ORDER BY type'),
+    states: col('SELECT DISTINCT state FROM curves ORDER BY state'),
+  }
+}
+
+export interface DemandPoint {
+  concept_id: string
+  series: 'external' | 'internal'
+  month: string
+  n: number
+  total: number
+}
+
+/** Monthly demand rows of the given skills (one series or both), in month order. */
+export function demandFor(db: Db, ids: readonly string[], series?: 'external' | 'internal'): DemandPoint[] {
+  if (ids.length === 0) return []
+  const out: DemandPoint[] = []
+  // chunks keep the statement count small and the parameter list under SQLite's limit
+  for (let i = 0; i < ids.length; i += 100) {
+    const chunk = ids.slice(i, i + 100)
+    const marks = chunk.map(() => '?').join(',')
+    const filter = series ? 'AND series = ?' : ''
+    const params: unknown[] = series ? [...chunk, series] : [...chunk]
+    out.push(
+      ...(stmt(db, `SELECT concept_id, series, month, n, total FROM demand WHERE concept_id IN (${marks}) ${filter} ORDER BY concept_id, series, month`).all(
+        ...params,
+      ) as DemandPoint[]),
+    )
+  }
+  return out
+}
+
+export interface CoverageRow {
+  skill_id: string
+  role: string
+  required_theta: number
+  headcount: number
+  assessed: number
+  unknown: number
+  stale: number
+  expected_meeting: number
+  coverage: number | null
+  expected_gap: number
+  gap_low: number
+  gap_high: number
+  updated_at: string
+}
+
+/** Coverage rows of the given skills (all roles), or of one role when `role` is given. */
+export function coverageFor(db: Db, ids: readonly string[], role?: string): CoverageRow[] {
+  if (ids.length === 0) return []
+  const out: CoverageRow[] = []
+  for (let i = 0; i < ids.length; i += 100) {
+    const chunk = ids.slice(i, i + 100)
+    const marks = chunk.map(() => '?').join(',')
+    const sql = `SELECT * FROM coverage WHERE skill_id IN (${marks}) ${role ? 'AND role = ?' : ''} ORDER BY skill_id, role`
+    out.push(...(stmt(db, sql).all(...chunk, ...(role ? [role] : [])) as CoverageRow[]))
+  }
+  return out
+}
+
+// ---------------------------------------------------------------- one skill
+
+export interface ConceptRow {
+  id: string
+  pref_label: string
+  type: string
+  origin: string
+}
+
+export function conceptById(db: Db, id: string): ConceptRow | undefined {
+  return stmt(db, 'SELECT id, pref_label, type, origin FROM concepts WHERE id = ?').get(id) as ConceptRow | undefined
+}
+
+export function conceptLabels(db: Db, id: string): { label: string; kind: string }[] {
+  return stmt(db, "SELECT label, kind FROM labels WHERE concept_id = ? AND kind != 'pref' ORDER BY kind, label").all(id) as { label: string; kind: string }[]
+}
+
+export function broaderOf(db: Db, id: string): { id: string; label: string }[] {
+  return stmt(
+    db,
+    'SELECT b.id, b.pref_label AS label FROM concept_broader cb JOIN concepts b ON b.id = cb.broader_id WHERE cb.concept_id = ? ORDER BY b.pref_label',
+  ).all(id) as { id: string; label: string }[]
+}
+
+export interface CurveRow {
+  concept_id: string
+  state: string
+  annual_growth: number | null
+  growth_low: number | null
+  growth_high: number | null
+  half_life_months: number | null
+  half_life_low: number | null
+  half_life_high: number | null
+  p_value: number | null
+  p_adjusted: number | null
+  latest_share: number | null
+  forecast_share12: number | null
+  forecast_method: string | null
+  change_month: string | null
+  emerged_month: string | null
+  details_json: string
+  fitted_at: string
+}
+
+export function curveFor(db: Db, id: string): CurveRow | undefined {
+  return stmt(db, 'SELECT * FROM curves WHERE concept_id = ?').get(id) as CurveRow | undefined
+}
+
+/** Labels and states of the given skills (for links to neighbours). */
+export function conceptSummaries(db: Db, ids: readonly string[]): Map<string, { label: string; state: string | null }> {
+  const out = new Map<string, { label: string; state: string | null }>()
+  for (let i = 0; i < ids.length; i += 100) {
+    const chunk = ids.slice(i, i + 100)
+    const marks = chunk.map(() => '?').join(',')
+    const rows = stmt(db, `SELECT c.id, c.pref_label AS label, cu.state FROM concepts c LEFT JOIN curves cu ON cu.concept_id = c.id WHERE c.id IN (${marks})`).all(
+      ...chunk,
+    ) as { id: string; label: string; state: string | null }[]
+    for (const r of rows) out.set(r.id, { label: r.label, state: r.state })
+  }
+  return out
+}
+
+/**
+ * Skills mentioned in the same recent postings as this one: how many of this skill's postings also
+ * mention the other. Counts only originals (not reposts) among the skill's latest `window` postings,
+ * so the cost stays bounded for very common skills.
+ */
+export function coMentioned(db: Db, id: string, limit = 10, window = 2000): { id: string; label: string; state: string | null; together: number; base: number }[] {
+  const base = (
+    stmt(
+      db,
+      `SELECT COUNT(*) AS n FROM (SELECT d.id FROM mentions m JOIN documents d ON d.id = m.document_id
+        WHERE m.concept_id = ? AND d.kind = 'posting' AND d.duplicate_of IS NULL ORDER BY d.posted_at DESC LIMIT ?)`,
+    ).get(id, window) as { n: number }
+  ).n
+  if (base === 0) return []
+  const rows = stmt(
+    db,
+    `WITH mine AS (SELECT d.id FROM mentions m JOIN documents d ON d.id = m.document_id
+        WHERE m.concept_id = ? AND d.kind = 'posting' AND d.duplicate_of IS NULL ORDER BY d.posted_at DESC LIMIT ?)
+     SELECT o.concept_id AS id, c.pref_label AS label, cu.state, COUNT(*) AS together
+     FROM mine JOIN mentions o ON o.document_id = mine.id AND o.concept_id != ?
+     JOIN concepts c ON c.id = o.concept_id LEFT JOIN curves cu ON cu.concept_id = o.concept_id
+     GROUP BY o.concept_id ORDER BY together DESC, o.concept_id LIMIT ?`,
+  ).all(id, window, id, limit) as { id: string; label: string; state: string | null; together: number }[]
+  return rows.map((r) => ({ ...r, base }))
+}
+
+export interface PostingRow {
+  id: number
+  title: string
+  body: string
+  posted_at: string
+  organisation: string | null
+  location: string | null
+  source_id: string
+}
+
+/** The latest original postings that mention the skill. */
+export function examplePostings(db: Db, id: string, limit = 5): PostingRow[] {
+  return stmt(
+    db,
+    `SELECT d.id, d.title, substr(d.body, 1, 600) AS body, d.posted_at, d.organisation, d.location, d.source_id
+     FROM mentions m JOIN documents d ON d.id = m.document_id
+     WHERE m.concept_id = ? AND d.kind = 'posting' AND d.duplicate_of IS NULL
+     ORDER BY d.posted_at DESC, d.id DESC LIMIT ?`,
+  ).all(id, limit) as PostingRow[]
+}
+
+export interface CourseRowDb {
+  course_id: string
+  title: string
+  owner: string
+  last_reviewed: string | null
+  enrollments_12m: number | null
+  enrollments_prev_12m: number | null
+}
+
+/** Courses tied to the skill (by resolved id), with whether the tie was inferred from the title. */
+export function coursesForSkill(db: Db, id: string): (CourseRowDb & { inferred: number })[] {
+  return stmt(
+    db,
+    `SELECT c.course_id, c.title, c.owner, c.last_reviewed, c.enrollments_12m, c.enrollments_prev_12m, MAX(cs.inferred) AS inferred
+     FROM course_skills cs JOIN courses c ON c.course_id = cs.course_id WHERE cs.skill_id = ?
+     GROUP BY c.course_id ORDER BY c.title`,
+  ).all(id) as (CourseRowDb & { inferred: number })[]
+}
+
+// ---------------------------------------------------------------- plan outputs and courses
+
+export interface PlanOutputRow {
+  kind: string
+  key: string
+  rank: number | null
+  score: number | null
+  payload_json: string
+  updated_at: string
+}
+
+/** Plan outputs of one kind, ranked first, then by key. */
+export function planOutputs(db: Db, kind: string, limit = 1000, offset = 0): PlanOutputRow[] {
+  return stmt(db, 'SELECT * FROM plan_outputs WHERE kind = ? ORDER BY rank IS NULL, rank, key LIMIT ? OFFSET ?').all(kind, limit, offset) as PlanOutputRow[]
+}
+
+export function planOutput(db: Db, kind: string, key: string): PlanOutputRow | undefined {
+  return stmt(db, 'SELECT * FROM plan_outputs WHERE kind = ? AND key = ?').get(kind, key) as PlanOutputRow | undefined
+}
+
+/** The kinds of plan output present, with counts. */
+export function planKinds(db: Db): { kind: string; count: number; updated_at: string }[] {
+  return stmt(db, 'SELECT kind, COUNT(*) AS count, MAX(updated_at) AS updated_at FROM plan_outputs GROUP BY kind ORDER BY kind').all() as {
+    kind: string
+    count: number
+    updated_at: string
+  }[]
+}
+
+export function allCourses(db: Db): (CourseRowDb & { skills: string | null })[] {
+  return stmt(
+    db,
+    `SELECT c.course_id, c.title, c.owner, c.last_reviewed, c.enrollments_12m, c.enrollments_prev_12m,
+       (SELECT group_concat(COALESCE(cs.skill_id, cs.skill_ref), '|') FROM course_skills cs WHERE cs.course_id = c.course_id) AS skills
+     FROM courses c ORDER BY c.owner, c.title`,
+  ).all() as (CourseRowDb & { skills: string | null })[]
+}
+
+export function courseById(db: Db, id: string): CourseRowDb | undefined {
+  return stmt(db, 'SELECT course_id, title, owner, last_reviewed, enrollments_12m, enrollments_prev_12m FROM courses WHERE course_id = ?').get(id) as
+    | CourseRowDb
+    | undefined
+}
+
+export interface FlagNoteRow {
+  id: number
+  course_id: string
+  action: string
+  flag: string | null
+  note: string
+  actor: string
+  until: string | null
+  at: string
+}
+
+/** Notes on course flags (snoozes and others), newest first. */
+export function flagNotes(db: Db, courseId?: string, limit = 500): FlagNoteRow[] {
+  if (courseId) return stmt(db, 'SELECT * FROM course_flag_notes WHERE course_id = ? ORDER BY id DESC LIMIT ?').all(courseId, limit) as FlagNoteRow[]
+  return stmt(db, 'SELECT * FROM course_flag_notes ORDER BY id DESC LIMIT ?').all(limit) as FlagNoteRow[]
+}
+
+// ---------------------------------------------------------------- taxonomy review
+
+export interface CandidateRow {
+  term: string
+  score: number
+  recent_df: number
+  earlier_df: number
+  trend_json: string
+  examples_json: string
+  status: 'open' | 'accepted' | 'dismissed'
+  decision_json: string | null
+  updated_at: string
+}
+
+export function candidates(db: Db, status?: string, limit = 500): CandidateRow[] {
+  if (status) return stmt(db, 'SELECT * FROM candidate_terms WHERE status = ? ORDER BY score DESC, term LIMIT ?').all(status, limit) as CandidateRow[]
+  return stmt(db, "SELECT * FROM candidate_terms ORDER BY status = 'open' DESC, score DESC, term LIMIT ?").all(limit) as CandidateRow[]
+}
+
+export function candidateByTerm(db: Db, term: string): CandidateRow | undefined {
+  return stmt(db, 'SELECT * FROM candidate_terms WHERE term = ?').get(term) as CandidateRow | undefined
+}
+
+export function candidateCounts(db: Db): Record<string, number> {
+  const rows = stmt(db, 'SELECT status, COUNT(*) AS n FROM candidate_terms GROUP BY status').all() as { status: string; n: number }[]
+  return Object.fromEntries(rows.map((r) => [r.status, r.n]))
+}
+
+/** Concepts for the "altLabel of" choice, by label. */
+export function conceptChoices(db: Db, limit = 5000): { id: string; label: string }[] {
+  return stmt(db, 'SELECT id, pref_label AS label FROM concepts ORDER BY pref_label COLLATE NOCASE LIMIT ?').all(limit) as { id: string; label: string }[]
+}
+
+// ---------------------------------------------------------------- sources, runs and events
+
+export interface SourceRow {
+  id: string
+  kind: string
+  location: string
+  schedule: string | null
+  documents: number
+}
+
+export function sourcesWithCounts(db: Db): SourceRow[] {
+  return stmt(
+    db,
+    `SELECT s.id, s.kind, s.location, s.schedule, (SELECT COUNT(*) FROM documents d WHERE d.source_id = s.id) AS documents FROM sources s ORDER BY s.id`,
+  ).all() as SourceRow[]
+}
+
+/** Failed or partial runs per source (and stage) over the latest `window` runs of each. */
+export function runFailures(db: Db): { stage: string; source_id: string | null; failed: number; runs: number }[] {
+  return stmt(
+    db,
+    `SELECT stage, source_id, SUM(status IN ('failed','partial')) AS failed, COUNT(*) AS runs FROM job_runs GROUP BY stage, source_id`,
+  ).all() as { stage: string; source_id: string | null; failed: number; runs: number }[]
+}
+
+export interface EventWithDelivery {
+  id: number
+  type: string
+  payload_json: string
+  created_at: string
+  delivered: number
+  pending: number
+  failed: number
+  last_error: string | null
+}
+
+/** The latest events with their webhook delivery counts per status. */
+export function eventsWithDelivery(db: Db, limit = 100): EventWithDelivery[] {
+  return stmt(
+    db,
+    `SELECT e.id, e.type, e.payload_json, e.created_at,
+       COALESCE(SUM(w.status = 'delivered'), 0) AS delivered, COALESCE(SUM(w.status = 'pending'), 0) AS pending,
+       COALESCE(SUM(w.status = 'failed'), 0) AS failed, MAX(w.last_error) AS last_error
+     FROM (SELECT * FROM events ORDER BY id DESC LIMIT ?) e LEFT JOIN webhook_deliveries w ON w.event_id = e.id
+     GROUP BY e.id ORDER BY e.id DESC`,
+  ).all(limit) as EventWithDelivery[]
+}
+
+/** The latest event of a type, if any. */
+export function latestEventOf(db: Db, type: string): { id: number; payload_json: string; created_at: string } | undefined {
+  return stmt(db, 'SELECT id, payload_json, created_at FROM events WHERE type = ? ORDER BY id DESC LIMIT 1').get(type) as
+    | { id: number; payload_json: string; created_at: string }
+    | undefined
+}
+
+/** How far a consumer (e.g. `stage:map`) has handled the outbox. */
+export function consumerCursor(db: Db, consumer: string): number {
+  const row = stmt(db, 'SELECT last_event_id FROM event_cursors WHERE consumer = ?').get(consumer) as { last_event_id: number } | undefined
+  return row?.last_event_id ?? 0
+}
+
+/** The first run of a stage that started at or after `sinceIso`. */
+export function firstRunSince(db: Db, stage: string, sinceIso: string): { id: number; status: string; started_at: string; ended_at: string | null } | undefined {
+  return stmt(db, 'SELECT id, status, started_at, ended_at FROM job_runs WHERE stage = ? AND started_at >= ? ORDER BY id LIMIT 1').get(stage, sinceIso) as
+    | { id: number; status: string; started_at: string; ended_at: string | null }
+    | undefined
+}

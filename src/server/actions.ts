@@ -1,0 +1,31 @@
+/**
+ * @module server/actions
+ * The writes the dashboard can start. Each one is a function owned by the stage whose tables it
+ * changes (the server never writes those tables itself); this module only wires them in, so tests
+ * can pass fakes and a build without a stage answers "not built" (501) instead of failing.
+ */
+import type { Db } from '../db/connection.ts'
+
+export interface ConceptChoice {
+  /** new concept id; the taxonomy stage derives one from the label when absent */
+  id?: string
+  label?: string
+  type?: 'hard' | 'soft'
+}
+
+export interface Actions {
+  snoozeCourseFlag?: (db: Db, courseId: string, note: string, untilIso: string, actor: string) => unknown
+  acceptAsConcept?: (db: Db, term: string, choice: ConceptChoice, actor: string) => unknown
+  acceptAsAltLabel?: (db: Db, term: string, conceptId: string, actor: string) => unknown
+  dismissCandidate?: (db: Db, term: string, actor: string) => unknown
+}
+
+/** The stages' own functions, as far as this build has them. */
+export function defaultActions(): Actions {
+  return {}
+}
+
+/** Raised by a route when the action it needs is not part of this build. */
+export class NotAvailableError extends Error {
+  override name = 'NotAvailableError'
+}
