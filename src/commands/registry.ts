@@ -7,6 +7,7 @@ import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
 import { type ImportResult, TABLE_KINDS, importTableFile, type TableKind } from '../inputs/tables.ts'
 import { listRuns } from '../db/runs.ts'
+import { coverageReport } from '../ability/report.ts'
 import { PLAN_REPORTS } from '../plan/reports.ts'
 
 export interface ImportOptions {
@@ -46,6 +47,10 @@ export interface Report {
 }
 
 export const REPORTS: Record<string, Report> = {
+  coverage: {
+    description: 'skill coverage of role requirements (SE-aware), per role and per skill; --people for person-level rows',
+    build: (db, config, opts) => coverageReport(db, config, opts),
+  },
   runs: {
     description: 'job runs, newest first: stage, source, status, counts, error',
     build(db, _config, opts) {
