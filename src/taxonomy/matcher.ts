@@ -1,0 +1,452 @@
+/**
+ * @module taxonomy/matcher
+ * Maps text to skill mentions. Built once per taxonomy (and rule set): every label is tokenised
+ * into integer token ids and put into one token trie; labels that admit inflected forms are also
+ * put, as Porter stems, into a second trie. Matching a document scans it once (see tokenizer),
+ * walks the tries at each token, keeps the longest match that passes its label's case and veto
+ * rules, then settles matches that need evidence (a technical neighbour in the same sentence, or
+ * another hard skill within the window). A document counts each concept once (presence), with
+ * its repetitions and spans for display, and broader concepts are rolled up and marked as such.
+ *
+ * Offsets are UTF-16 offsets into the NFKC form of the field (the input itself whenever it is
+ * already NFKC, e.g. plain ASCII).
+ */
+import { F_BREAK, F_LIST, F_SENTENCE, FOLD, foldString } from './chars.ts'
+import { compileMatcher, type CompiledPolicy, type CompileOptions, type MatcherData } from './matcher-build.ts'
+import type { RuleSet } from './rules.ts'
+import { porterStem } from './stem.ts'
+import { TokenBuffer, scanText } from './tokenizer.ts'
+import type { Problem, SkillType, Taxonomy } from './types.ts'
+
+export interface MatchSpan {
+  start: number
+  end: number
+  /** the matched text as it appears (NFKC) */
+  text: string
+  /** the taxonomy label it matched, as written there */
+  label: string
+  field: 'text' | 'skills'
+  /** `stem` when the match used inflected forms */
+  via: 'exact' | 'stem'
+}
+
+export interface ConceptMention {
+  conceptId: string
+  prefLabel: string
+  type: SkillType
+  rollup: false
+  /** how many times the concept was matched in the document (it counts once for demand) */
+  count: number
+  /** offset of the first match in the text field, else in the skills field */
+  firstOffset: number
+  spans: MatchSpan[]
+}
+
+export interface RollupMention {
+  conceptId: string
+  prefLabel: string
+  type: SkillType
+  rollup: true
+  /** the directly mentioned narrower concepts that imply this one */
+  via: string[]
+}
+
+export interface RejectedMatch {
+  conceptId: string
+  label: string
+  start: number
+  end: number
+  text: string
+  field: 'text' | 'skills'
+  reason: 'case' | 'not-next' | 'not-prev' | 'stem-exclude' | 'no evidence'
+}
+
+export interface DocumentMapping {
+  mentions: ConceptMention[]
+  rollups: RollupMention[]
+  /** candidate matches that a rule turned down (only with `explain`) */
+  rejected?: RejectedMatch[]
+}
+
+export interface MapInput {
+  text: string
+  /** a schema.org JobPosting `skills` value: text, DefinedTerm objects, or an array of them */
+  skills?: unknown
+}
+
+const MAX_CANDIDATES = 8
+const NON_ASCII = /[^\x00-\x7f]/
+
+interface FieldState {
+  text: string
+  field: 'text' | 'skills'
+  listMode: boolean
+}
+
+/** Matches per field, in token order. */
+class MatchList {
+  count = 0
+  label: Int32Array = new Int32Array(64)
+  from: Int32Array = new Int32Array(64)
+  to: Int32Array = new Int32Array(64)
+  state: Uint8Array = new Uint8Array(64) // 0 confirmed, 1 pending, 2 rejected
+  viaStem: Uint8Array = new Uint8Array(64)
+
+  push(label: number, from: number, to: number, state: number, viaStem: boolean): void {
+    if (this.count === this.label.length) {
+      const n = this.count * 2
+      const grow32 = (a: Int32Array) => { const b = new Int32Array(n); b.set(a); return b }
+      const grow8 = (a: Uint8Array) => { const b = new Uint8Array(n); b.set(a); return b }
+      this.label = grow32(this.label); this.from = grow32(this.from); this.to = grow32(this.to)
+      this.state = grow8(this.state); this.viaStem = grow8(this.viaStem)
+    }
+    const i = this.count++
+    this.label[i] = label; this.from[i] = from; this.to[i] = to; this.state[i] = state; this.viaStem[i] = viaStem ? 1 : 0
+  }
+}
+
+export class Matcher {
+  readonly taxonomy: Taxonomy
+  /** rule-file problems and build warnings (labels whose stemmed forms collide, ...) */
+  readonly problems: Problem[]
+  private readonly d: MatcherData
+  private readonly buf = new TokenBuffer()
+  private readonly matches = new MatchList()
+  private readonly candLen = new Int32Array(MAX_CANDIDATES * 2)
+  private readonly candLabel = new Int32Array(MAX_CANDIDATES * 2)
+  private readonly candStem = new Uint8Array(MAX_CANDIDATES * 2)
+
+  private constructor(taxonomy: Taxonomy, data: MatcherData) {
+    this.taxonomy = taxonomy
+    this.d = data
+    this.problems = data.problems
+  }
+
+  /**
+   * Builds the matcher for a taxonomy (once; reuse it for every document).
+   * @example
+   * const m = Matcher.build(taxonomy, rules)
+   * m.map({ text: 'Kubernetes and Terraform' }).mentions.map((x) => x.conceptId) // => ['kubernetes', 'terraform']
+   */
+  static build(taxonomy: Taxonomy, rules?: RuleSet, options: CompileOptions = {}): Matcher {
+    return new Matcher(taxonomy, compileMatcher(taxonomy, rules, options))
+  }
+
+  get labelCount(): number {
+    return this.d.labelConcept.length
+  }
+
+  /** Maps one document: its text and, when present, its schema.org `skills` value. */
+  map(input: MapInput, options: { explain?: boolean } = {}): DocumentMapping {
+    const agg = new Map<number, ConceptMention>()
+    const rejected: RejectedMatch[] | undefined = options.explain ? [] : undefined
+    this.matchField({ text: input.text ?? '', field: 'text', listMode: false }, agg, rejected)
+    if (input.skills !== undefined && input.skills !== null) {
+      const { entries, codes } = skillEntries(input.skills)
+      if (entries.length > 0) this.matchField({ text: entries.join('\n'), field: 'skills', listMode: true }, agg, rejected)
+      for (const code of codes) {
+        const ci = this.d.conceptIndex.get(code)
+        if (ci !== undefined && !agg.has(ci)) agg.set(ci, this.mention(ci, -1))
+      }
+    }
+    return this.finish(agg, rejected)
+  }
+
+  /** Shorthand for `map({ text })`. */
+  mapText(text: string, options: { explain?: boolean } = {}): DocumentMapping {
+    return this.map({ text }, options)
+  }
+
+  /** Token-level match count only (no result objects); used by the benchmark to time the core. */
+  countMatches(text: string): number {
+    const norm = NON_ASCII.test(text) ? text.normalize('NFKC') : text
+    this.scanAndMatch(norm, false, undefined, { text: norm, field: 'text', listMode: false })
+    return this.matches.count
+  }
+
+  private matchField(f: FieldState, agg: Map<number, ConceptMention>, rejected: RejectedMatch[] | undefined): void {
+    const norm = NON_ASCII.test(f.text) ? f.text.normalize('NFKC') : f.text
+    const state: FieldState = { ...f, text: norm }
+    this.scanAndMatch(norm, f.listMode, rejected, state)
+    const m = this.matches
+    const buf = this.buf
+    const d = this.d
+    for (let i = 0; i < m.count; i++) {
+      const label = m.label[i]!
+      const start = buf.start[m.from[i]!]!
+      const end = buf.end[m.to[i]! - 1]!
+      const ci = d.labelConcept[label]!
+      if (m.state[i] !== 0) {
+        rejected?.push({ conceptId: d.concepts[ci]!.id, label: d.labelDisplay[label]!, start, end, text: norm.slice(start, end), field: f.field, reason: 'no evidence' })
+        continue
+      }
+      let mention = agg.get(ci)
+      if (!mention) {
+        mention = this.mention(ci, f.field === 'text' ? start : -1)
+        agg.set(ci, mention)
+      }
+      if (mention.firstOffset < 0) mention.firstOffset = start
+      mention.count++
+      mention.spans.push({ start, end, text: norm.slice(start, end), label: d.labelDisplay[label]!, field: f.field, via: m.viaStem[i] ? 'stem' : 'exact' })
+    }
+  }
+
+  private mention(ci: number, firstOffset: number): ConceptMention {
+    const c = this.d.concepts[ci]!
+    return { conceptId: c.id, prefLabel: c.prefLabel, type: c.type, rollup: false, count: 0, firstOffset, spans: [] }
+  }
+
+  private finish(agg: Map<number, ConceptMention>, rejected: RejectedMatch[] | undefined): DocumentMapping {
+    const mentions = [...agg.values()].sort((a, b) => (a.firstOffset < 0 ? 1e15 : a.firstOffset) - (b.firstOffset < 0 ? 1e15 : b.firstOffset))
+    const rollups = new Map<number, RollupMention>()
+    for (const [ci, mention] of agg) {
+      for (const ai of this.d.ancestors[ci]!) {
+        if (agg.has(ai)) continue
+        let r = rollups.get(ai)
+        if (!r) {
+          const c = this.d.concepts[ai]!
+          r = { conceptId: c.id, prefLabel: c.prefLabel, type: c.type, rollup: true, via: [] }
+          rollups.set(ai, r)
+        }
+        r.via.push(mention.conceptId)
+      }
+    }
+    const out: DocumentMapping = { mentions, rollups: [...rollups.values()] }
+    if (rejected) out.rejected = rejected
+    return out
+  }
+
+  /** Stem id of token k, or -1; unknown tokens are stemmed only when their first letters can lead to a stemmed label. */
+  private stemIdAt(text: string, k: number): number {
+    const d = this.d
+    const id = this.buf.id[k]!
+    if (id >= 0) return d.vocabStem[id]!
+    const s = this.buf.start[k]!
+    const e = this.buf.end[k]!
+    if (e - s < 3) return -1
+    const gate = ((FOLD[text.charCodeAt(s)]! * 31 + FOLD[text.charCodeAt(s + 1)]!) * 31 + FOLD[text.charCodeAt(s + 2)]!) & 0xffff
+    if (d.stemGate[gate] === 0) return -1
+    return d.stemVocab.get(porterStem(foldString(text.slice(s, e))))
+  }
+
+  private scanAndMatch(text: string, listMode: boolean, rejected: RejectedMatch[] | undefined, f: FieldState): void {
+    const d = this.d
+    const buf = this.buf
+    scanText(text, d.vocab, buf)
+    const m = this.matches
+    m.count = 0
+    const n = buf.count
+    const ids = buf.id
+    const flags = buf.flags
+    const exact = d.exact
+    const stem = d.stem
+    const hasStem = d.hasStem
+    const candLen = this.candLen
+    const candLabel = this.candLabel
+    const candStem = this.candStem
+    let i = 0
+    while (i < n) {
+      let nc = 0
+      const id = ids[i]!
+      if (id >= 0) {
+        let node = exact.root[id]!
+        let k = i + 1
+        while (node >= 0) {
+          const t = exact.terminal[node]!
+          if (t >= 0 && nc < MAX_CANDIDATES) { candLen[nc] = k - i; candLabel[nc] = t; candStem[nc] = 0; nc++ }
+          if (k >= n || (flags[k]! & F_BREAK) !== 0) break
+          const nid = ids[k]!
+          node = nid >= 0 ? exact.child(node, nid) : -1
+          k++
+        }
+      }
+      if (hasStem) {
+        const sid = this.stemIdAt(text, i)
+        if (sid >= 0) {
+          let node = stem.root[sid]!
+          let k = i + 1
+          const first = nc
+          while (node >= 0) {
+            const t = stem.terminal[node]!
+            if (t >= 0 && nc < first + MAX_CANDIDATES) { candLen[nc] = k - i; candLabel[nc] = t; candStem[nc] = 1; nc++ }
+            if (k >= n || (flags[k]! & F_BREAK) !== 0) break
+            const ns = this.stemIdAt(text, k)
+            node = ns >= 0 ? stem.child(node, ns) : -1
+            k++
+          }
+        }
+      }
+      if (nc === 0) {
+        i++
+        continue
+      }
+      // longest first; exact before stem at equal length
+      let chosen = -1
+      let firstReason: RejectedMatch['reason'] | undefined
+      let firstLabel = -1
+      let firstLen = 0
+      for (let pass = 0; pass < nc; pass++) {
+        let best = -1
+        for (let c = 0; c < nc; c++) {
+          if (candLen[c]! < 0) continue
+          if (best < 0 || candLen[c]! > candLen[best]! || (candLen[c] === candLen[best] && candStem[c]! < candStem[best]!)) best = c
+        }
+        if (best < 0) break
+        if (!this.separatorsFit(i, candLen[best]!, candLabel[best]!)) {
+          candLen[best] = -1
+          continue
+        }
+        const reason = this.localCheck(text, i, candLen[best]!, candLabel[best]!, candStem[best] === 1, listMode)
+        if (reason === undefined) {
+          chosen = best
+          break
+        }
+        if (firstReason === undefined) { firstReason = reason; firstLabel = candLabel[best]!; firstLen = candLen[best]! }
+        candLen[best] = -1
+      }
+      if (chosen < 0) {
+        if (rejected && firstLabel >= 0) this.reject(rejected, f, i, i + firstLen, firstLabel, firstReason!)
+        i++
+        continue
+      }
+      const len = candLen[chosen]!
+      const label = candLabel[chosen]!
+      const p = d.labelPolicy[label]
+      let state = 0
+      if (p && !listMode && (p.when === 1 || (p.when === 2 && (flags[i]! & F_SENTENCE) !== 0))) state = 1
+      m.push(label, i, i + len, state, candStem[chosen] === 1)
+      i += len
+    }
+    if (!listMode) this.settleEvidence()
+  }
+
+  private reject(rejected: RejectedMatch[], f: FieldState, from: number, to: number, label: number, reason: RejectedMatch['reason']): void {
+    const start = this.buf.start[from]!
+    const end = this.buf.end[to - 1]!
+    const d = this.d
+    rejected.push({ conceptId: d.concepts[d.labelConcept[label]!]!.id, label: d.labelDisplay[label]!, start, end, text: f.text.slice(start, end), field: f.field, reason })
+  }
+
+  /** A comma or list separator inside the matched text must also be in the label ("C#, .NET" is not "C#.NET"). */
+  private separatorsFit(i: number, len: number, label: number): boolean {
+    const flags = this.buf.flags
+    const allowed = this.d.labelLists[label]!
+    for (let k = 1; k < len; k++) {
+      if ((flags[i + k]! & F_LIST) !== 0 && (k >= 31 || (allowed & (1 << k)) === 0)) return false
+    }
+    return true
+  }
+
+  /** Case, veto words and stem exclusions: the checks that need only the match and its neighbours. */
+  private localCheck(text: string, i: number, len: number, label: number, viaStem: boolean, listMode: boolean): RejectedMatch['reason'] | undefined {
+    const p: CompiledPolicy | null = this.d.labelPolicy[label]!
+    if (!p) return undefined
+    const buf = this.buf
+    const j = i + len
+    if (p.notPrev.size > 0 && i > 0 && (buf.flags[i]! & F_BREAK) === 0 && p.notPrev.has(buf.id[i - 1]!)) return 'not-prev'
+    if (p.notNext.size > 0 && j < buf.count && (buf.flags[j]! & F_BREAK) === 0 && p.notNext.has(buf.id[j]!)) return 'not-next'
+    if (viaStem) {
+      if (p.stemExclude.size > 0) {
+        for (let k = i; k < j; k++) if (p.stemExclude.has(foldString(text.slice(buf.start[k]!, buf.end[k]!)))) return 'stem-exclude'
+      }
+      return undefined
+    }
+    if (p.caseMode !== 0 && !listMode && !this.caseMatches(text, i, len, label, p.caseMode)) return 'case'
+    return undefined
+  }
+
+  private caseMatches(text: string, i: number, len: number, label: number, mode: number): boolean {
+    const buf = this.buf
+    for (const variant of this.d.labelWritten[label]!) {
+      if (variant.length !== len) continue
+      let ok = true
+      for (let k = 0; k < len && ok; k++) {
+        const written = variant[k]!
+        const s = buf.start[i + k]!
+        const e = buf.end[i + k]!
+        if (e - s !== written.length) { ok = false; break }
+        const got = text.slice(s, e)
+        ok = got === written || (mode === 2 && got === written.toUpperCase() && /\p{L}/u.test(written))
+      }
+      if (ok) return true
+    }
+    return false
+  }
+
+  /** True when no token in (from, to) starts a sentence. */
+  private sameSentence(from: number, to: number): boolean {
+    const flags = this.buf.flags
+    for (let k = from + 1; k < to; k++) if ((flags[k]! & F_SENTENCE) !== 0) return false
+    return true
+  }
+
+  /** Pending matches become confirmed with evidence (two passes, so that two pending skills in a list can vouch for each other only through a confirmed one). */
+  private settleEvidence(): void {
+    const m = this.matches
+    const d = this.d
+    const buf = this.buf
+    for (let pass = 0; pass < 2; pass++) {
+      for (let a = 0; a < m.count; a++) {
+        if (m.state[a] !== 1) continue
+        const p = d.labelPolicy[m.label[a]!]!
+        const from = m.from[a]!
+        const to = m.to[a]!
+        let ok = false
+        if (p.near) {
+          // backwards to the start of the sentence, forwards to the next one, within the window
+          if ((buf.flags[from]! & F_SENTENCE) === 0) {
+            for (let k = from - 1; k >= 0 && k >= from - p.window; k--) {
+              if (p.nearIds.has(buf.id[k]!)) { ok = true; break }
+              if ((buf.flags[k]! & F_SENTENCE) !== 0) break
+            }
+          }
+          for (let k = to; !ok && k < buf.count && k < to + p.window; k++) {
+            if ((buf.flags[k]! & F_SENTENCE) !== 0) break
+            if (p.nearIds.has(buf.id[k]!)) ok = true
+          }
+        }
+        if (!ok && p.skills) {
+          // a line or clause that is just this skill (a list item), or another hard skill in the same sentence
+          if ((buf.flags[from]! & F_SENTENCE) !== 0 && (to >= buf.count || (buf.flags[to]! & F_SENTENCE) !== 0)) ok = true
+          const ci = d.labelConcept[m.label[a]!]!
+          for (let b = 0; b < m.count && !ok; b++) {
+            if (m.state[b] !== 0 || b === a) continue
+            const cb = d.labelConcept[m.label[b]!]!
+            if (cb === ci || d.conceptHard[cb] !== 1) continue
+            const bFrom = m.from[b]!
+            const bTo = m.to[b]!
+            if (bTo <= from - p.window || bFrom >= to + p.window) continue
+            if (this.sameSentence(Math.min(from, bFrom), Math.max(to, bTo))) ok = true
+          }
+        }
+        if (ok) m.state[a] = 0
+      }
+    }
+    for (let a = 0; a < m.count; a++) if (m.state[a] === 1) m.state[a] = 2
+  }
+}
+
+/**
+ * Flattens a schema.org `skills` value into entries to match and explicit concept codes.
+ * Strings are split on commas, semicolons, pipes and newlines; DefinedTerm-like objects give
+ * their `name` (and `alternateName`) as entries and their `termCode` as a code.
+ */
+export function skillEntries(value: unknown): { entries: string[]; codes: string[] } {
+  const entries: string[] = []
+  const codes: string[] = []
+  const visit = (v: unknown, depth: number): void => {
+    if (depth > 4 || v === null || v === undefined) return
+    if (typeof v === 'string') {
+      for (const part of v.split(/[,;|\n]/)) if (part.trim()) entries.push(part.trim())
+    } else if (Array.isArray(v)) for (const x of v) visit(x, depth + 1)
+    else if (typeof v === 'object') {
+      const o = v as Record<string, unknown>
+      visit(o['name'], depth + 1)
+      visit(o['alternateName'], depth + 1)
+      if (typeof o['termCode'] === 'string') codes.push(o['termCode'])
+    }
+  }
+  visit(value, 0)
+  return { entries, codes }
+}
+
