@@ -92,12 +92,12 @@ export function generateAssessments(seed: number, people: readonly Person[], asO
     for (const it of bank) data.items.push({ item_id: it.id, skill_id: skill, a: it.a, b: it.b, c: null })
     for (const person of people) {
       const required = requirement(person.role, skill) !== null
-      if (!rng.chance(required ? 0.55 : 0.04)) continue
+      if (!rng.chance(required ? 0.5 : 0.04)) continue
       const theta = trueTheta(person, skill)
       data.trueAbilities.push({ person_id: person.id, skill_id: skill, theta: round(theta, 4) })
       // one sitting somewhere in the last 30 months
       const takenAt = isoSeconds(endMs - rng.int(30 * 30) * DAY - rng.int(8 * 3600) * 1000)
-      for (const it of rng.sample(bank, rng.between(12, 18))) {
+      for (const it of rng.sample(bank, rng.between(10, 15))) {
         const p = 1 / (1 + Math.exp(-it.a * (theta - it.b)))
         data.responses.push({ person_id: person.id, item_id: it.id, response: rng.next() < p ? 1 : 0, taken_at: takenAt })
       }
