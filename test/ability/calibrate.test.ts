@@ -83,6 +83,28 @@ describe('parameter recovery by simulation (seeded)', () => {
     expect(rmse('a')).toBeLessThanOrEqual(0.2)
   })
 
+  it('2PL with sparse data (each person answers 15 of 30 items, as in adaptive or rotated forms)', () => {
+    const rng = mulberry32(123)
+    const truth = Array.from({ length: 30 }, () => makeItem('2pl', { a: 0.7 + rng(), b: Math.max(-2, Math.min(2, normalDraw(rng))) }))
+    const persons: number[] = []
+    const itemIndex: number[] = []
+    const responses: number[] = []
+    for (let p = 0; p < 4000; p++) {
+      const theta = normalDraw(rng)
+      const order = truth.map((_, j) => j).sort(() => rng() - 0.5).slice(0, 15)
+      for (const j of order) {
+        persons.push(p)
+        itemIndex.push(j)
+        responses.push(rng() < 1 / (1 + Math.exp(-truth[j].a * (theta - truth[j].b))) ? 1 : 0)
+      }
+    }
+    const result = calibrate(fromTriples(4000, 30, persons, itemIndex, responses), { model: '2pl', diagnostics: false })
+    expect(result.converged).toBe(true)
+    const rmse = (key: 'a' | 'b') => Math.sqrt(result.items.reduce((s, item, j) => s + (item.params![key] - truth[j][key]) ** 2, 0) / truth.length)
+    expect(rmse('b')).toBeLessThanOrEqual(0.15)
+    expect(rmse('a')).toBeLessThanOrEqual(0.2)
+  })
+
   it('Rasch with D = 1.702 and σ = 1.3: recovers b and the latent SD', () => {
     const rng = mulberry32(17)
     const D = 1.702
