@@ -7,6 +7,7 @@ import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
 import { type ImportResult, TABLE_KINDS, importTableFile, type TableKind } from '../inputs/tables.ts'
 import { listRuns } from '../db/runs.ts'
+import { importDocuments } from '../ingest/import.ts'
 import { coverageReport } from '../ability/report.ts'
 import { PLAN_REPORTS } from '../plan/reports.ts'
 
@@ -20,9 +21,11 @@ export type Importer = (db: Db, config: Config, file: string, opts: ImportOption
 export const IMPORT_KINDS = ['postings', 'requests', 'taxonomy', ...TABLE_KINDS] as const
 export type ImportKind = (typeof IMPORT_KINDS)[number]
 
-export const IMPORTERS: Partial<Record<ImportKind, Importer>> = Object.fromEntries(
-  TABLE_KINDS.map((kind: TableKind) => [kind, (db: Db, _c: Config, file: string, opts: ImportOptions) => importTableFile(db, kind, file, opts)]),
-)
+export const IMPORTERS: Partial<Record<ImportKind, Importer>> = {
+  ...Object.fromEntries(TABLE_KINDS.map((kind: TableKind) => [kind, (db: Db, _c: Config, file: string, opts: ImportOptions) => importTableFile(db, kind, file, opts)])),
+  postings: (db, config, file, opts) => importDocuments(db, config, 'postings', file, opts),
+  requests: (db, config, file, opts) => importDocuments(db, config, 'requests', file, opts),
+}
 
 export interface ReportOutput {
   /** rows for --csv and the text table */

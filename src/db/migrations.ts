@@ -52,6 +52,8 @@ CREATE TABLE documents (
   channel TEXT,
   team TEXT,
   skills_json TEXT,
+  -- MinHash signature of the word shingles (uint32 little-endian), postings only
+  signature BLOB,
   ingested_at TEXT NOT NULL DEFAULT (strftime('%Y-%m-%dT%H:%M:%fZ','now')),
   mapped_version INTEGER,
   UNIQUE (source_id, external_id)
@@ -60,13 +62,15 @@ CREATE INDEX documents_hash ON documents(text_hash);
 CREATE INDEX documents_month ON documents(kind, month);
 CREATE INDEX documents_unmapped ON documents(mapped_version);
 
--- MinHash LSH band keys for near-duplicate detection
+-- MinHash LSH band keys for near-duplicate detection: key = band * 2^32 + 32-bit hash of the band's
+-- rows, so one index lookup with key IN (...) finds every candidate. No foreign key: the check would
+-- double the cost of the ten band rows written per posting, and a band row whose document is gone
+-- only yields a candidate that is not found (documents are never deleted by the program).
 CREATE TABLE document_bands (
-  band INTEGER NOT NULL,
   key INTEGER NOT NULL,
-  document_id INTEGER NOT NULL REFERENCES documents(id) ON DELETE CASCADE
-);
-CREATE INDEX document_bands_key ON document_bands(band, key);
+  document_id INTEGER NOT NULL,
+  PRIMARY KEY (key, document_id)
+) WITHOUT ROWID;
 
 CREATE TABLE concepts (
   id TEXT PRIMARY KEY,

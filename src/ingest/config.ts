@@ -1,49 +1,103 @@
 /**
  * @module ingest/config
  * The `ingest`, `sources` and `webhooks` sections of tides.config.json.
+ *
+ * A source: `{ "id": "city-jobs", "kind": "feed", "location": "https://...", "schedule": "0 * * * *",
+ * "options": {} }`. Kinds: `feed` (RSS 2.0 or Atom, URL or file), `jsonl` (schema.org JobPosting JSON
+ * Lines, URL or file), `requests` (request log, CSV or JSON Lines, URL or file), `folder` (an inbox
+ * folder: each file dropped there is ingested once, then moved to processed/ or rejected/).
+ * Options: `format` ("csv" | "jsonl") for a `requests` source whose location does not end in .csv or
+ * .jsonl; `documents` ("postings" | "requests") for what a folder's .jsonl files hold (default
+ * postings; .csv files are always requests, .xml/.rss/.atom always feeds).
  */
 import { z } from 'zod'
+
+export const sourceOptionsSchemas = {
+  feed: z.object({}).strict(),
+  jsonl: z.object({}).strict(),
+  requests: z.object({ format: z.enum(['csv', 'jsonl']).optional() }).strict(),
+  folder: z.object({ documents: z.enum(['postings', 'requests']).default('postings') }).strict(),
+} as const
+
+export type FolderOptions = z.infer<typeof sourceOptionsSchemas.folder>
+export type RequestsOptions = z.infer<typeof sourceOptionsSchemas.requests>
 
 export const sourceSchema = z
   .object({
     id: z.string().regex(/^[a-z0-9][a-z0-9._-]*$/i, 'source id: letters, digits, dot, dash, underscore'),
     kind: z.enum(['feed', 'jsonl', 'requests', 'folder']),
+    /** http(s) URL or local path (a folder for kind folder) */
     location: z.string().min(1),
-    /** node-cron expression; omitted = only on demand */
+    /** node-cron expression; omitted = only on demand (and, for folders, when a file appears) */
     schedule: z.string().optional(),
     options: z.record(z.string(), z.unknown()).prefault({}),
   })
   .strict()
+  .superRefine((s, ctx) => {
+    const parsed = sourceOptionsSchemas[s.kind].safeParse(s.options)
+    if (!parsed.success) {
+      for (const issue of parsed.error.issues) {
+        const keys = 'keys' in issue && Array.isArray(issue.keys) ? ` ${issue.keys.map((k) => `"${k}"`).join(', ')}` : ''
+        ctx.addIssue({ code: 'custom', path: ['options', ...issue.path.map(String)], message: issue.code === 'unrecognized_keys' ? `unknown option${keys} for a ${s.kind} source` : issue.message })
+      }
+    }
+    const scheme = /^([a-z][a-z0-9+.-]*):\/\//i.exec(s.location)?.[1]?.toLowerCase()
+    if (scheme && scheme !== 'http' && scheme !== 'https') ctx.addIssue({ code: 'custom', path: ['location'], message: `only http(s) URLs or local paths, not ${scheme}:` })
+    if (s.kind === 'folder' && scheme) ctx.addIssue({ code: 'custom', path: ['location'], message: 'a folder source needs a local folder path' })
+  })
 
 export const ingestConfigSchema = z
   .object({
-    /** per-request timeout for feed fetches */
+    /** per-request deadline for a whole response (a server that trickles bytes is cut too) */
     timeoutMs: z.number().int().positive().default(15_000),
-    /** bodies larger than this are cut and the source run fails with a clear error */
+    /** bodies larger than this (after decompression) are cut; the complete items before the cut are kept */
     maxBytes: z.number().int().positive().default(20 * 1024 * 1024),
     maxRedirects: z.number().int().min(0).max(10).default(3),
+    /** retries after the first attempt, on 5xx, 429, timeouts and network errors */
     retries: z.number().int().min(0).max(10).default(3),
+    /** first retry waits this long, each next one twice as long */
     backoffMs: z.number().int().min(0).default(500),
     /** documents per transaction */
     batchSize: z.number().int().positive().default(1000),
+    /** a title plus description longer than this is rejected (with the reason), not cut */
+    maxTextChars: z.number().int().positive().default(100_000),
     dedupe: z
       .object({
-        /** Jaccard similarity at or above which a document is a repost */
+        /** Jaccard similarity of word shingles at or above which a posting is a repost */
         threshold: z.number().min(0.5).max(1).default(0.9),
-        numHashes: z.number().int().min(16).max(512).default(64),
-        bands: z.number().int().min(1).default(16),
+        /** MinHash signature length k; the estimate's standard error is at most 1/(2 sqrt k) */
+        numHashes: z.number().int().min(16).max(512).default(60),
+        /**
+         * LSH bands b (k/b rows each): a pair becomes a candidate with probability 1-(1-J^r)^b;
+         * with k=60, b=10 that is 0.9995 at J=0.9 and 0.15 at J=0.5 (candidates are then verified)
+         */
+        bands: z.number().int().min(1).default(10),
+        /** words per shingle */
         shingleSize: z.number().int().min(1).max(8).default(4),
       })
       .strict()
-      .prefault({}),
+      .prefault({})
+      .refine((d) => d.numHashes % d.bands === 0, { message: 'numHashes must be a multiple of bands', path: ['bands'] }),
   })
   .strict()
 
+export type IngestConfig = z.infer<typeof ingestConfigSchema>
+
 export const webhookSchema = z
   .object({
-    url: z.string().url(),
+    url: z.string().url().refine((u) => /^https?:\/\//i.test(u), 'webhook url must be http(s)'),
+    /** HMAC-SHA256 key; the signature goes in the X-Tides-Signature header as sha256=<hex> */
     secret: z.string().min(8),
     /** event types to deliver; empty = all */
     events: z.array(z.string()).default([]),
+    /** deadline per delivery attempt */
+    timeoutMs: z.number().int().positive().default(5_000),
+    /** attempts before a delivery is marked failed */
+    maxAttempts: z.number().int().min(1).max(100).default(12),
+    /** wait after the first failed attempt; doubles after each next one, up to maxBackoffMs */
+    backoffMs: z.number().int().min(0).default(2_000),
+    maxBackoffMs: z.number().int().min(0).default(3_600_000),
   })
   .strict()
+
+export type WebhookConfig = z.infer<typeof webhookSchema>

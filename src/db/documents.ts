@@ -1,0 +1,255 @@
+/**
+ * @module db/documents
+ * SQL for sources, documents, their LSH band keys, and webhook deliveries. The ingest stage and the
+ * webhook sender call these plain functions; no SQL lives outside src/db/.
+ */
+import type { Statement } from 'better-sqlite3'
+import type { Db } from './connection.ts'
+
+// ------------------------------------------------------------------------------------------------
+// sources
+
+export interface SourceRow {
+  id: string
+  kind: 'feed' | 'jsonl' | 'requests' | 'folder' | 'import'
+  location: string
+  schedule: string | null
+  options_json: string
+  etag: string | null
+  last_modified: string | null
+  cursor: string | null
+  created_at: string
+}
+
+export interface SourceDefinition {
+  id: string
+  kind: SourceRow['kind']
+  location: string
+  schedule?: string | null
+  options?: Record<string, unknown>
+}
+
+/**
+ * Creates or updates a source row from its definition. A changed kind or location starts the
+ * source afresh (validators and cursor cleared); its documents stay.
+ */
+export function upsertSource(db: Db, def: SourceDefinition): SourceRow {
+  const current = getSource(db, def.id)
+  const options = JSON.stringify(def.options ?? {})
+  if (!current) {
+    db.prepare('INSERT INTO sources(id, kind, location, schedule, options_json) VALUES (?, ?, ?, ?, ?)').run(def.id, def.kind, def.location, def.schedule ?? null, options)
+  } else if (current.kind !== def.kind || current.location !== def.location) {
+    db.prepare('UPDATE sources SET kind = ?, location = ?, schedule = ?, options_json = ?, etag = NULL, last_modified = NULL, cursor = NULL WHERE id = ?').run(
+      def.kind, def.location, def.schedule ?? null, options, def.id,
+    )
+  } else if (current.schedule !== (def.schedule ?? null) || current.options_json !== options) {
+    db.prepare('UPDATE sources SET schedule = ?, options_json = ? WHERE id = ?').run(def.schedule ?? null, options, def.id)
+  }
+  return getSource(db, def.id)!
+}
+
+export function getSource(db: Db, id: string): SourceRow | undefined {
+  return db.prepare('SELECT * FROM sources WHERE id = ?').get(id) as SourceRow | undefined
+}
+
+export function listSources(db: Db): SourceRow[] {
+  return db.prepare('SELECT * FROM sources ORDER BY id').all() as SourceRow[]
+}
+
+/** Stores the source's resume point; call inside the batch transaction. */
+export function setSourceCursor(db: Db, id: string, cursor: string | null): void {
+  db.prepare('UPDATE sources SET cursor = ? WHERE id = ?').run(cursor, id)
+}
+
+/** Stores the HTTP validators of the last complete fetch (for conditional requests). */
+export function setSourceValidators(db: Db, id: string, etag: string | null, lastModified: string | null): void {
+  db.prepare('UPDATE sources SET etag = ?, last_modified = ? WHERE id = ?').run(etag, lastModified, id)
+}
+
+// ------------------------------------------------------------------------------------------------
+// documents
+
+export interface DocumentRow {
+  source_id: string
+  external_id: string
+  kind: 'posting' | 'request'
+  title: string
+  body: string
+  posted_at: string
+  month: string
+  date_estimated: number
+  text_hash: string
+  duplicate_of: number | null
+  dup_similarity: number | null
+  occupation: string | null
+  organisation: string | null
+  location: string | null
+  channel: string | null
+  team: string | null
+  skills_json: string | null
+  signature: Buffer | null
+}
+
+export interface StoredSignature {
+  id: number
+  duplicate_of: number | null
+  signature: Buffer | null
+  title: string
+  body: string
+}
+
+const INSERT_DOCUMENT = `INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, date_estimated,
+  text_hash, duplicate_of, dup_similarity, occupation, organisation, location, channel, team, skills_json, signature)
+  VALUES (@source_id, @external_id, @kind, @title, @body, @posted_at, @month, @date_estimated, @text_hash, @duplicate_of,
+  @dup_similarity, @occupation, @organisation, @location, @channel, @team, @skills_json, @signature)`
+
+/**
+ * Prepared statements for the ingest hot path, prepared once per connection and band count.
+ * Every method runs inside the caller's batch transaction.
+ */
+export class DocumentStore {
+  private readonly byExternal: Statement
+  private readonly byHash: Statement
+  private readonly insert: Statement
+  private readonly signatureOf: Statement
+  private readonly insertBandsStmt: Statement
+  private readonly candidatesStmt: Statement
+
+  constructor(
+    readonly db: Db,
+    readonly bands: number,
+  ) {
+    this.byExternal = db.prepare('SELECT id FROM documents WHERE source_id = ? AND external_id = ?').pluck()
+    this.byHash = db.prepare("SELECT id, duplicate_of FROM documents WHERE text_hash = ? AND kind = 'posting' ORDER BY id LIMIT 1")
+    this.insert = db.prepare(INSERT_DOCUMENT)
+    this.signatureOf = db.prepare('SELECT id, duplicate_of, signature, title, body FROM documents WHERE id = ?')
+    const marks = Array.from({ length: bands }, () => '(?, ?)').join(', ')
+    this.insertBandsStmt = db.prepare(`INSERT OR IGNORE INTO document_bands(key, document_id) VALUES ${marks}`)
+    this.candidatesStmt = db.prepare(`SELECT DISTINCT document_id FROM document_bands WHERE key IN (${Array.from({ length: bands }, () => '?').join(', ')})`).pluck()
+  }
+
+  /** The id of the document with this external id in this source, if stored. */
+  existing(sourceId: string, externalId: string): number | undefined {
+    return this.byExternal.get(sourceId, externalId) as number | undefined
+  }
+
+  /** The earliest posting with this normalised-text hash. */
+  sameText(hash: string): { id: number; duplicate_of: number | null } | undefined {
+    return this.byHash.get(hash) as { id: number; duplicate_of: number | null } | undefined
+  }
+
+  insertDocument(row: DocumentRow): number {
+    return Number(this.insert.run(row).lastInsertRowid)
+  }
+
+  /** Band keys as stored: band * 2^32 + key (exact in a double, below 2^53). */
+  static storedKeys(keys: readonly number[]): number[] {
+    return keys.map((k, band) => band * 0x1_0000_0000 + k)
+  }
+
+  insertBands(documentId: number, keys: readonly number[]): void {
+    const args: number[] = []
+    for (const k of DocumentStore.storedKeys(keys)) args.push(k, documentId)
+    this.insertBandsStmt.run(...args)
+  }
+
+  /** Ids of documents sharing at least one band key. */
+  candidates(keys: readonly number[]): number[] {
+    return this.candidatesStmt.all(...DocumentStore.storedKeys(keys)) as number[]
+  }
+
+  signature(id: number): StoredSignature | undefined {
+    return this.signatureOf.get(id) as StoredSignature | undefined
+  }
+}
+
+/** Postings that carry band keys (all but exact-text duplicates), for rebuilding signatures and bands. */
+export function* postingsForReindex(db: Db): Generator<{ id: number; title: string; body: string }> {
+  yield* db.prepare("SELECT id, title, body FROM documents WHERE kind = 'posting' AND (duplicate_of IS NULL OR dup_similarity < 1) ORDER BY id").iterate() as Iterable<{
+    id: number
+    title: string
+    body: string
+  }>
+}
+
+export function clearBands(db: Db): void {
+  db.prepare('DELETE FROM document_bands').run()
+}
+
+export function setSignature(db: Db, id: number, signature: Buffer | null): void {
+  db.prepare('UPDATE documents SET signature = ? WHERE id = ?').run(signature, id)
+}
+
+export interface DocumentCounts {
+  documents: number
+  originals: number
+  duplicates: number
+  postings: number
+  requests: number
+  dateEstimated: number
+}
+
+export function documentCounts(db: Db, sourceId?: string): DocumentCounts {
+  const where = sourceId === undefined ? '' : 'WHERE source_id = ?'
+  const row = db
+    .prepare(
+      `SELECT COUNT(*) AS documents, COALESCE(SUM(duplicate_of IS NULL), 0) AS originals, COALESCE(SUM(duplicate_of IS NOT NULL), 0) AS duplicates,
+       COALESCE(SUM(kind = 'posting'), 0) AS postings, COALESCE(SUM(kind = 'request'), 0) AS requests, COALESCE(SUM(date_estimated), 0) AS dateEstimated
+       FROM documents ${where}`,
+    )
+    .get(...(sourceId === undefined ? [] : [sourceId])) as DocumentCounts
+  return row
+}
+
+// ------------------------------------------------------------------------------------------------
+// webhook deliveries
+
+export interface DeliveryRow {
+  event_id: number
+  endpoint: string
+  status: 'pending' | 'delivered' | 'failed'
+  attempts: number
+  next_attempt_at: string | null
+  last_error: string | null
+  delivered_at: string | null
+  type: string
+  payload_json: string
+  created_at: string
+}
+
+/** Queues events for an endpoint (idempotent: an event already queued for it is left as it is). */
+export function queueDeliveries(db: Db, endpoint: string, eventIds: readonly number[], nowIso: string): number {
+  const st = db.prepare("INSERT OR IGNORE INTO webhook_deliveries(event_id, endpoint, status, attempts, next_attempt_at) VALUES (?, ?, 'pending', 0, ?)")
+  let n = 0
+  for (const id of eventIds) n += st.run(id, endpoint, nowIso).changes
+  return n
+}
+
+/** Pending deliveries whose next attempt is due, oldest event first, with their events. */
+export function dueDeliveries(db: Db, nowIso: string, limit = 500): DeliveryRow[] {
+  return db
+    .prepare(
+      `SELECT d.*, e.type, e.payload_json, e.created_at FROM webhook_deliveries d JOIN events e ON e.id = d.event_id
+       WHERE d.status = 'pending' AND (d.next_attempt_at IS NULL OR d.next_attempt_at <= ?) ORDER BY d.event_id, d.endpoint LIMIT ?`,
+    )
+    .all(nowIso, limit) as DeliveryRow[]
+}
+
+export function markDelivered(db: Db, eventId: number, endpoint: string, nowIso: string): void {
+  db.prepare("UPDATE webhook_deliveries SET status = 'delivered', attempts = attempts + 1, delivered_at = ?, last_error = NULL, next_attempt_at = NULL WHERE event_id = ? AND endpoint = ?").run(
+    nowIso, eventId, endpoint,
+  )
+}
+
+/** Records a failed attempt: retried at `nextIso`, or given up ('failed') when `nextIso` is null. */
+export function markAttemptFailed(db: Db, eventId: number, endpoint: string, error: string, nextIso: string | null): void {
+  db.prepare('UPDATE webhook_deliveries SET attempts = attempts + 1, last_error = ?, next_attempt_at = ?, status = ? WHERE event_id = ? AND endpoint = ?').run(
+    error.slice(0, 500), nextIso, nextIso === null ? 'failed' : 'pending', eventId, endpoint,
+  )
+}
+
+export function listDeliveries(db: Db, limit = 100): Omit<DeliveryRow, 'payload_json' | 'created_at'>[] {
+  return db
+    .prepare('SELECT d.*, e.type FROM webhook_deliveries d JOIN events e ON e.id = d.event_id ORDER BY d.event_id DESC, d.endpoint LIMIT ?')
+    .all(limit) as Omit<DeliveryRow, 'payload_json' | 'created_at'>[]
+}

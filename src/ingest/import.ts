@@ -1,0 +1,148 @@
+/**
+ * @module ingest/import
+ * `tides import postings FILE.jsonl|FILE.xml` and `tides import requests FILE.csv|FILE.jsonl`, with
+ * the contract of every import: a file with bad rows imports nothing unless skipBad is set (then
+ * the good rows land and the bad ones are counted); each problem names file, line and field.
+ * The whole file is checked first (JSON Lines streamed twice, so a large file is never held in
+ * memory), then stored in batches under the source `import:postings` or `import:requests`, with a
+ * job run and `documents.ingested` events like any source. Importing the same file again stores
+ * nothing new (same external ids).
+ */
+import fs from 'node:fs'
+import path from 'node:path'
+import type { ImportOptions } from '../commands/registry.ts'
+import type { Config } from '../config.ts'
+import type { Db } from '../db/connection.ts'
+import { upsertSource } from '../db/documents.ts'
+import { finishRun, startRun } from '../db/runs.ts'
+import type { ImportResult } from '../inputs/tables.ts'
+import type { InputProblem } from '../util/csv.ts'
+import { checkDocument, type DocumentInput, ItemError, type ItemProblem } from './document.ts'
+import { readFeed } from './feed.ts'
+import { linesOfFile } from './lines.ts'
+import { createProgress } from './progress.ts'
+import { type LineKind, documentFromLine, requestsFromCsv } from './readers.ts'
+import { decodeBytes } from './text.ts'
+import { BatchWriter } from './writer.ts'
+
+type Kind = 'postings' | 'requests'
+
+function toInputProblem(p: ItemProblem): InputProblem {
+  return { file: p.file, line: p.line ?? 0, column: p.field, reason: p.item ? `item ${p.item}: ${p.reason}` : p.reason }
+}
+
+interface Checked {
+  /** documents with their lines, for whole-file formats; null for JSON Lines (read again to store) */
+  docs: { line?: number; doc: DocumentInput }[] | null
+  problems: ItemProblem[]
+  read: number
+  fatal: ItemProblem | null
+}
+
+function checkJsonLines(file: string, kind: LineKind, maxTextChars: number): Checked {
+  const problems: ItemProblem[] = []
+  let read = 0
+  for (const l of linesOfFile(file)) {
+    try {
+      const doc = documentFromLine(l, kind)
+      if (!doc) continue
+      checkDocument(doc, maxTextChars)
+      read++
+    } catch (err) {
+      if (!(err instanceof ItemError)) throw err
+      problems.push({ file, line: l.line, field: err.field, reason: err.message })
+    }
+  }
+  return { docs: null, problems, read: read + problems.length, fatal: null }
+}
+
+async function checkWhole(file: string, kind: Kind, maxTextChars: number): Promise<Checked> {
+  const bytes = fs.readFileSync(file)
+  const decoded = decodeBytes(bytes)
+  let docs: { line?: number; doc: DocumentInput }[]
+  let problems: ItemProblem[]
+  if (kind === 'postings') {
+    const feed = await readFeed(decoded.text, file, new Date().toISOString())
+    if (feed.fatal) return { docs: [], problems: [], read: 0, fatal: { file, line: 1, reason: feed.fatal } }
+    docs = feed.items
+    // caveats (estimated dates) are reported but do not make the file bad
+    problems = feed.problems
+    if (decoded.invalidAt !== null) {
+      docs = docs.filter(({ line, doc }) => {
+        const bad = `${doc.title}${doc.body}${doc.externalId}`.includes('\ufffd')
+        if (bad) problems.push({ file, line, item: doc.externalId.slice(0, 200), reason: 'not valid UTF-8' })
+        return !bad
+      })
+    }
+  } else {
+    const csv = requestsFromCsv(decoded.text, file, decoded.invalidAt !== null)
+    if (csv.fatal) return { docs: [], problems: [], read: 0, fatal: csv.fatal }
+    docs = csv.rows
+    problems = csv.problems
+  }
+  const good: typeof docs = []
+  for (const d of docs) {
+    try {
+      checkDocument(d.doc, maxTextChars)
+      good.push(d)
+    } catch (err) {
+      if (!(err instanceof ItemError)) throw err
+      problems.push({ file, line: d.line, item: d.doc.externalId.slice(0, 200), field: err.field, reason: err.message })
+    }
+  }
+  const bad = problems.filter((p) => !p.warning).length
+  return { docs: good, problems, read: good.length + bad, fatal: null }
+}
+
+/** Imports one postings or requests file. */
+export async function importDocuments(db: Db, config: Config, kind: Kind, file: string, opts: Pick<ImportOptions, 'skipBad'> & { log?: (m: string) => void }): Promise<ImportResult> {
+  const refuse = (problems: InputProblem[], read = 0): ImportResult => ({ kind, file, read, imported: 0, skipped: 0, problems, refused: true })
+  let stat: fs.Stats
+  try {
+    stat = fs.statSync(file)
+  } catch (err) {
+    return refuse([{ file, line: 0, reason: `cannot read: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}` }])
+  }
+  if (!stat.isFile()) return refuse([{ file, line: 0, reason: 'not a file' }])
+  const ext = path.extname(file).toLowerCase()
+  const lines = ext === '.jsonl' || ext === '.ndjson'
+  const whole = kind === 'postings' ? ['.xml', '.rss', '.atom'].includes(ext) : ext === '.csv'
+  if (!lines && !whole) {
+    return refuse([{ file, line: 0, reason: kind === 'postings' ? 'expected a .jsonl (JobPosting JSON Lines) or .xml/.rss/.atom (feed) file' : 'expected a .csv or .jsonl request log' }])
+  }
+  const checked = lines ? checkJsonLines(file, kind, config.ingest.maxTextChars) : await checkWhole(file, kind, config.ingest.maxTextChars)
+  if (checked.fatal) return refuse([toInputProblem(checked.fatal)])
+  const bad = checked.problems.filter((p) => !p.warning).length
+  const problems = checked.problems.map(toInputProblem)
+  if (bad > 0 && !opts.skipBad) return refuse(problems, checked.read)
+
+  const sourceId = `import:${kind}`
+  upsertSource(db, { id: sourceId, kind: 'import', location: `tides import ${kind}` })
+  const runId = startRun(db, 'ingest', 'import', sourceId)
+  const progress = createProgress(`import ${path.basename(file)}`)
+  const writer = new BatchWriter(db, config, sourceId, runId, (c) => progress.update(c.read))
+  try {
+    if (checked.docs) for (const { line, doc } of checked.docs) writer.add(doc, { file, line })
+    else {
+      for (const l of linesOfFile(file)) {
+        try {
+          const doc = documentFromLine(l, kind)
+          if (doc) writer.add(doc, { file, line: l.line })
+        } catch (err) {
+          if (!(err instanceof ItemError)) throw err
+        }
+      }
+    }
+    writer.flush()
+  } catch (err) {
+    finishRun(db, runId, 'failed', writer.counts, (err as Error).message, { file })
+    throw err
+  } finally {
+    progress.done()
+  }
+  const c = writer.counts
+  finishRun(db, runId, bad > 0 ? 'partial' : 'ok', { ...c, read: checked.read, rejected: bad }, null, { file, ...c, rejected: bad, problems: checked.problems.slice(0, 100), problemCount: checked.problems.length })
+  const stored = c.new + c.duplicate - c.alreadyStored
+  opts.log?.(`${file}: ${c.new} new, ${c.duplicate} duplicate (${c.alreadyStored} already stored, ${c.exactText + c.nearDuplicate} reposts)${c.dateEstimated ? `, ${c.dateEstimated} with estimated dates` : ''}`)
+  return { kind, file, read: checked.read, imported: stored, skipped: bad, problems, refused: false }
+}

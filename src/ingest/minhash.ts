@@ -1,0 +1,228 @@
+/**
+ * @module ingest/minhash
+ * MinHash signatures over word shingles and locality-sensitive hashing (LSH) band keys, for finding
+ * reposted job postings whose texts are nearly the same.
+ *
+ * MinHash (Broder 1997, "On the resemblance and containment of documents"): for a random permutation
+ * π of the shingle universe, P[min π(A) = min π(B)] = |A ∩ B| / |A ∪ B| (the Jaccard similarity).
+ * With k independent hash functions standing in for permutations, the fraction of agreeing minima is
+ * an unbiased estimate of the Jaccard similarity with standard error sqrt(J(1-J)/k) ≤ 1/(2 sqrt k).
+ * LSH banding (Leskovec, Rajaraman & Ullman, "Mining of Massive Datasets", ch. 3.4, free at
+ * mmds.org): split the k values into b bands of r rows; two documents become candidates when any
+ * band agrees completely, with probability 1 - (1 - J^r)^b (an S-curve with its steepest point near
+ * (1/b)^(1/r)). Candidates are then verified, so banding only has to be generous, not exact.
+ *
+ * All hashing is 32-bit integer arithmetic (Math.imul), with no per-token string allocation:
+ * tokens are hashed with FNV-1a while scanning characters, shingles combine w token hashes, and each
+ * of the k hash functions is MurmurHash3's 32-bit finaliser applied to the shingle hash xor a seed.
+ *
+ * Cost: O(n·k) for a text of n tokens (n shingles, k hash functions); O(k) per band-key set.
+ */
+
+/** MurmurHash3 fmix32: a bijection on 32-bit integers with good avalanche (Appleby, public domain). */
+export function fmix32(h: number): number {
+  h ^= h >>> 16
+  h = Math.imul(h, 0x85ebca6b)
+  h ^= h >>> 13
+  h = Math.imul(h, 0xc2b2ae35)
+  h ^= h >>> 16
+  return h >>> 0
+}
+
+const FNV_OFFSET = 0x811c9dc5
+const FNV_PRIME = 0x01000193
+
+let scratch: Uint32Array = new Uint32Array(4096)
+
+/**
+ * FNV-1a hashes of the words of a text, read the way normaliseText() reads it (letters and digits,
+ * lower-cased), in one pass without building the normalised string. ASCII is handled by a table;
+ * other characters go through the Unicode-aware path one by one.
+ * @example tokenHashes('Data-Engineer').length // => 2
+ */
+export function tokenHashes(text: string): Uint32Array {
+  const folded = /^[\u0000-\u007f]*$/.test(text) ? text : text.normalize('NFKC')
+  let n = 0
+  let h = FNV_OFFSET
+  let inWord = false
+  for (let i = 0; i < folded.length; i++) {
+    let c = folded.charCodeAt(i)
+    let word: boolean
+    if (c < 128) {
+      word = ASCII_WORD[c] === 1
+      if (c >= 65 && c <= 90) c += 32
+    } else {
+      // a surrogate pair is one character; test and lower-case it as a whole
+      const cp = folded.codePointAt(i)!
+      const ch = String.fromCodePoint(cp)
+      word = WORD_CHAR.test(ch)
+      if (word) {
+        const lower = ch.toLowerCase()
+        for (let j = 0; j < lower.length; j++) h = Math.imul(h ^ lower.charCodeAt(j), FNV_PRIME)
+      }
+      if (cp > 0xffff) i++
+      if (word) {
+        inWord = true
+        continue
+      }
+    }
+    if (word) {
+      h = Math.imul(h ^ c, FNV_PRIME)
+      inWord = true
+    } else if (inWord) {
+      if (n === scratch.length) scratch = grow(scratch)
+      scratch[n++] = h
+      h = FNV_OFFSET
+      inWord = false
+    }
+  }
+  if (inWord) {
+    if (n === scratch.length) scratch = grow(scratch)
+    scratch[n++] = h
+  }
+  return scratch.slice(0, n)
+}
+
+const ASCII_WORD = new Uint8Array(128)
+for (let c = 48; c <= 57; c++) ASCII_WORD[c] = 1
+for (let c = 65; c <= 90; c++) ASCII_WORD[c] = 1
+for (let c = 97; c <= 122; c++) ASCII_WORD[c] = 1
+const WORD_CHAR = /^[\p{L}\p{N}]$/u
+
+function grow(a: Uint32Array): Uint32Array {
+  const b = new Uint32Array(a.length * 2)
+  b.set(a)
+  return b
+}
+
+/**
+ * The set of w-word shingle hashes of a sequence of token hashes, sorted ascending without repeats.
+ * A text shorter than w words yields one shingle of all its words; an empty text yields none.
+ */
+export function shingleSet(tokens: Uint32Array, w: number): Uint32Array {
+  const n = tokens.length
+  if (n === 0) return new Uint32Array(0)
+  const width = Math.min(w, n)
+  const count = n - width + 1
+  const out = new Uint32Array(count)
+  const ts = new Int32Array(tokens.buffer, tokens.byteOffset, n)
+  for (let i = 0; i < count; i++) {
+    let h = width
+    for (let j = 0; j < width; j++) h = Math.imul(((h << 5) | (h >>> 27)) ^ ts[i + j]!, 0x9e3779b1)
+    out[i] = fmix32(h)
+  }
+  out.sort()
+  let m = 0
+  for (let i = 0; i < count; i++) if (i === 0 || out[i] !== out[m - 1]) out[m++] = out[i]!
+  return out.slice(0, m)
+}
+
+/** k deterministic seeds (splitmix32 sequence), so that signatures are stable across runs. */
+export function minhashSeeds(k: number): Uint32Array {
+  const seeds = new Uint32Array(k)
+  let s = 0x2545f491
+  for (let i = 0; i < k; i++) {
+    s = (s + 0x9e3779b9) >>> 0
+    seeds[i] = fmix32(s)
+  }
+  return seeds
+}
+
+/**
+ * The MinHash signature: for each of the k hash functions, the minimum hash over the shingle set.
+ * @example minhashSignature(shingleSet(tokenHashes('a b c d e'), 2), minhashSeeds(4)).length // => 4
+ */
+export function minhashSignature(shingles: Uint32Array, seeds: Uint32Array): Uint32Array {
+  const k = seeds.length
+  const sig = new Uint32Array(k)
+  const mult = multipliers(seeds)
+  const n = shingles.length
+  const xs = new Int32Array(shingles.buffer, shingles.byteOffset, n)
+  for (let i = 0; i < k; i++) {
+    // h_i(x) = a_i·x + b_i mod 2^32 with odd a_i: a permutation of the 32-bit values per i; the
+    // shingle hashes are already avalanche-mixed, so these behave as independent permutations
+    // compared as signed int32 after flipping the top bit (same order as unsigned), so V8 keeps
+    // everything in small integers instead of doubles
+    const a = mult[i]! | 0
+    const b = (seeds[i]! ^ 0x80000000) | 0
+    let min = 0x7fffffff
+    for (let s = 0; s < n; s++) {
+      const h = (Math.imul(xs[s]!, a) + b) | 0
+      if (h < min) min = h
+    }
+    sig[i] = (min ^ 0x80000000) >>> 0
+  }
+  return sig
+}
+
+const multiplierCache = new WeakMap<Uint32Array, Uint32Array>()
+function multipliers(seeds: Uint32Array): Uint32Array {
+  let m = multiplierCache.get(seeds)
+  if (!m) {
+    m = seeds.map((s) => (fmix32(s ^ 0x68e31da4) | 1) >>> 0)
+    multiplierCache.set(seeds, m)
+  }
+  return m
+}
+
+/** Fraction of agreeing positions: the MinHash estimate of the Jaccard similarity. */
+export function estimateJaccard(a: Uint32Array, b: Uint32Array): number {
+  if (a.length !== b.length || a.length === 0) throw new Error('estimateJaccard requires two signatures of the same non-zero length')
+  let same = 0
+  for (let i = 0; i < a.length; i++) if (a[i] === b[i]) same++
+  return same / a.length
+}
+
+/** Exact Jaccard similarity of two sorted, repeat-free hash sets (merge in O(|A| + |B|)). */
+export function exactJaccard(a: Uint32Array, b: Uint32Array): number {
+  if (a.length === 0 && b.length === 0) return 1
+  let i = 0
+  let j = 0
+  let inter = 0
+  while (i < a.length && j < b.length) {
+    const x = a[i]!
+    const y = b[j]!
+    if (x === y) {
+      inter++
+      i++
+      j++
+    } else if (x < y) i++
+    else j++
+  }
+  return inter / (a.length + b.length - inter)
+}
+
+/**
+ * One 32-bit key per band: a hash of the band's r signature values and the band number.
+ * @throws when the signature length is not a multiple of the band count
+ */
+export function bandKeys(sig: Uint32Array, bands: number): number[] {
+  if (sig.length % bands !== 0) throw new Error(`bandKeys requires numHashes (${sig.length}) to be a multiple of bands (${bands})`)
+  const rows = sig.length / bands
+  const keys: number[] = new Array(bands)
+  for (let b = 0; b < bands; b++) {
+    let h = fmix32(0x51ed270b ^ b)
+    for (let r = 0; r < rows; r++) h = fmix32(Math.imul(h, 0x01000193) ^ sig[b * rows + r]!)
+    keys[b] = h
+  }
+  return keys
+}
+
+/** Probability that a pair with Jaccard similarity j becomes an LSH candidate: 1 - (1 - j^r)^b. */
+export function candidateProbability(j: number, bands: number, rows: number): number {
+  return 1 - Math.pow(1 - Math.pow(j, rows), bands)
+}
+
+/** Signature as bytes for storage (little-endian uint32) and back. */
+export function signatureToBytes(sig: Uint32Array): Buffer {
+  const buf = Buffer.alloc(sig.length * 4)
+  for (let i = 0; i < sig.length; i++) buf.writeUInt32LE(sig[i]!, i * 4)
+  return buf
+}
+
+export function signatureFromBytes(buf: Uint8Array): Uint32Array {
+  const view = new DataView(buf.buffer, buf.byteOffset, buf.byteLength)
+  const out = new Uint32Array(buf.byteLength >>> 2)
+  for (let i = 0; i < out.length; i++) out[i] = view.getUint32(i * 4, true)
+  return out
+}
