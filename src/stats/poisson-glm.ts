@@ -70,12 +70,21 @@ export class GlmFitError extends Error {
   }
 }
 
-function devianceOf(counts: ArrayLike<number>, fitted: Float64Array, weights: ArrayLike<number> | undefined): number {
+/** ln(y!) for small whole y from a table (the log-likelihood needs it for every row of every fit). */
+const LOG_FACTORIAL_TABLE_SIZE = 4096
+const logFactorialTable = new Float64Array(LOG_FACTORIAL_TABLE_SIZE)
+for (let k = 2; k < LOG_FACTORIAL_TABLE_SIZE; k++) logFactorialTable[k] = logFactorialTable[k - 1]! + Math.log(k)
+
+function logFactorial(y: number): number {
+  return Number.isInteger(y) && y < LOG_FACTORIAL_TABLE_SIZE ? logFactorialTable[y]! : logGamma(y + 1)
+}
+
+function devianceOf(counts: Float64Array, fitted: Float64Array, weights: Float64Array): number {
   let deviance = 0
   for (let i = 0; i < fitted.length; i++) {
     const y = counts[i]!
     const mu = fitted[i]!
-    const weight = weights ? weights[i]! : 1
+    const weight = weights[i]!
     if (weight === 0) continue
     // y ln(y/μ) → 0 as y → 0, so zero counts need no logarithm
     deviance += weight * ((y > 0 ? y * Math.log(y / mu) : 0) - (y - mu))
@@ -106,20 +115,26 @@ function devianceOf(counts: ArrayLike<number>, fitted: Float64Array, weights: Ar
  * ```
  */
 export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
-  const { design, rows, cols, counts, offset, priorWeights } = input
+  const { design, rows, cols } = input
   const maxIterations = input.maxIterations ?? 25
   const tolerance = input.tolerance ?? 1e-8
   if (design.length !== rows * cols) throw new RangeError(`poissonGlm requires a ${rows} × ${cols} design, got ${design.length} values`)
-  if (counts.length !== rows) throw new RangeError(`poissonGlm requires ${rows} counts, got ${counts.length}`)
-  if (offset && offset.length !== rows) throw new RangeError(`poissonGlm requires ${rows} offsets, got ${offset.length}`)
-  if (priorWeights && priorWeights.length !== rows) throw new RangeError(`poissonGlm requires ${rows} weights, got ${priorWeights.length}`)
+  if (input.counts.length !== rows) throw new RangeError(`poissonGlm requires ${rows} counts, got ${input.counts.length}`)
+  if (input.offset && input.offset.length !== rows) throw new RangeError(`poissonGlm requires ${rows} offsets, got ${input.offset.length}`)
+  if (input.priorWeights && input.priorWeights.length !== rows) {
+    throw new RangeError(`poissonGlm requires ${rows} weights, got ${input.priorWeights.length}`)
+  }
+  // dense typed copies keep the hot loops free of optional checks
+  const counts = Float64Array.from(input.counts)
+  const offset = input.offset ? Float64Array.from(input.offset) : new Float64Array(rows)
+  const priorWeights = input.priorWeights ? Float64Array.from(input.priorWeights) : new Float64Array(rows).fill(1)
   let activeRows = 0
   for (let i = 0; i < rows; i++) {
     const y = counts[i]!
     if (!(y >= 0) || !Number.isFinite(y)) throw new RangeError(`poissonGlm requires non-negative finite counts, row ${i} has ${y}`)
-    const weight = priorWeights ? priorWeights[i]! : 1
+    const weight = priorWeights[i]!
     if (!(weight >= 0) || !Number.isFinite(weight)) throw new RangeError(`poissonGlm requires non-negative finite weights, row ${i} has ${weight}`)
-    if (offset && !Number.isFinite(offset[i]!)) throw new RangeError(`poissonGlm requires finite offsets, row ${i} has ${offset[i]}`)
+    if (!Number.isFinite(offset[i]!)) throw new RangeError(`poissonGlm requires finite offsets, row ${i} has ${offset[i]}`)
     if (weight > 0) activeRows++
   }
   if (activeRows < cols) throw new RangeError(`poissonGlm requires at least ${cols} rows with positive weight, got ${activeRows}`)
@@ -134,7 +149,7 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
 
   const setPredictor = (beta: ArrayLike<number>): void => {
     for (let i = 0; i < rows; i++) {
-      let eta = offset ? offset[i]! : 0
+      let eta = offset[i]!
       for (let j = 0; j < cols; j++) eta += design[j * rows + i]! * beta[j]!
       linearPredictor[i] = eta
       fitted[i] = Math.exp(eta)
@@ -157,9 +172,8 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
   for (iterations = 1; iterations <= maxIterations; iterations++) {
     for (let i = 0; i < rows; i++) {
       const mu = fitted[i]!
-      const weight = (priorWeights ? priorWeights[i]! : 1) * mu
-      const rootWeight = Math.sqrt(weight)
-      const z = linearPredictor[i]! - (offset ? offset[i]! : 0) + (counts[i]! - mu) / mu
+      const rootWeight = Math.sqrt(priorWeights[i]! * mu)
+      const z = linearPredictor[i]! - offset[i]! + (counts[i]! - mu) / mu
       workingResponse[i] = rootWeight * z
       for (let j = 0; j < cols; j++) workingDesign[j * rows + i] = rootWeight * design[j * rows + i]!
     }
@@ -199,12 +213,12 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
   let logLikelihood = 0
   for (let i = 0; i < rows; i++) {
     const mu = fitted[i]!
-    const prior = priorWeights ? priorWeights[i]! : 1
+    const prior = priorWeights[i]!
     const rootWeight = Math.sqrt(prior * mu)
     for (let j = 0; j < cols; j++) workingDesign[j * rows + i] = rootWeight * design[j * rows + i]!
     const y = counts[i]!
     pearsonChiSquare += (prior * (y - mu) * (y - mu)) / mu
-    if (prior > 0) logLikelihood += prior * ((y > 0 ? y * Math.log(mu) : 0) - mu - logGamma(y + 1))
+    if (prior > 0) logLikelihood += prior * ((y > 0 ? y * Math.log(mu) : 0) - mu - logFactorial(y))
   }
   qrDecomposeInPlace(workingDesign, rows, cols, rDiagonal)
   const unscaledCovariance = qrUnscaledCovariance({ rows, cols, packed: workingDesign, rDiagonal })

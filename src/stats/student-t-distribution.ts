@@ -94,6 +94,21 @@ export function studentTTwoSidedP(t: number, degreesOfFreedom: number): number {
  */
 export function studentTQuantile(p: number, degreesOfFreedom: number): number {
   checkDegreesOfFreedom('studentTQuantile', degreesOfFreedom)
+  // fits ask for the same few quantiles (levels 0.8/0.95, a handful of residual df) thousands of
+  // times per run; the function is pure, so remember recent answers
+  const key = `${p}|${degreesOfFreedom}`
+  const cached = quantileCache.get(key)
+  if (cached !== undefined) return cached
+  const value = computeQuantile(p, degreesOfFreedom)
+  if (quantileCache.size >= QUANTILE_CACHE_LIMIT) quantileCache.clear()
+  quantileCache.set(key, value)
+  return value
+}
+
+const QUANTILE_CACHE_LIMIT = 4096
+const quantileCache = new Map<string, number>()
+
+function computeQuantile(p: number, degreesOfFreedom: number): number {
   if (!(p >= 0 && p <= 1)) throw new RangeError(`studentTQuantile requires p in [0, 1], got ${p}`)
   if (p === 0) return -Infinity
   if (p === 1) return Infinity
