@@ -116,30 +116,55 @@
     resizeWith(el, plot)
   }
 
-  function drawQuarters(el, d) {
-    if (!d.quarters || d.quarters.length === 0) return fail(el, 'No forecast yet.')
-    var stamps = d.quarters.map(quarterTs)
+  function drawOneSkill(el, s, level) {
+    var stamps = s.periods.map(quarterTs)
     var timed = stamps.every(function (t) { return t != null })
-    var x = timed ? stamps : d.quarters.map(function (_, i) { return i })
+    var x = timed ? stamps : s.periods.map(function (_, i) { return i })
     var opts = {
       width: width(el),
       height: 280,
       scales: { x: { time: timed }, y: { range: function (u, min, max) { return [0, max > 0 ? max * 1.15 : 1] } } },
       series: [
-        timed ? {} : { value: function (u, i) { return d.quarters[i] || '' } },
-        { label: 'Expected', stroke: COLOURS.forecast, width: 2, points: { show: true, size: 6, fill: COLOURS.forecast } },
-        { label: 'Interval high', stroke: 'transparent', points: { show: false } },
-        { label: 'Interval low', stroke: 'transparent', points: { show: false } },
+        timed ? {} : { value: function (u, i) { return s.periods[i] || '' } },
+        { label: s.label + ': people to reskill', stroke: COLOURS.forecast, width: 2, points: { show: true, size: 6, fill: COLOURS.forecast } },
+        { label: level ? Math.round(level * 100) + '% high' : 'interval high', stroke: 'transparent', points: { show: false } },
+        { label: level ? Math.round(level * 100) + '% low' : 'interval low', stroke: 'transparent', points: { show: false } },
       ],
       bands: [{ series: [2, 3], fill: COLOURS.band80 }],
       axes: [
-        timed ? {} : { values: function (u, vals) { return vals.map(function (i) { return d.quarters[i] || '' }) } },
+        timed ? {} : { values: function (u, vals) { return vals.map(function (i) { return s.periods[i] || '' }) } },
         { label: 'people', size: 60 },
       ],
     }
-    var plot = new uPlot(opts, [x, d.mean, d.high, d.low], el)
-    el.dataset.drawn = String(count(d.mean))
-    resizeWith(el, plot)
+    return new uPlot(opts, [x, s.reskill, s.high, s.low], el)
+  }
+
+  function drawQuarters(el, d) {
+    if (!d.skills || d.skills.length === 0) return fail(el, 'No forecast yet.')
+    var plot = null
+    var show = function (i) {
+      if (plot) plot.destroy()
+      plot = drawOneSkill(el, d.skills[i], d.level)
+      el.dataset.drawn = String(count(d.skills[i].reskill))
+      el.dataset.skill = d.skills[i].id
+    }
+    if (d.skills.length > 1) {
+      var label = document.createElement('label')
+      label.className = 'chart-choice'
+      label.textContent = 'Skill '
+      var select = document.createElement('select')
+      d.skills.forEach(function (s, i) {
+        var o = document.createElement('option')
+        o.value = String(i)
+        o.textContent = s.label
+        select.appendChild(o)
+      })
+      select.addEventListener('change', function () { show(+select.value) })
+      label.appendChild(select)
+      el.parentNode.insertBefore(label, el)
+    }
+    show(0)
+    window.addEventListener('resize', function () { if (plot) plot.setSize({ width: width(el), height: plot.height }) })
   }
 
   function start(id, draw) {

@@ -28,17 +28,7 @@ export const STATE_ORDER = ['emerging', 'rising', 'steady', 'declining', 'fading
 
 const STATE_RANK = `CASE cu.state ${STATE_ORDER.map((s, i) => `WHEN '${s}' THEN ${i}`).join(' ')} ELSE ${STATE_ORDER.length} END`
 
-/**
- * Coverage of a skill across roles (or in one role): expected people meeting the requirement over
- * people assessed. Groups with fewer assessed people than the minimum group size sort as unknown, so
- * the order of the table does not reveal a suppressed value.
- */
-function coverageExpr(minGroup: number, byRole: boolean): string {
-  const min = Math.max(1, Math.floor(minGroup))
-  return `(SELECT CASE WHEN SUM(v.assessed) >= ${min} AND SUM(v.headcount) >= ${min} THEN SUM(v.expected_meeting) / SUM(v.assessed) END
-    FROM coverage v WHERE v.skill_id = c.id${byRole ? ' AND v.role = ?' : ''})`
-}
-
+/** Sort expressions; `coverage` is sorted by the caller (suppression is decided outside SQL). */
 const SORT_SQL: Record<Exclude<OverviewSort, 'coverage'>, string> = {
   rank: 'n.rank',
   label: 'c.pref_label COLLATE NOCASE',
@@ -52,6 +42,7 @@ const SORT_SQL: Record<Exclude<OverviewSort, 'coverage'>, string> = {
 export interface OverviewQuery {
   sort: OverviewSort
   dir: 'asc' | 'desc'
+  /** with a role, ranks come from the plan's per-role ranking ('need-role') */
   role?: string
   team?: string
   type?: string
@@ -59,8 +50,6 @@ export interface OverviewQuery {
   search?: string
   limit: number
   offset: number
-  /** smallest group whose coverage may be shown (config.ability.minGroupSize) */
-  minGroup: number
 }
 
 export interface OverviewDbRow {
@@ -83,11 +72,23 @@ export interface OverviewDbRow {
   payload_json: string | null
 }
 
-function overviewWhere(q: OverviewQuery): { sql: string; params: unknown[] } {
-  const parts: string[] = []
+/**
+ * FROM and WHERE of the overview with their parameters in order. Needs come from plan_outputs kind
+ * 'need' (key = skill id), or with a role from kind 'need-role' (key = JSON array [role, skill id],
+ * as the plan stage writes it); a role shows the skills it requires plus those the plan ranks for it.
+ */
+function overviewFrom(q: Pick<OverviewQuery, 'role' | 'team' | 'type' | 'state' | 'search'>): { sql: string; params: unknown[] } {
   const params: unknown[] = []
+  let sql = 'FROM concepts c LEFT JOIN curves cu ON cu.concept_id = c.id '
   if (q.role) {
-    parts.push('c.id IN (SELECT skill_id FROM roles WHERE role = ?)')
+    sql += "LEFT JOIN plan_outputs n ON n.kind = 'need-role' AND n.key = json_array(?, c.id) "
+    params.push(q.role)
+  } else {
+    sql += "LEFT JOIN plan_outputs n ON n.kind = 'need' AND n.key = c.id "
+  }
+  const parts: string[] = []
+  if (q.role) {
+    parts.push('(n.key IS NOT NULL OR c.id IN (SELECT skill_id FROM roles WHERE role = ?))')
     params.push(q.role)
   }
   if (q.team) {
@@ -108,34 +109,58 @@ function overviewWhere(q: OverviewQuery): { sql: string; params: unknown[] } {
     const like = `%${q.search.replace(/[\\%_]/g, (m) => `\\${m}`)}%`
     params.push(like, like)
   }
-  return { sql: parts.length ? `WHERE ${parts.join(' AND ')}` : '', params }
+  if (parts.length) sql += `WHERE ${parts.join(' AND ')}`
+  return { sql, params }
 }
 
-const OVERVIEW_FROM = `FROM concepts c
-  LEFT JOIN curves cu ON cu.concept_id = c.id
-  LEFT JOIN plan_outputs n ON n.kind = 'needs' AND n.key = c.id`
+const OVERVIEW_COLUMNS = `c.id, c.pref_label AS label, c.type, cu.state, cu.annual_growth, cu.growth_low, cu.growth_high,
+  cu.half_life_months, cu.half_life_low, cu.half_life_high, cu.p_adjusted, cu.latest_share, cu.forecast_share12,
+  cu.change_month, n.rank, n.score, n.payload_json`
+
+/** Number of skills matching the overview's filters. */
+export function overviewCount(db: Db, q: OverviewQuery): number {
+  const from = overviewFrom(q)
+  return (stmt(db, `SELECT COUNT(*) AS n ${from.sql}`).get(...from.params) as { n: number }).n
+}
 
 /**
- * One page of the skills table, with the number of rows matching the filters.
+ * One page of the skills table, sorted in SQL (any sort but `coverage`).
  * Rows without a value in the sort column come last in either direction.
  */
-export function overviewRows(db: Db, q: OverviewQuery): { total: number; rows: OverviewDbRow[] } {
-  const where = overviewWhere(q)
-  const total = (stmt(db, `SELECT COUNT(*) AS n ${OVERVIEW_FROM} ${where.sql}`).get(...where.params) as { n: number }).n
-  const byRole = q.sort === 'coverage' && Boolean(q.role)
-  const expr = q.sort === 'coverage' ? coverageExpr(q.minGroup, byRole) : SORT_SQL[q.sort]
-  const sortParams = byRole ? [q.role, q.role] : []
+export function overviewRows(db: Db, q: OverviewQuery & { sort: Exclude<OverviewSort, 'coverage'> }): OverviewDbRow[] {
+  const from = overviewFrom(q)
+  const expr = SORT_SQL[q.sort]
   const dir = q.dir === 'desc' ? 'DESC' : 'ASC'
-  const rows = stmt(
+  return stmt(
     db,
-    `SELECT c.id, c.pref_label AS label, c.type, cu.state, cu.annual_growth, cu.growth_low, cu.growth_high,
-       cu.half_life_months, cu.half_life_low, cu.half_life_high, cu.p_adjusted, cu.latest_share, cu.forecast_share12,
-       cu.change_month, n.rank, n.score, n.payload_json
-     ${OVERVIEW_FROM} ${where.sql}
+    `SELECT ${OVERVIEW_COLUMNS} ${from.sql}
      ORDER BY (${expr}) IS NULL, ${expr} ${dir}, n.rank IS NULL, n.rank, c.id
      LIMIT ? OFFSET ?`,
-  ).all(...where.params, ...sortParams, q.limit, q.offset) as OverviewDbRow[]
-  return { total, rows }
+  ).all(...from.params, q.limit, q.offset) as OverviewDbRow[]
+}
+
+/** Ids of every skill matching the filters, in rank order (for sorts computed outside SQL). */
+export function overviewIds(db: Db, q: OverviewQuery): string[] {
+  const from = overviewFrom(q)
+  return stmt(db, `SELECT c.id ${from.sql} ORDER BY n.rank IS NULL, n.rank, c.id`).pluck().all(...from.params) as string[]
+}
+
+/** Overview rows of the given skills, in the order of `ids`. */
+export function overviewRowsByIds(db: Db, ids: readonly string[], q: Pick<OverviewQuery, 'role'>): OverviewDbRow[] {
+  const out = new Map<string, OverviewDbRow>()
+  const base = overviewFrom({ role: q.role })
+  for (let i = 0; i < ids.length; i += 100) {
+    const chunk = ids.slice(i, i + 100)
+    const marks = chunk.map(() => '?').join(',')
+    const sql = `SELECT ${OVERVIEW_COLUMNS} ${base.sql} ${base.sql.includes('WHERE') ? 'AND' : 'WHERE'} c.id IN (${marks})`
+    for (const r of stmt(db, sql).all(...base.params, ...chunk) as OverviewDbRow[]) out.set(r.id, r)
+  }
+  return ids.map((id) => out.get(id)).filter((r): r is OverviewDbRow => r !== undefined)
+}
+
+/** Every coverage row (the coverage sort needs all skills' figures to suppress consistently). */
+export function allCoverage(db: Db): CoverageRow[] {
+  return stmt(db, 'SELECT * FROM coverage ORDER BY skill_id, role').all() as CoverageRow[]
 }
 
 /** Number of skills per lifecycle state; skills without a fitted curve are counted as `null`. */

@@ -5,6 +5,7 @@
  * can pass fakes and a build without a stage answers "not built" (501) instead of failing.
  */
 import type { Db } from '../db/connection.ts'
+import { snoozeCourseFlag } from '../plan/snooze.ts'
 
 export interface ConceptChoice {
   /** new concept id; the taxonomy stage derives one from the label when absent */
@@ -22,7 +23,7 @@ export interface Actions {
 
 /** The stages' own functions, as far as this build has them. */
 export function defaultActions(): Actions {
-  return {}
+  return { snoozeCourseFlag: (db, courseId, note, untilIso, actor) => snoozeCourseFlag(db, courseId, note, untilIso, actor) }
 }
 
 /** Raised by a route when the action it needs is not part of this build. */

@@ -150,17 +150,34 @@ export function readCurveDetails(json: string | null | undefined): CurveDetails 
   }
 }
 
-/** The named numeric parts of a need's score (e.g. momentum, gap, exposure, internalPull). */
-export function scoreParts(payload: unknown): Record<string, number> {
+/** One part of a need's score as the plan stage stores it (src/plan/needs.ts ScorePart). */
+export interface ScorePartView {
+  value: number | null
+  weight: number | null
+  /** weight × value: the parts' contributions add up to the score */
+  contribution: number | null
+}
+
+/**
+ * The parts of a need's score from its payload: `parts: {name: {value, weight, contribution}}`
+ * (plain numbers are read as contributions).
+ */
+export function scoreParts(payload: unknown): Record<string, ScorePartView> {
   if (!isRecord(payload)) return {}
-  const parts = pick(payload, 'parts', 'components', 'scoreParts')
+  const parts = payload['parts']
   if (!isRecord(parts)) return {}
-  const out: Record<string, number> = {}
+  const out: Record<string, ScorePartView> = {}
   for (const [k, v] of Object.entries(parts)) {
-    const n = finite(isRecord(v) ? pick(v, 'value', 'weighted', 'score') : v)
-    if (n !== null) out[k] = n
+    if (isRecord(v)) out[k] = { value: finite(v['value']), weight: finite(v['weight']), contribution: finite(v['contribution']) }
+    else if (finite(v) !== null) out[k] = { value: null, weight: null, contribution: finite(v) }
   }
   return out
+}
+
+/** The plan's notes on a need (why a part is missing, what evidence is thin). */
+export function needNotes(payload: unknown): string[] {
+  if (!isRecord(payload) || !Array.isArray(payload['notes'])) return []
+  return payload['notes'].filter((n): n is string => typeof n === 'string')
 }
 
 /** Flattens a JSON object one level deep into display columns (nested objects become JSON text). */

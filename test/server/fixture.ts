@@ -6,10 +6,12 @@
  * bench/server.ts (which asks for thousands of extra skills). Rows that other stages' modules can
  * write are written through those modules; the rest is inserted here, for tests only.
  */
+import { parseConfig, type Config } from '../../src/config.ts'
 import type { Db } from '../../src/db/connection.ts'
 import { insertEvent } from '../../src/db/events.ts'
 import { finishRun, startRun } from '../../src/db/runs.ts'
-import { upsertCourses, upsertPeople, upsertRoles } from '../../src/db/workforce.ts'
+import { upsertCourses, upsertImportedAbilities, upsertPeople, upsertRoles } from '../../src/db/workforce.ts'
+import { runPlan } from '../../src/plan/stage.ts'
 
 export interface FixtureOptions {
   /** extra generated skills beyond the named ones (for scale tests and benchmarks) */
@@ -19,6 +21,9 @@ export interface FixtureOptions {
   postingsPerMonth?: number
   /** titles/bodies to use for some postings mentioning `kubernetes` (XSS tests) */
   hostilePostings?: { title: string; body: string }[]
+  /** run the real plan stage over the fixture (default true) */
+  plan?: boolean
+  config?: Config
 }
 
 export interface NamedSkill {
@@ -84,7 +89,6 @@ export function buildFixture(db: Db, opts: FixtureOptions = {}): { months: strin
       `INSERT INTO curves(concept_id, state, annual_growth, growth_low, growth_high, half_life_months, half_life_low, half_life_high, p_value, p_adjusted,
         latest_share, forecast_share12, forecast_method, change_month, emerged_month, details_json, fitted_at) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`,
     )
-    const plan = db.prepare('INSERT INTO plan_outputs(kind, key, rank, score, payload_json, updated_at) VALUES (?, ?, ?, ?, ?, ?)')
     const total = 400
     const forecastMonths = monthList(12, nextMonth(months[months.length - 1]!))
     skills.forEach((s, idx) => {
@@ -101,7 +105,9 @@ export function buildFixture(db: Db, opts: FixtureOptions = {}): { months: strin
       const forecast = forecastMonths.map((m, h) => {
         const mean = last * Math.exp(rate * (h + 1))
         const w = 0.08 * Math.sqrt(h + 1)
-        return { month: m, mean, lo80: mean * (1 - w), hi80: mean * (1 + w), lo95: mean * (1 - 1.53 * w), hi95: mean * (1 + 1.53 * w) }
+        const lo95 = mean * (1 - 1.53 * w)
+        const hi95 = mean * (1 + 1.53 * w)
+        return { month: m, monthsAhead: h + 1, mean, lo80: mean * (1 - w), hi80: mean * (1 + w), lo95, hi95, low: lo95, high: hi95 }
       })
       const declining = s.growth < 0
       const halfLife = declining ? Math.log(2) / -rate : null
@@ -112,14 +118,7 @@ export function buildFixture(db: Db, opts: FixtureOptions = {}): { months: strin
         JSON.stringify({ model: 'log-linear', fitted: { months, values: fitted }, forecast, tests: [{ name: 'Mann-Kendall', statistic: 3.1, p: 0.002 }] }),
         now,
       )
-      const parts = { momentum: Math.max(0, s.growth) / 3, gap: 0.2 + (idx % 5) / 10, exposure: s.base * 5, internalPull: 0.1 }
-      const score = 0.4 * parts.momentum + 0.3 * parts.gap + 0.2 * parts.exposure + 0.1 * parts.internalPull
-      plan.run('needs', s.id, null, score, JSON.stringify({ parts }), now)
     })
-    // ranks follow the score, as the plan stage assigns them
-    db.prepare(
-      "UPDATE plan_outputs SET rank = (SELECT COUNT(*) + 1 FROM plan_outputs p2 WHERE p2.kind = 'needs' AND (p2.score > plan_outputs.score OR (p2.score = plan_outputs.score AND p2.key < plan_outputs.key))) WHERE kind = 'needs'",
-    ).run()
     label.run('kubernetes', 'K8s', 'alt')
 
     // postings with mentions
@@ -153,15 +152,6 @@ export function buildFixture(db: Db, opts: FixtureOptions = {}): { months: strin
     cov.run('python', 'Data steward', 0.4, 9, 8, 1, 5.2, 0.65, 2.8, 1.2, 4.4, now)
     cov.run('cobol', 'Platform engineer', 0.3, 14, 11, 3, 8.1, 0.74, 2.9, 1.5, 4.6, now)
 
-    // declining -> rising pathways and a quarterly forecast
-    plan.run('pathways', 'cobol>kubernetes', 1, 0.8, JSON.stringify({ from: 'cobol', fromLabel: 'COBOL', fromState: 'declining', to: 'kubernetes', toLabel: 'Kubernetes', toState: 'rising', similarity: 0.42, people: 11, courses: ['c-k8s-basics'], reason: 'shared operations background' }), now)
-    plan.run('pathways', 'adobe-flash>typescript', 2, 0.6, JSON.stringify({ from: 'adobe-flash', fromLabel: 'Adobe Flash', to: 'terraform', toLabel: 'Terraform', similarity: 0.3, people: 2 }), now)
-    ;['2025-Q1', '2025-Q2', '2025-Q3', '2025-Q4'].forEach((q, i) => {
-      plan.run('reskilling-forecast', q, i + 1, null, JSON.stringify({ quarter: q, label: 'people to reskill', mean: 4 + i * 1.5, low: 2 + i, high: 7 + i * 2.2 }), now)
-    })
-    plan.run('course-flags', 'c-flash-101', 1, 0.9, JSON.stringify({ flags: [{ flag: 'fading-skill', reason: 'Adobe Flash is fading (half-life 14 months)' }, { flag: 'enrolment-drop', reason: 'enrolments fell 60% in a year' }] }), now)
-    plan.run('course-flags', 'c-cobol-maint', 2, 0.5, JSON.stringify({ flags: [{ flag: 'declining-skill', reason: 'COBOL is declining' }] }), now)
-
     // candidate terms
     const cand = db.prepare('INSERT INTO candidate_terms(term, score, recent_df, earlier_df, trend_json, examples_json) VALUES (?, ?, ?, ?, ?, ?)')
     cand.run('agent orchestration', 8.2, 34, 2, JSON.stringify([0, 0, 1, 1, 3, 5, 8, 12]), JSON.stringify(['Build agent orchestration for our member services', 'Experience with agent orchestration frameworks']))
@@ -186,7 +176,11 @@ export function buildFixture(db: Db, opts: FixtureOptions = {}): { months: strin
     { course_id: 'c-cobol-maint', title: 'Maintaining COBOL batch jobs', skills: ['cobol'], last_reviewed: '2022-02-01', enrollments_12m: 12, enrollments_prev_12m: 15, owner: 'Tomas Vell' },
     { course_id: 'c-k8s-basics', title: 'Kubernetes from the ground up', skills: ['kubernetes'], last_reviewed: '2024-09-01', enrollments_12m: 40, enrollments_prev_12m: 22, owner: 'Tomas Vell' },
   ])
-  db.prepare('UPDATE course_skills SET skill_id = skill_ref').run()
+  // abilities: platform engineers strong in COBOL, most without Kubernetes (reskilling candidates)
+  upsertImportedAbilities(db, [
+    ...Array.from({ length: 14 }, (_, i) => ({ person_id: `p${i}`, skill_id: 'cobol', theta: 0.8 + (i % 3) * 0.2, se: 0.3, assessed_at: '2024-11-01' })),
+    ...Array.from({ length: 12 }, (_, i) => ({ person_id: `p${i}`, skill_id: 'kubernetes', theta: i < 4 ? 1.2 : -0.6, se: 0.3, assessed_at: '2024-11-01' })),
+  ])
 
   const run1 = startRun(db, 'ingest', 'schedule', 'fernhollow-board')
   finishRun(db, run1, 'ok', { read: 30, new: 28, duplicate: 2, rejected: 0 })
@@ -199,6 +193,7 @@ export function buildFixture(db: Db, opts: FixtureOptions = {}): { months: strin
     insertEvent(db, 'curves.fitted', { skills: skills.length })
     db.prepare("INSERT INTO webhook_deliveries(event_id, endpoint, status, attempts, last_error) VALUES (?, 'http://127.0.0.1:9/hook', 'failed', 3, 'connection refused')").run(e1)
   })()
+  if (opts.plan !== false) runPlan(db, opts.config ?? parseConfig({}), new Date(now))
   return { months, skills: skills.map((s) => s.id) }
 }
 

@@ -6,20 +6,17 @@
  */
 import type { Hono, MiddlewareHandler } from 'hono'
 import { html } from 'hono/html'
-import { allCourses, courseById, flagNotes, planOutputs, type FlagNoteRow } from '../../db/dashboard.ts'
+import { allCourses, courseById, planOutputs } from '../../db/dashboard.ts'
+import type { CourseFlag } from '../../plan/course-flags.ts'
+import { SnoozeError, activeSnoozes } from '../../plan/snooze.ts'
 import { csv, wantsCsv, withQuery, type Ctx, type Deps, type Env } from '../deps.ts'
 import * as f from '../format.ts'
 import { csrfField, csvRows, dataTable, notice, page, type Column, type Html } from '../layout.ts'
 import { isRecord, parseJson } from '../payloads.ts'
 import { readWrite, writeResult, type WriteOutcome } from './write.ts'
 
-/** plan_outputs kinds that hold course flags (the first with rows wins). */
-export const COURSE_FLAG_KINDS = ['course-flags', 'course-flag', 'course_flags', 'courses'] as const
-
-export interface CourseFlag {
-  flag: string
-  reason: string
-}
+/** The plan stage writes one 'course-flag' row per course (src/plan/stage.ts). */
+export const COURSE_FLAG_KIND = 'course-flag'
 
 export interface CourseView {
   courseId: string
@@ -28,11 +25,14 @@ export interface CourseView {
   lastReviewed: string | null
   enrollments12m: number | null
   enrollmentsPrev12m: number | null
-  skills: string[]
-  flags: CourseFlag[]
-  score: number | null
-  snoozedUntil: string | null
-  snoozeNote: string | null
+  /** retire | refresh | keep, or null before the plan ran */
+  flag: string | null
+  reasons: string[]
+  skills: { id: string | null; label: string; state: string | null; inferred: boolean; halfLifeMonths: number | null }[]
+  halving: { months: number | null; low: number | null; high: number | null } | null
+  enrolmentTrend: string | null
+  add: { id: string; label: string }[]
+  snooze: { until: string; note: string; actor: string; at: string } | null
 }
 
 export interface CoursesData {
@@ -40,78 +40,59 @@ export interface CoursesData {
   owners: string[]
   flagNames: string[]
   courses: CourseView[]
-  counts: { courses: number; flagged: number; snoozed: number }
+  counts: { courses: number; retire: number; refresh: number; snoozed: number }
   notes: string[]
 }
 
-/** Reads a course's flags from a plan payload: `flags: [{flag, reason}]`, `flags: ['x']` or `flag` + `reasons`. */
-export function readFlags(payload: unknown): CourseFlag[] {
-  if (!isRecord(payload)) return []
-  const list = payload['flags']
-  const out: CourseFlag[] = []
-  const reasonOf = (o: Record<string, unknown>): string => {
-    const r = o['reason'] ?? o['reasons'] ?? o['why'] ?? o['text']
-    return Array.isArray(r) ? r.filter((x) => typeof x === 'string').join('; ') : typeof r === 'string' ? r : ''
-  }
-  if (Array.isArray(list)) {
-    for (const item of list) {
-      if (typeof item === 'string') out.push({ flag: item, reason: '' })
-      else if (isRecord(item)) {
-        const name = item['flag'] ?? item['kind'] ?? item['type'] ?? item['code']
-        if (typeof name === 'string') out.push({ flag: name, reason: reasonOf(item) })
-      }
-    }
-  } else if (typeof payload['flag'] === 'string') {
-    out.push({ flag: payload['flag'], reason: reasonOf(payload) })
-  }
-  return out
-}
+const FLAG_ORDER: Record<string, number> = { retire: 0, refresh: 1, keep: 2 }
 
-function activeSnooze(notes: readonly FlagNoteRow[], nowIso: string): FlagNoteRow | null {
-  for (const n of notes) {
-    if (n.action === 'unsnooze') return null
-    if (n.action === 'snooze') return n.until !== null && n.until > nowIso ? n : null
-  }
-  return null
+function skillsOf(p: Partial<CourseFlag>): CourseView['skills'] {
+  return Array.isArray(p.skills)
+    ? p.skills.map((s) => ({ id: s.id ?? null, label: String(s.label ?? s.ref ?? ''), state: s.state ?? null, inferred: Boolean(s.inferred), halfLifeMonths: s.halfLifeMonths ?? null }))
+    : []
 }
 
 export function buildCourses(deps: Deps, filters: CoursesData['filters']): CoursesData {
   const { db } = deps
-  let flagRows: ReturnType<typeof planOutputs> = []
-  for (const kind of COURSE_FLAG_KINDS) {
-    flagRows = planOutputs(db, kind, 100_000)
-    if (flagRows.length) break
+  const flagRows = planOutputs(db, COURSE_FLAG_KIND, 1_000_000)
+  const flagByCourse = new Map<string, Partial<CourseFlag>>()
+  for (const r of flagRows) {
+    const p = parseJson(r.payload_json)
+    if (isRecord(p)) flagByCourse.set(r.key, p as Partial<CourseFlag>)
   }
-  const flagsByCourse = new Map(flagRows.map((r) => [r.key, { flags: readFlags(parseJson(r.payload_json)), score: r.score }]))
-  const notesByCourse = new Map<string, FlagNoteRow[]>()
-  for (const n of flagNotes(db, undefined, 100_000)) {
-    if (!notesByCourse.has(n.course_id)) notesByCourse.set(n.course_id, [])
-    notesByCourse.get(n.course_id)!.push(n)
-  }
-  const now = new Date().toISOString()
+  const currentFlags = new Map([...flagByCourse].filter(([, p]) => typeof p.flag === 'string').map(([k, p]) => [k, p.flag as string]))
+  const snoozes = activeSnoozes(db, currentFlags)
   const all: CourseView[] = allCourses(db).map((c) => {
-    const fl = flagsByCourse.get(c.course_id)
-    const snooze = activeSnooze(notesByCourse.get(c.course_id) ?? [], now)
+    const p = flagByCourse.get(c.course_id) ?? {}
+    const sn = snoozes.get(c.course_id)
     return {
       courseId: c.course_id, title: c.title, owner: c.owner, lastReviewed: c.last_reviewed,
       enrollments12m: c.enrollments_12m, enrollmentsPrev12m: c.enrollments_prev_12m,
-      skills: c.skills ? c.skills.split('|') : [], flags: fl?.flags ?? [], score: fl?.score ?? null,
-      snoozedUntil: snooze?.until ?? null, snoozeNote: snooze?.note ?? null,
+      flag: typeof p.flag === 'string' ? p.flag : null,
+      reasons: Array.isArray(p.reasons) ? p.reasons.filter((x): x is string => typeof x === 'string') : [],
+      skills: skillsOf(p).length ? skillsOf(p) : (c.skills ? c.skills.split('|').map((id) => ({ id, label: id, state: null, inferred: false, halfLifeMonths: null })) : []),
+      halving: isRecord(p.halving) ? { months: p.halving.months ?? null, low: p.halving.low ?? null, high: p.halving.high ?? null } : null,
+      enrolmentTrend: isRecord(p.enrolment) && typeof p.enrolment.trend === 'string' ? p.enrolment.trend : null,
+      add: Array.isArray(p.add) ? p.add.map((a) => ({ id: a.id, label: a.label })) : [],
+      snooze: sn ? { until: sn.until, note: sn.note, actor: sn.actor, at: sn.at } : null,
     }
   })
   const owners = [...new Set(all.map((c) => c.owner).filter(Boolean))].sort()
-  const flagNames = [...new Set(all.flatMap((c) => c.flags.map((x) => x.flag)))].sort()
+  const flagNames = [...new Set(all.map((c) => c.flag).filter((x): x is string => x !== null))].sort((a, b) => (FLAG_ORDER[a] ?? 9) - (FLAG_ORDER[b] ?? 9))
   const courses = all
     .filter((c) => !filters.owner || c.owner === filters.owner)
-    .filter((c) => !filters.flag || (filters.flag === 'none' ? c.flags.length === 0 : c.flags.some((x) => x.flag === filters.flag)))
-    .filter((c) => filters.showSnoozed || !c.snoozedUntil)
-    .sort((a, b) => b.flags.length - a.flags.length || (b.score ?? -Infinity) - (a.score ?? -Infinity) || a.title.localeCompare(b.title))
+    .filter((c) => !filters.flag || (filters.flag === 'none' ? c.flag === null : c.flag === filters.flag))
+    .filter((c) => filters.showSnoozed || !c.snooze)
+    .sort((a, b) => (FLAG_ORDER[a.flag ?? ''] ?? 9) - (FLAG_ORDER[b.flag ?? ''] ?? 9) || (a.halving?.months ?? Infinity) - (b.halving?.months ?? Infinity) || a.title.localeCompare(b.title))
   const notes: string[] = []
   if (all.length === 0) notes.push('No courses imported yet: run `tides import courses FILE`.')
   else if (flagRows.length === 0) notes.push('No course flags yet: run `tides run plan`.')
   return {
     filters, owners, flagNames, courses,
-    counts: { courses: all.length, flagged: all.filter((c) => c.flags.length).length, snoozed: all.filter((c) => c.snoozedUntil).length },
+    counts: {
+      courses: all.length, retire: all.filter((c) => c.flag === 'retire').length, refresh: all.filter((c) => c.flag === 'refresh').length,
+      snoozed: all.filter((c) => c.snooze).length,
+    },
     notes,
   }
 }
@@ -122,29 +103,50 @@ function parseFilters(c: Ctx): CoursesData['filters'] {
   return { owner, flag, showSnoozed: c.req.query('snoozed') === '1' }
 }
 
+const FLAG_SHAPES: Record<string, string> = { retire: '✕', refresh: '↻', keep: '✓' }
+
+export function flagMark(flag: string | null): Html {
+  if (!flag) return html`<span class="muted">not assessed</span>`
+  return html`<span class="flag flag-${FLAG_SHAPES[flag] ? flag : 'other'}"><span aria-hidden="true">${FLAG_SHAPES[flag] ?? '⚑'}</span> ${flag}</span>`
+}
+
 const COLUMNS: Column<CourseView>[] = [
   { key: 'courseId', label: 'Course', value: (r) => r.courseId, cell: (r) => html`<strong>${r.title}</strong><br><small>${r.courseId}</small>` },
   { key: 'title', label: 'Title', value: (r) => r.title, csvOnly: true },
   { key: 'owner', label: 'Owner', value: (r) => r.owner },
-  { key: 'skills', label: 'Skills', value: (r) => r.skills.join('|'), cell: (r) => html`${r.skills.map((s, i) => html`${i ? ', ' : ''}<a href="/skills/${encodeURIComponent(s)}">${s}</a>`)}` },
+  { key: 'flag', label: 'Flag', value: (r) => r.flag ?? '', cell: (r) => flagMark(r.flag) },
   {
-    key: 'flags', label: 'Flags and reasons', value: (r) => r.flags.map((x) => (x.reason ? `${x.flag}: ${x.reason}` : x.flag)).join('; '),
-    cell: (r) => (r.flags.length ? html`<ul class="flags">${r.flags.map((x) => html`<li><span class="flag"><span aria-hidden="true">⚑</span> ${x.flag}</span>${x.reason ? html` ${x.reason}` : ''}</li>`)}</ul>` : html`<span class="muted">no flag</span>`),
+    key: 'reasons', label: 'Reasons', value: (r) => r.reasons.join(' '),
+    cell: (r) => (r.reasons.length ? html`<ul class="reasons">${r.reasons.map((x) => html`<li>${x}</li>`)}</ul>` : '–'),
   },
+  {
+    key: 'skills', label: 'Skills', value: (r) => r.skills.map((s) => s.id ?? s.label).join('|'),
+    cell: (r) => html`${r.skills.map((s, i) => html`${i ? ', ' : ''}${s.id ? html`<a href="/skills/${encodeURIComponent(s.id)}">${s.label}</a>` : s.label}${s.state ? html` <small>(${s.state})</small>` : ''}`)}`,
+  },
+  {
+    key: 'halvingMonths', label: 'Demand halves in', numeric: true, value: (r) => r.halving?.months ?? null,
+    cell: (r) => (r.halving?.months != null ? html`${f.months(r.halving.months)}<br><small>${f.interval(r.halving.low, r.halving.high, f.months)}</small>` : '–'),
+  },
+  { key: 'halvingLow', label: 'Halving low', value: (r) => r.halving?.low ?? null, csvOnly: true },
+  { key: 'halvingHigh', label: 'Halving high', value: (r) => r.halving?.high ?? null, csvOnly: true },
+  { key: 'enrollments12m', label: 'Enrolments 12m (year before)', numeric: true, value: (r) => r.enrollments12m, cell: (r) => `${f.num(r.enrollments12m)} (${f.num(r.enrollmentsPrev12m)})` },
+  { key: 'enrollmentsPrev12m', label: 'Enrolments year before', value: (r) => r.enrollmentsPrev12m, csvOnly: true },
+  { key: 'add', label: 'Could add', value: (r) => r.add.map((a) => a.id).join('|'), cell: (r) => html`${r.add.map((a, i) => html`${i ? ', ' : ''}<a href="/skills/${encodeURIComponent(a.id)}">${a.label}</a>`)}` },
   { key: 'lastReviewed', label: 'Last reviewed', value: (r) => r.lastReviewed ?? '' },
-  { key: 'enrollments12m', label: 'Enrolments 12m (before)', numeric: true, value: (r) => r.enrollments12m, cell: (r) => `${f.num(r.enrollments12m)} (${f.num(r.enrollmentsPrev12m)})` },
-  { key: 'snoozedUntil', label: 'Snoozed until', value: (r) => r.snoozedUntil ?? '', cell: (r) => (r.snoozedUntil ? html`${r.snoozedUntil.slice(0, 10)}<br><small>${r.snoozeNote ?? ''}</small>` : '–') },
+  { key: 'snoozedUntil', label: 'Snoozed until', value: (r) => r.snooze?.until ?? '', cell: (r) => (r.snooze ? html`${r.snooze.until.slice(0, 10)}<br><small>${r.snooze.note} (${r.snooze.actor})</small>` : '–') },
+  { key: 'snoozeNote', label: 'Snooze note', value: (r) => r.snooze?.note ?? '', csvOnly: true },
 ]
 
 function snoozeForm(c: Ctx, r: CourseView): Html {
-  if (!r.flags.length) return html``
+  if (r.flag !== 'retire' && r.flag !== 'refresh') return html``
   const session = c.get('session')
   if (!session) return html`<a href="/login?next=/courses">Sign in to snooze</a>`
   const id = `snooze-${r.courseId.replace(/[^\w-]/g, '_')}`
   const until = new Date(Date.now() + 90 * 86_400_000).toISOString().slice(0, 10)
   return html`<form method="post" action="/courses/${encodeURIComponent(r.courseId)}/snooze" class="snooze">${csrfField(session)}
-<label for="${id}-note">Note</label> <input id="${id}-note" name="note" required maxlength="1000" placeholder="why this can wait">
+<label for="${id}-note">Note</label> <input id="${id}-note" name="note" required maxlength="2000" placeholder="why this can wait">
 <label for="${id}-until">until</label> <input id="${id}-until" type="date" name="until" value="${until}" required>
+<label for="${id}-who">by</label> <input id="${id}-who" name="who" maxlength="200" placeholder="your name (optional)" autocomplete="name">
 <button type="submit">Snooze</button></form>`
 }
 
@@ -153,25 +155,13 @@ export function renderCourses(c: Ctx, d: CoursesData, outcome?: WriteOutcome): H
   const sel = (name: string, label: string, values: string[], cur?: string, extra: [string, string][] = []) =>
     html`<label>${label} <select name="${name}"><option value="">all</option>${extra.map(([v, t]) => html`<option value="${v}"${cur === v ? html` selected` : ''}>${t}</option>`)}${values.map((v) => html`<option value="${v}"${cur === v ? html` selected` : ''}>${v}</option>`)}</select></label>`
   const body = html`${outcome ? writeResult(outcome) : ''}${d.notes.map((n) => notice('warn', n))}
-<p>${d.counts.courses} courses · ${d.counts.flagged} flagged · ${d.counts.snoozed} snoozed. Flags point at courses tied to fading skills or losing enrolments; a course owner decides what to do.</p>
+<p>${d.counts.courses} courses · ${d.counts.retire} flagged retire · ${d.counts.refresh} flagged refresh · ${d.counts.snoozed} snoozed (hidden unless shown). Flags point at courses whose skills lose demand; the course owner decides what to do, and can snooze a flag with a note.</p>
 <form class="filters" method="get" action="/courses" aria-label="Filter courses">
-${sel('owner', 'Owner', d.owners, d.filters.owner)} ${sel('flag', 'Flag', d.flagNames, d.filters.flag, [['none', 'no flag']])}
+${sel('owner', 'Owner', d.owners, d.filters.owner)} ${sel('flag', 'Flag', d.flagNames, d.filters.flag, [['none', 'not assessed']])}
 <label><input type="checkbox" name="snoozed" value="1"${d.filters.showSnoozed ? html` checked` : ''}> show snoozed</label>
 <button type="submit">Apply</button> <a href="/courses">Clear</a></form>
 ${dataTable({ id: 'courses', caption: 'Courses and their flags', columns, rows: d.courses, csv: withQuery(c, { format: 'csv' }, '/api/courses'), empty: 'No courses match these filters.' })}`
   return page({ title: 'Courses', active: 'courses', session: c.get('session'), path: c.req.path, body, scripts: ['forms.js'], api: withQuery(c, {}, '/api/courses') })
-}
-
-/** Validates a snooze request's fields; returns an error message or the clean values. */
-export function validateSnooze(note: unknown, until: unknown, now = new Date()): { note: string; untilIso: string } | string {
-  if (typeof note !== 'string' || note.trim() === '') return 'note: write why the flag can wait'
-  if (note.length > 1000) return 'note: at most 1000 characters'
-  if (typeof until !== 'string' || !/^\d{4}-\d{2}-\d{2}(T[\d:.]+Z)?$/.test(until)) return 'until: a date as YYYY-MM-DD'
-  const t = Date.parse(until.length === 10 ? `${until}T00:00:00Z` : until)
-  if (Number.isNaN(t)) return 'until: not a valid date'
-  if (t <= now.getTime()) return 'until: must be in the future'
-  if (t > now.getTime() + 2 * 366 * 86_400_000) return 'until: at most two years ahead'
-  return { note: note.trim(), untilIso: new Date(t).toISOString() }
 }
 
 export function mountCourses(app: Hono<Env>, deps: Deps, guard: MiddlewareHandler<Env>): void {
@@ -190,12 +180,18 @@ export function mountCourses(app: Hono<Env>, deps: Deps, guard: MiddlewareHandle
     const input = await readWrite(c)
     const run = (): WriteOutcome => {
       if (!courseById(deps.db, id)) return { status: 404, message: `no course with id "${id}"` }
-      const clean = validateSnooze(input['note'], input['until'])
-      if (typeof clean === 'string') return { status: 400, message: clean }
+      const note = typeof input['note'] === 'string' ? input['note'] : ''
+      const until = typeof input['until'] === 'string' ? input['until'] : ''
       if (!deps.actions.snoozeCourseFlag) return { status: 501, message: 'snoozing is not built in this version' }
-      deps.actions.snoozeCourseFlag(deps.db, id, clean.note, clean.untilIso, c.get('actor'))
+      try {
+        const who = typeof input['who'] === 'string' ? input['who'].trim().slice(0, 200) : ''
+        deps.actions.snoozeCourseFlag(deps.db, id, note, until, who ? `${who} (${c.get('actor')})` : c.get('actor'))
+      } catch (err) {
+        if (err instanceof SnoozeError) return { status: 400, message: err.message }
+        throw err
+      }
       deps.afterWrite()
-      return { status: 200, message: `course ${id} snoozed until ${clean.untilIso.slice(0, 10)}` }
+      return { status: 200, message: `course ${id} snoozed until ${until}` }
     }
     const outcome = run()
     if (c.req.path.startsWith('/api/')) return c.json(outcome.status === 200 ? { ok: true, message: outcome.message } : { error: outcome.message }, outcome.status)

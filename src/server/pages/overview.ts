@@ -9,15 +9,15 @@
 import type { Hono } from 'hono'
 import { html } from 'hono/html'
 import {
-  OVERVIEW_SORTS, coverageFor, demandFor, filterChoices, overviewRows, stateCounts,
+  OVERVIEW_SORTS, allCoverage, coverageFor, demandFor, filterChoices, overviewCount, overviewIds, overviewRows, overviewRowsByIds, stateCounts,
   type OverviewDbRow, type OverviewQuery, type OverviewSort,
 } from '../../db/dashboard.ts'
 import { latestRuns, type JobRun } from '../../db/runs.ts'
 import { csv, intParam, minGroup, wantsCsv, withQuery, type Ctx, type Deps, type Env, type NextRun } from '../deps.ts'
 import * as f from '../format.ts'
 import { notice, page, stateMark, type Html } from '../layout.ts'
-import { parseJson, scoreParts } from '../payloads.ts'
-import { aggregateCoverage, type CoverageFigure } from '../privacy.ts'
+import { needNotes, parseJson, scoreParts, type ScorePartView } from '../payloads.ts'
+import { coverageBySkill, figureFor, type CoverageFigure } from '../privacy.ts'
 import { sparkline } from '../sparkline.ts'
 
 export const PAGE_SIZES = [25, 50, 100, 200] as const
@@ -39,13 +39,14 @@ export interface NeedRow {
   changeMonth: string | null
   coverage: CoverageFigure | null
   score: number | null
-  parts: Record<string, number>
+  parts: Record<string, ScorePartView>
+  notes: string[]
   /** external share per month, oldest first */
   trend: (number | null)[]
 }
 
 export interface OverviewData {
-  query: Omit<OverviewQuery, 'limit' | 'offset' | 'minGroup'> & { page: number; pageSize: number }
+  query: Omit<OverviewQuery, 'limit' | 'offset'> & { page: number; pageSize: number }
   total: number
   pages: number
   rows: NeedRow[]
@@ -58,7 +59,7 @@ export interface OverviewData {
 }
 
 /** Reads and bounds the overview's query parameters; unknown values fall back to defaults. */
-export function parseOverviewQuery(c: Ctx, deps: Deps): OverviewQuery & { page: number; pageSize: number } {
+export function parseOverviewQuery(c: Ctx): OverviewQuery & { page: number; pageSize: number } {
   const sortParam = c.req.query('sort') ?? 'rank'
   const sort = (OVERVIEW_SORTS as readonly string[]).includes(sortParam) ? (sortParam as OverviewSort) : 'rank'
   const defaultDir = sort === 'rank' || sort === 'label' || sort === 'state' ? 'asc' : 'desc'
@@ -71,7 +72,7 @@ export function parseOverviewQuery(c: Ctx, deps: Deps): OverviewQuery & { page: 
   }
   return {
     sort, dir, role: text('role'), team: text('team'), type: text('type'), state: text('state'), search: text('q'),
-    limit: size, offset: (pageNo - 1) * size, page: pageNo, pageSize: size, minGroup: minGroup(deps),
+    limit: size, offset: (pageNo - 1) * size, page: pageNo, pageSize: size,
   }
 }
 
@@ -82,15 +83,32 @@ function toNeed(r: OverviewDbRow, trend: (number | null)[], coverage: CoverageFi
     annualGrowth: r.annual_growth, growthInterval: pair(r.growth_low, r.growth_high),
     halfLifeMonths: r.half_life_months, halfLifeInterval: pair(r.half_life_low, r.half_life_high),
     pAdjusted: r.p_adjusted, latestShare: r.latest_share, forecastShare12: r.forecast_share12, changeMonth: r.change_month,
-    coverage, score: r.score, parts: scoreParts(parseJson(r.payload_json)), trend,
+    coverage, score: r.score, parts: scoreParts(parseJson(r.payload_json)), notes: needNotes(parseJson(r.payload_json)), trend,
   }
+}
+
+/**
+ * Rows of the page (or all rows) in the requested order. Coverage is sorted here rather than in SQL,
+ * on the figures as displayed, so the order never reveals a suppressed value.
+ */
+function pageRows(deps: Deps, q: OverviewQuery): { total: number; rows: OverviewDbRow[]; coverage: ReturnType<typeof coverageBySkill> | null } {
+  const { db } = deps
+  if (q.sort !== 'coverage') return { total: overviewCount(db, q), rows: overviewRows(db, { ...q, sort: q.sort }), coverage: null }
+  const ids = overviewIds(db, q)
+  const coverage = coverageBySkill(allCoverage(db), minGroup(deps))
+  const value = (id: string) => figureFor(coverage.get(id), q.role)?.coverage ?? null
+  const sign = q.dir === 'desc' ? -1 : 1
+  const order = ids.map((id, i) => ({ id, i, v: value(id) }))
+  order.sort((a, b) => (a.v === null ? (b.v === null ? a.i - b.i : 1) : b.v === null ? -1 : sign * (a.v - b.v) || a.i - b.i))
+  const slice = order.slice(q.offset, q.offset + q.limit).map((o) => o.id)
+  return { total: ids.length, rows: overviewRowsByIds(db, slice, q), coverage }
 }
 
 /** The overview's data: one page of rows (or all matching rows for CSV, without trends). */
 export function buildOverview(deps: Deps, q: OverviewQuery & { page: number; pageSize: number }, all = false): OverviewData {
   const { db } = deps
   const query = all ? { ...q, limit: CSV_MAX_ROWS, offset: 0 } : q
-  const { total, rows } = overviewRows(db, query)
+  const { total, rows, coverage: known } = pageRows(deps, query)
   const ids = rows.map((r) => r.id)
   const trends = new Map<string, Map<string, number>>()
   const monthSet = new Set<string>()
@@ -102,16 +120,10 @@ export function buildOverview(deps: Deps, q: OverviewQuery & { page: number; pag
     }
   }
   const monthsSorted = [...monthSet].sort()
-  const coverageRows = coverageFor(db, ids, q.role)
-  const bySkill = new Map<string, typeof coverageRows>()
-  for (const r of coverageRows) {
-    if (!bySkill.has(r.skill_id)) bySkill.set(r.skill_id, [])
-    bySkill.get(r.skill_id)!.push(r)
-  }
-  const min = minGroup(deps)
+  const coverage = known ?? coverageBySkill(coverageFor(db, ids), minGroup(deps))
   const needRows = rows.map((r) => {
     const t = trends.get(r.id)
-    return toNeed(r, t ? monthsSorted.map((m) => t.get(m) ?? null) : [], aggregateCoverage(bySkill.get(r.id) ?? [], min))
+    return toNeed(r, t ? monthsSorted.map((m) => t.get(m) ?? null) : [], figureFor(coverage.get(r.id), q.role))
   })
   const counts = stateCounts(db)
   const runs = latestRuns(db)
@@ -121,7 +133,7 @@ export function buildOverview(deps: Deps, q: OverviewQuery & { page: number; pag
   if (totalSkills === 0) notes.push('No taxonomy loaded yet: run `tides import taxonomy FILE` or `tides demo`.')
   else if (counts.every((s) => s.state === null)) notes.push('No curves yet: run `tides run fit`.')
   if (totalSkills > 0 && rows.length > 0 && rows.every((r) => r.rank === null)) notes.push('No needs ranking yet: run `tides run plan`.')
-  const { limit: _l, offset: _o, minGroup: _m, ...shown } = q
+  const { limit: _l, offset: _o, ...shown } = q
   return {
     query: shown,
     total,
@@ -141,15 +153,20 @@ export function overviewCsvRows(data: OverviewData): { rows: Record<string, unkn
   const partNames = [...new Set(data.rows.flatMap((r) => Object.keys(r.parts)))].sort()
   const columns = [
     'rank', 'id', 'label', 'type', 'state', 'annualGrowth', 'growthLow', 'growthHigh', 'halfLifeMonths', 'halfLifeLow', 'halfLifeHigh',
-    'pAdjusted', 'latestShare', 'forecastShare12', 'changeMonth', 'coverage', 'coverageNote', 'score', ...partNames.map((p) => `part_${p}`),
+    'pAdjusted', 'latestShare', 'forecastShare12', 'changeMonth', 'coverage', 'gap', 'gapLow', 'gapHigh', 'coverageNote', 'score',
+    ...partNames.flatMap((p) => [`${p}_value`, `${p}_weight`, `${p}_contribution`]), 'notes',
   ]
   const rows = data.rows.map((r) => ({
     rank: r.rank, id: r.id, label: r.label, type: r.type, state: r.state ?? '',
     annualGrowth: r.annualGrowth, growthLow: r.growthInterval?.[0] ?? null, growthHigh: r.growthInterval?.[1] ?? null,
     halfLifeMonths: r.halfLifeMonths, halfLifeLow: r.halfLifeInterval?.[0] ?? null, halfLifeHigh: r.halfLifeInterval?.[1] ?? null,
     pAdjusted: r.pAdjusted, latestShare: r.latestShare, forecastShare12: r.forecastShare12, changeMonth: r.changeMonth ?? '',
-    coverage: r.coverage?.coverage ?? null, coverageNote: r.coverage?.note ?? '', score: r.score,
-    ...Object.fromEntries(partNames.map((p) => [`part_${p}`, r.parts[p] ?? null])),
+    coverage: r.coverage?.coverage ?? null, gap: r.coverage?.gap ?? null, gapLow: r.coverage?.gapLow ?? null, gapHigh: r.coverage?.gapHigh ?? null,
+    coverageNote: r.coverage?.note ?? '', score: r.score,
+    ...Object.fromEntries(
+      partNames.flatMap((p) => [[`${p}_value`, r.parts[p]?.value ?? null], [`${p}_weight`, r.parts[p]?.weight ?? null], [`${p}_contribution`, r.parts[p]?.contribution ?? null]]),
+    ),
+    notes: r.notes.join('; '),
   }))
   return { rows, columns }
 }
@@ -176,12 +193,15 @@ function growthCell(r: NeedRow): Html {
 function coverageCell(cov: CoverageFigure | null): Html | string {
   if (!cov) return '–'
   if (cov.suppressed) return html`<span class="suppressed" title="${cov.note ?? ''}">hidden (small group)</span>`
-  return html`${f.share(cov.coverage, 0)}<br><small>gap ${f.num(cov.gap)} people (${f.num(cov.gapLow)} to ${f.num(cov.gapHigh)})</small>`
+  if (cov.coverage === null) return html`<span class="muted">nobody assessed</span>`
+  return html`${f.share(cov.coverage, 0)}<br><small>gap ${f.num(cov.gap)} of ${cov.assessed} assessed (${f.num(cov.gapLow)} to ${f.num(cov.gapHigh)})</small>`
 }
 
 function partsCell(r: NeedRow): Html {
   const parts = Object.entries(r.parts)
-  return html`<strong>${f.num(r.score, 3)}</strong>${parts.length ? html`<br><small class="parts">${parts.map(([k, v], i) => html`${i ? ' · ' : ''}${k} ${f.num(v, 2)}`)}</small>` : ''}`
+  return html`<strong>${f.num(r.score, 3)}</strong>${parts.length
+    ? html`<br><small class="parts">${parts.map(([k, v], i) => html`${i ? ' + ' : ''}<span title="value ${f.num(v.value, 3)} × weight ${f.num(v.weight, 2)}">${k} ${f.num(v.contribution, 3)}</span>`)}</small>`
+    : ''}${r.notes.length ? html`<br><small class="muted">${r.notes.join('; ')}</small>` : ''}`
 }
 
 function header(c: Ctx, data: OverviewData): Html {
@@ -261,9 +281,9 @@ ${pager(c, data)}
 }
 
 export function mountOverview(app: Hono<Env>, deps: Deps): void {
-  app.get('/', (c) => c.html(renderOverview(c, buildOverview(deps, parseOverviewQuery(c, deps)))))
+  app.get('/', (c) => c.html(renderOverview(c, buildOverview(deps, parseOverviewQuery(c)))))
   app.get('/api/overview', (c) => {
-    const q = parseOverviewQuery(c, deps)
+    const q = parseOverviewQuery(c)
     if (wantsCsv(c)) {
       const { rows, columns } = overviewCsvRows(buildOverview(deps, q, true))
       return csv(c, 'skill-needs', rows, columns)

@@ -14,8 +14,8 @@ import {
 import { csv, minGroup, wantsCsv, type Ctx, type Deps, type Env } from '../deps.ts'
 import * as f from '../format.ts'
 import { csvRows, dataTable, notice, page, stateMark, type Column, type Html } from '../layout.ts'
-import { parseJson, readCurveDetails, scoreParts, type TestResult } from '../payloads.ts'
-import { coverageFigure, type CoverageFigure } from '../privacy.ts'
+import { needNotes, parseJson, readCurveDetails, scoreParts, type ScorePartView, type TestResult } from '../payloads.ts'
+import { skillCoverage, type CoverageFigure } from '../privacy.ts'
 import { describeCurve, type CurveSummary } from './skill-words.ts'
 
 export interface SkillChart {
@@ -42,7 +42,7 @@ export interface SkillData {
   altLabels: string[]
   broader: { id: string; label: string }[]
   curve: CurveSummary | null
-  need: { rank: number | null; score: number | null; parts: Record<string, number> } | null
+  need: { rank: number | null; score: number | null; parts: Record<string, ScorePartView>; notes: string[] } | null
   words: string[]
   tests: TestResult[]
   chart: SkillChart
@@ -104,8 +104,8 @@ export function buildSkill(deps: Deps, id: string): SkillData | null {
         model: details.model,
       }
     : null
-  const need = planOutput(db, 'needs', id)
-  const min = minGroup(deps)
+  const need = planOutput(db, 'need', id)
+  const coverage = skillCoverage(coverageFor(db, [id]), minGroup(deps))
   const labels = conceptLabels(db, id)
   const notes: string[] = []
   if (!curve) notes.push('No curve for this skill yet: run `tides run fit`.')
@@ -117,11 +117,11 @@ export function buildSkill(deps: Deps, id: string): SkillData | null {
     altLabels: labels.filter((l) => l.kind === 'alt').map((l) => l.label),
     broader: broaderOf(db, id),
     curve,
-    need: need ? { rank: need.rank, score: need.score, parts: scoreParts(parseJson(need.payload_json)) } : null,
+    need: need ? { rank: need.rank, score: need.score, parts: scoreParts(parseJson(need.payload_json)), notes: needNotes(parseJson(need.payload_json)) } : null,
     words: curve ? describeCurve(curve, deps.config.curves.q) : [],
     tests: details.tests,
     chart: buildChart(deps, id, details, curveRow?.change_month ?? null),
-    coverage: coverageFor(db, [id]).map((r) => coverageFigure(r, min)),
+    coverage: coverage.total ? [...coverage.byRole, coverage.total] : coverage.byRole,
     adjacent: coMentioned(db, id).map((a) => ({ id: a.id, label: a.label, state: a.state, together: a.together, share: a.together / a.base })),
     courses: coursesForSkill(db, id).map((c) => ({
       courseId: c.course_id, title: c.title, owner: c.owner, lastReviewed: c.last_reviewed, enrollments12m: c.enrollments_12m, inferred: c.inferred === 1,
@@ -159,13 +159,13 @@ const SERIES_COLUMNS: Column<{ month: string; i: number; c: SkillChart }>[] = [
 ]
 
 const COVERAGE_COLUMNS: Column<CoverageFigure>[] = [
-  { key: 'role', label: 'Role', value: (r) => r.role },
+  { key: 'role', label: 'Role', value: (r) => r.role ?? 'all roles', cell: (r) => (r.role === null ? html`<strong>all roles</strong>` : r.role) },
   { key: 'requiredTheta', label: 'Required θ', numeric: true, value: (r) => r.requiredTheta, cell: (r) => f.num(r.requiredTheta, 2) },
-  { key: 'headcount', label: 'People', numeric: true, value: (r) => r.headcount, cell: (r) => (r.headcount === null ? 'hidden' : r.headcount) },
+  { key: 'headcount', label: 'People in role', numeric: true, value: (r) => r.headcount, cell: (r) => (r.headcount === null ? 'hidden' : r.headcount) },
   { key: 'assessed', label: 'Assessed', numeric: true, value: (r) => r.assessed, cell: (r) => (r.assessed === null ? 'hidden' : r.assessed) },
-  { key: 'coverage', label: 'Expected to meet it', numeric: true, value: (r) => r.coverage, cell: (r) => (r.suppressed ? 'hidden' : f.share(r.coverage, 0)) },
+  { key: 'coverage', label: 'Share of assessed expected to meet it', numeric: true, value: (r) => r.coverage, cell: (r) => (r.suppressed ? 'hidden' : f.share(r.coverage, 0)) },
   {
-    key: 'gap', label: 'Expected gap, people (95%)', numeric: true, value: (r) => r.gap,
+    key: 'gap', label: 'Expected gap among assessed, people (interval)', numeric: true, value: (r) => r.gap,
     cell: (r) => (r.suppressed ? 'hidden' : `${f.num(r.gap)} (${f.num(r.gapLow)} to ${f.num(r.gapHigh)})`),
   },
   { key: 'gapLow', label: 'Gap low', value: (r) => r.gapLow, csvOnly: true },
