@@ -39,7 +39,10 @@ export function snoozeCourseFlag(db: Db, courseId: string, note: string, untilIs
     throw new SnoozeError(`snooze: until must be an ISO 8601 date such as 2026-03-31, got "${String(untilIso)}"`)
   }
   const until = new Date(untilIso.trim())
-  if (Number.isNaN(until.getTime())) throw new SnoozeError(`snooze: until "${untilIso}" is not a real date`)
+  // Date rolls 2026-02-30 over to March 2: check the calendar day ourselves
+  const [y, m, d] = untilIso.trim().slice(0, 10).split('-').map(Number) as [number, number, number]
+  const daysInMonth = new Date(Date.UTC(y, m, 0)).getUTCDate()
+  if (Number.isNaN(until.getTime()) || m < 1 || m > 12 || d < 1 || d > daysInMonth) throw new SnoozeError(`snooze: until "${untilIso}" is not a real date`)
   if (until.getTime() <= now.getTime()) throw new SnoozeError(`snooze: until ${until.toISOString()} is not in the future`)
   const tx = db.transaction(() => {
     const id = insertFlagNote(db, { course_id: courseId, action: 'snooze', flag, note: text, actor: who, until: until.toISOString() }, now.toISOString())

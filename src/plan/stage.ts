@@ -53,7 +53,7 @@ export function runPlan(db: Db, config: Config, now: Date = new Date()): PlanRun
       ...result.pathways.map((p) => ({ kind: 'pathway', key: p.skillId, rank: null, score: p.targets[0]?.score ?? null, payload: p })),
       ...result.candidates.map((g) => ({ kind: 'candidates', key: compositeKey(g.role, g.decliningSkill), rank: null, score: g.candidates, payload: g })),
       ...result.forecast.map((q) => ({ kind: 'reskilling', key: compositeKey(q.skillId, q.quarter), rank: q.quarter, score: q.reskill, payload: q })),
-      { kind: 'plan-run', key: 'latest', rank: null, score: null, payload: { at, baseMonth: result.baseMonth, assumptions: result.assumptions } },
+      { kind: 'plan-run', key: 'latest', rank: null, score: null, payload: { baseMonth: result.baseMonth, assumptions: result.assumptions } },
     ]
     store.replacePlanOutputs(db, PLAN_KINDS, rows, at)
 

@@ -165,7 +165,8 @@ describe('properties of the need', () => {
     future: fc.integer({ min: 0, max: 50 }),
     pull: fc.oneof(fc.constant(null), fc.record({ recentMentions: fc.integer({ min: 0, max: 50 }), recentTotal: fc.integer({ min: 50, max: 100 }), earlierMentions: fc.integer({ min: 0, max: 50 }), earlierTotal: fc.integer({ min: 50, max: 100 }) })),
   })
-  const build = (x: fc.Infer<typeof inputArb>, rows = x.rows, forecast = x.forecast): NeedInput => {
+  type Generated = typeof inputArb extends fc.Arbitrary<infer T> ? T : never
+  const build = (x: Generated, rows: CoverageRecord[] = x.rows, forecast = x.forecast): NeedInput => {
     const required = rows.reduce((s, r) => s + r.headcount, 0)
     return input({ curve: curve({ latestShare: x.latest, forecastShare12: forecast, pAdjusted: x.p }), coverage: rows, requiredHeadcount: required, futureHeadcount: x.future, totalHeadcount: required + x.future + 10, pull: x.pull })
   }
