@@ -10,6 +10,7 @@ import type { Db } from './db/connection.ts'
 import { latestEventId } from './db/events.ts'
 import { finishRun, releaseLock, renewLock, startRun, tryLock } from './db/runs.ts'
 import { acknowledge, pendingFor } from './events/outbox.ts'
+import { deliverAfterRun } from './events/webhooks.ts'
 import { NotBuiltError, type Stage, type StageResult } from './stage.ts'
 import { STAGES, STAGE_ORDER, findStage } from './stages.ts'
 
@@ -107,7 +108,7 @@ export async function runPipeline(db: Db, config: Config, names: readonly string
     if (!stage) throw new NotBuiltError(`stage "${name}" is not built in this version (built: ${STAGES.map((s) => s.name).join(', ') || 'none'})`)
     return stage
   })
-  return withPipelineLock(
+  const result = await withPipelineLock(
     db,
     async () => {
       const outcomes: StageOutcome[] = []
@@ -123,6 +124,9 @@ export async function runPipeline(db: Db, config: Config, names: readonly string
     },
     opts.waitMs ?? 0,
   )
+  // after the lock is released: the run's work has committed, a slow endpoint delays nobody's run
+  await deliverAfterRun(db, config, log)
+  return result
 }
 
 /**

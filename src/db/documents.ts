@@ -235,6 +235,18 @@ export function dueDeliveries(db: Db, nowIso: string, limit = 500): DeliveryRow[
     .all(nowIso, limit) as DeliveryRow[]
 }
 
+/**
+ * Claims a due delivery for one attempt by moving its next attempt to `leaseUntilIso`, so that two
+ * processes delivering at once do not both send it. @returns false when another pass has it
+ */
+export function claimDelivery(db: Db, eventId: number, endpoint: string, nowIso: string, leaseUntilIso: string): boolean {
+  return (
+    db
+      .prepare("UPDATE webhook_deliveries SET next_attempt_at = ? WHERE event_id = ? AND endpoint = ? AND status = 'pending' AND (next_attempt_at IS NULL OR next_attempt_at <= ?)")
+      .run(leaseUntilIso, eventId, endpoint, nowIso).changes === 1
+  )
+}
+
 export function markDelivered(db: Db, eventId: number, endpoint: string, nowIso: string): void {
   db.prepare("UPDATE webhook_deliveries SET status = 'delivered', attempts = attempts + 1, delivered_at = ?, last_error = NULL, next_attempt_at = NULL WHERE event_id = ? AND endpoint = ?").run(
     nowIso, eventId, endpoint,
