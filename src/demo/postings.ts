@@ -144,7 +144,13 @@ export function generatePostings(opts: PostingOptions, sink: (p: Posting) => voi
     if (s.kind !== 'background') truth.mentions[s.id] = zeros(M)
     if (s.kind === 'planted') truth.rolledUp[s.id] = zeros(M)
   }
-  const rollTargets = skills.map((s) => s.rollsUpTo.filter((id) => truth.rolledUp[id]))
+  // roll-up targets by skill index (a planted skill rolls up into itself); per-index count arrays
+  const indexOf = new Map(skills.map((s, k) => [s.id, k]))
+  const rollTargets = skills.map((s, k) => [...(s.kind === 'planted' ? [k] : []), ...s.rollsUpTo.map((id) => indexOf.get(id)!)])
+  const mentionCounts = skills.map((s) => truth.mentions[s.id] ?? null)
+  const rolledCounts = skills.map((s) => truth.rolledUp[s.id] ?? null)
+  const rollStamp = new Int32Array(K)
+  let stamp = 0
   const first = opts.months[0]!
   const end = opts.months[M - 1]!
   const endMs = Date.UTC(end.year, end.month - 1, end.openDays, 23, 59, 59)
@@ -177,14 +183,17 @@ export function generatePostings(opts: PostingOptions, sink: (p: Posting) => voi
       posting.identifier = nextId(posting.channel)
       originals.push(posting)
       truth.postings[t]!++
-      const rolled = new Set<string>()
+      // count each planted skill once per posting, whether mentioned itself or through a narrower skill
+      stamp++
       for (let j = 0; j < n; j++) {
         const k = chosen[j]!
-        if (tracked[k]) truth.mentions[skills[k]!.id]![t]!++
-        if (truth.rolledUp[skills[k]!.id]) rolled.add(skills[k]!.id)
-        for (const id of rollTargets[k]!) rolled.add(id)
+        if (tracked[k]) mentionCounts[k]![t]!++
+        for (const target of rollTargets[k]!) {
+          if (rollStamp[target] === stamp) continue
+          rollStamp[target] = stamp
+          rolledCounts[target]![t]!++
+        }
       }
-      for (const id of rolled) truth.rolledUp[id]![t]!++
       if (rng.chance(REPOST_RATE)) {
         const repost = makeRepost(rng, posting, nextId)
         if (repost.ms <= endMs) pending[monthOf(repost.ms)]!.push(repost)
@@ -198,6 +207,12 @@ export function generatePostings(opts: PostingOptions, sink: (p: Posting) => voi
     }
   }
   return truth
+}
+
+/** The phrase for a skill: the main label most often, another label sometimes; labels that are also common words only in lists. */
+function phraseOf(rng: Rng, s: DemoSkill, inList: boolean): string {
+  if (!inList) return s.solo
+  return s.phrases.length === 1 || rng.chance(0.6) ? s.phrases[0]! : rng.pick(s.phrases)
 }
 
 function buildPosting(
@@ -220,11 +235,6 @@ function buildPosting(
   if (role.key === 'swe' && languages.length > 0 && rng.chance(0.2)) titleBase = `${LANGUAGE_TITLES[languages[0]!.id]} Developer`
   const title = `${seniority}${titleBase}`
 
-  // phrases: the main label most often, another label sometimes; labels that are also common words only in lists
-  const phraseOf = (s: DemoSkill, inList: boolean) => {
-    if (!inList) return s.solo
-    return s.phrases.length === 1 || rng.chance(0.6) ? s.phrases[0]! : rng.pick(s.phrases)
-  }
   const mustCount = hard.length <= 1 ? hard.length : Math.max(1, Math.ceil(hard.length * 0.65))
   const mustSkills = hard.slice(0, mustCount)
   const niceSkills = hard.slice(mustCount)
@@ -233,17 +243,17 @@ function buildPosting(
   const hardPhrases: string[] = []
   for (const g of groups) {
     if (g.length === 0) continue
-    const phrases = g.map((s) => phraseOf(s, g.length > 1))
+    const phrases = g.map((s) => phraseOf(rng, s, g.length > 1))
     hardPhrases.push(...phrases)
     must.push(fill(rng.pick(MUST), { L: joinList(rng, phrases) }))
   }
   let nice: string | null = null
   if (niceSkills.length) {
-    const phrases = niceSkills.map((s) => phraseOf(s, niceSkills.length > 1))
+    const phrases = niceSkills.map((s) => phraseOf(rng, s, niceSkills.length > 1))
     hardPhrases.push(...phrases)
     nice = fill(rng.pick(NICE), { L: joinList(rng, phrases) })
   }
-  const softText = soft.length ? fill(rng.pick(SOFT), { S: joinList(rng, soft.map((s) => phraseOf(s, true))) }) : null
+  const softText = soft.length ? fill(rng.pick(SOFT), { S: joinList(rng, soft.map((s) => phraseOf(rng, s, true))) }) : null
 
   const pay = SALARY_BASE[role.key]! * SENIORITY_PAY[seniority]! * (0.9 + 0.15 * rng.next())
   const low = Math.round(pay) * 1000

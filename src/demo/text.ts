@@ -88,8 +88,23 @@ export function joinList(rng: Rng, items: readonly string[]): string {
   return `${head}${rng.chance(0.3) ? ',' : ''} and ${items[items.length - 1]}`
 }
 
+const compiled = new Map<string, string[]>()
+
+/**
+ * Fills `{X}` slots of a template. Templates are split once and cached: the generator fills hundreds
+ * of thousands of them, and a replace with a callback per call dominated its profile.
+ * @example fill('Experience with {L}.', { L: 'Rust' }) // => 'Experience with Rust.'
+ */
 export function fill(template: string, values: Record<string, string>): string {
-  return template.replace(/\{(\w)\}/g, (_m, k: string) => values[k] ?? '')
+  let parts = compiled.get(template)
+  if (!parts) {
+    parts = template.split(/\{(\w)\}/)
+    compiled.set(template, parts)
+  }
+  // even indexes are literal text, odd ones slot names
+  let out = parts[0]!
+  for (let i = 1; i < parts.length; i += 2) out += (values[parts[i]!] ?? '') + parts[i + 1]!
+  return out
 }
 
 /** A yearly salary range in whole thousands, as "48,000 to 56,000". */

@@ -36,7 +36,8 @@ export function jobPostingObject(p: Posting, opts: { html: boolean; dateOnly: bo
 /** Streams JSON Lines to a file in blocks, so memory stays flat however many postings there are. */
 export class JsonlWriter {
   private fd: number
-  private buffer: string[] = []
+  // appended strings form a rope that V8 flattens once per flush, cheaper than an array and a join
+  private pending = ''
   count = 0
 
   constructor(readonly file: string) {
@@ -45,14 +46,14 @@ export class JsonlWriter {
   }
 
   write(obj: unknown): void {
-    this.buffer.push(JSON.stringify(obj) + '\n')
+    this.pending += JSON.stringify(obj) + '\n'
     this.count++
-    if (this.buffer.length >= 2000) this.flush()
+    if (this.pending.length >= 1 << 20) this.flush()
   }
 
   private flush(): void {
-    if (this.buffer.length) fs.writeSync(this.fd, this.buffer.join(''))
-    this.buffer = []
+    if (this.pending.length) fs.writeSync(this.fd, this.pending)
+    this.pending = ''
   }
 
   close(): void {
