@@ -10,8 +10,10 @@
  *
  * Identification: θ ~ N(0, 1) for the 2PL (a = α/D, b = −β/α). For the Rasch model a = 1 and the
  * latent SD σ is estimated (θ ~ N(0, σ²), α = Dσ common to all items, b = −β/D); with
- * `estimateSd: false` σ is fixed at 1. Convergence: the largest change of any reported parameter
- * (a, b, σ) between cycles is below `tolerance`. The marginal log-likelihood never decreases
+ * `estimateSd: false` σ is fixed at 1. With anchor items (known parameters, `fixed`) the anchors
+ * set the metric and the latent mean and SD are estimated instead, from the people's posterior
+ * moments each cycle (an empirical update of the normal latent distribution). Convergence: the largest change of any reported parameter
+ * (a, b, σ, μ) between cycles is below `tolerance`. The marginal log-likelihood never decreases
  * (checked in the tests). Standard errors come from the cross-product of per-person scores (XPD,
  * an estimate of the observed information) and the delta method.
  *
@@ -63,8 +65,8 @@ export interface CalibrationOptions {
   diagnostics?: boolean
   /**
    * Anchor items: parameters known (e.g. imported), one entry per item, null for items to estimate.
-   * Anchors take part in the E-step with their parameters fixed and so set the metric; with anchors
-   * the latent distribution is still taken as N(0, 1) (2PL) or N(0, σ²) (Rasch).
+   * Anchors take part in the E-step with their parameters fixed and so set the metric; the latent
+   * mean and SD are then estimated (the SD stays 1 for Rasch with `estimateSd: false`).
    */
   fixed?: ReadonlyArray<ItemParams | null>
 }
@@ -91,8 +93,10 @@ export interface CalibrationResult {
   logLikelihood: number
   /** log-likelihood at the start of each cycle */
   history: number[]
-  /** latent SD in the reported metric (estimated for Rasch, 1 for 2PL) */
+  /** latent SD in the reported metric (estimated for Rasch and with anchors, else 1) */
   populationSd: number
+  /** latent mean in the reported metric (estimated with anchors, else 0) */
+  populationMean: number
   populationSdSe: number | null
   items: CalibratedItem[]
 }
@@ -163,42 +167,59 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
     }
   }
 
-  // ---- starting values: slope 1 (in D units), intercept from the proportion correct
+  // ---- parametrisation. Nodes x are standard normal and θ = μ + σx. Each item works on the node
+  // scale as z = αx + β; in the θ metric z = D·a·(θ − b), so α = D·a·σ and β = D·a·(μ − b).
+  // Without anchors μ = 0 and σ = 1 (2PL) or σ = commonAlpha/D (Rasch, a = 1). With anchors the
+  // anchors fix the metric and μ, σ are estimated from the posterior moments each cycle.
+  const anchored = Boolean(fixed?.some((anchor, j) => anchor && nResp[j] > 0))
+  let mu = 0
+  let sigma = 1
   const alpha = new Float64Array(J)
   const beta = new Float64Array(J)
   let commonAlpha = D
+  /** θ-metric (a, b) of a non-anchor item from its node-scale (α, β) */
+  const thetaParams = (j: number): { a: number; b: number } =>
+    model === 'rasch' ? { a: 1, b: mu - beta[j] / D } : { a: alpha[j] / (D * sigma), b: mu - (beta[j] * sigma) / alpha[j] }
   for (let j = 0; j < J; j++) {
     const p = (nCorrect[j] + 0.5) / (nResp[j] + 1)
     alpha[j] = D
     beta[j] = Math.log(p / (1 - p)) * Math.sqrt(1 + (D / 1.702) ** 2)
     const anchor = fixed?.[j]
     if (anchor) {
-      // z = D·a·(θ − b); for Rasch the slope on the standard scale is (Dσ)·a = commonAlpha·a
       alpha[j] = D * anchor.a
       beta[j] = -D * anchor.a * anchor.b
+    }
+  }
+  /** Anchored mode: move every item to the node scale of the current μ, σ (θ-metric values kept). */
+  const rescaleNodes = (thetaValues: Array<{ a: number; b: number } | null>) => {
+    commonAlpha = D * sigma
+    for (let j = 0; j < J; j++) {
+      const anchor = fixed?.[j]
+      const values = anchor ?? thetaValues[j]
+      if (!values) continue
+      alpha[j] = D * values.a * sigma
+      beta[j] = D * values.a * (mu - values.b)
     }
   }
   /** slope on the standard-normal node scale */
   const slopeOf = (j: number): number => {
     const anchor = fixed?.[j]
-    if (model === 'rasch') return anchor ? commonAlpha * anchor.a : commonAlpha
+    if (model === 'rasch' && !anchor) return commonAlpha
     return alpha[j]
   }
   const guessOf = (j: number): number => fixed?.[j]?.c ?? 0
 
   const reported = (): Float64Array => {
-    // reported parameters for the convergence test: (a, b) per item, then σ
-    const out = new Float64Array(2 * J + 1)
+    // reported parameters for the convergence test: θ-metric (a, b) per item, then σ and μ
+    const out = new Float64Array(2 * J + 2)
     for (let j = 0; j < J; j++) {
-      if (model === 'rasch') {
-        out[2 * j] = 1
-        out[2 * j + 1] = -beta[j] / D
-      } else {
-        out[2 * j] = alpha[j] / D
-        out[2 * j + 1] = -beta[j] / alpha[j]
-      }
+      if (!free[j]) continue
+      const { a, b } = thetaParams(j)
+      out[2 * j] = a
+      out[2 * j + 1] = b
     }
-    out[2 * J] = model === 'rasch' ? commonAlpha / D : 1
+    out[2 * J] = sigma
+    out[2 * J + 1] = mu
     return out
   }
 
@@ -250,13 +271,29 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
     return max + Math.log(total)
   }
 
+  // posterior moments of x summed over people (for the population update in anchored mode)
+  let momentCount = 0
+  let moment1 = 0
+  let moment2 = 0
   const eStep = (): number => {
     n.fill(0)
     r.fill(0)
+    momentCount = 0
+    moment1 = 0
+    moment2 = 0
     let logLik = 0
     for (let p = 0; p < matrix.nPersons; p++) {
       if (matrix.start[p + 1] === matrix.start[p]) continue
       logLik += posterior(p)
+      let m1 = 0
+      let m2 = 0
+      for (let k = 0; k < K; k++) {
+        m1 += post[k] * x[k]
+        m2 += post[k] * x[k] * x[k]
+      }
+      momentCount++
+      moment1 += m1
+      moment2 += m2
       for (let e = matrix.start[p]; e < matrix.start[p + 1]; e++) {
         const j = matrix.item[e]
         if (!active[j]) continue
@@ -334,7 +371,7 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
         }
         beta[j] = b
       }
-      if (!estimateSd) continue
+      if (!estimateSd || anchored) continue
       for (let iteration = 0; iteration < 25; iteration++) {
         let g = 0
         let h = 0
@@ -354,13 +391,14 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
         commonAlpha += step
         if (Math.abs(step) < 1e-10) break
       }
+      sigma = commonAlpha / D
     }
   }
 
   // ---- EM cycles
   const history: number[] = []
   let previous = reported()
-  let lastChange = new Float64Array(2 * J + 1)
+  const lastChange = new Float64Array(2 * J + 2)
   let converged = false
   let cycles = 0
   const anyActive = free.some((flag) => flag === 1)
@@ -370,6 +408,16 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
     history.push(eStep())
     if (model === 'rasch') mStepRasch()
     else for (let j = 0; j < J; j++) if (free[j]) mStep2pl(j)
+    if (anchored && momentCount > 0) {
+      // population update: θ = μ + σx, so the posterior moments give μ' = μ + σ·E[x] and
+      // σ'² = σ²·(E[x²] − E[x]²), averaged over people (Bock & Aitkin 1981, empirical prior)
+      const thetaValues = Array.from({ length: J }, (_, j) => (free[j] ? thetaParams(j) : null))
+      const meanX = moment1 / momentCount
+      const varianceX = Math.max(moment2 / momentCount - meanX * meanX, 1e-6)
+      mu += sigma * meanX
+      if (model === '2pl' || estimateSd) sigma *= Math.sqrt(varianceX)
+      rescaleNodes(thetaValues)
+    }
     const current = reported()
     let maxChange = 0
     for (let i = 0; i < current.length; i++) {
@@ -406,8 +454,7 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
           : `${status[j] === 'all-correct' ? 'every' : 'no'} response correct: difficulty not identifiable`
       continue
     }
-    const a = model === 'rasch' ? 1 : alpha[j] / D
-    const b = model === 'rasch' ? -beta[j] / D : -beta[j] / alpha[j]
+    const { a, b } = thetaParams(j)
     if (!Number.isFinite(a) || !Number.isFinite(b) || (model === '2pl' && (a < minA || a > maxA)) || Math.abs(b) > maxAbsB) {
       status[j] = 'out-of-range'
       notes[j] = `estimate a = ${a.toFixed(3)}, b = ${b.toFixed(3)} outside the plausible range`
@@ -422,7 +469,7 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
   }
 
   // ---- diagnostics: XPD standard errors and item fit
-  const populationSd = model === 'rasch' ? commonAlpha / D : 1
+  const populationSd = sigma
   let seA: Float64Array | null = null
   let seB: Float64Array | null = null
   let populationSdSe: number | null = null
@@ -454,7 +501,7 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
       note: notes[j],
     })
   }
-  return { model, D, converged, cycles, logLikelihood, history, populationSd, populationSdSe, items }
+  return { model, D, converged, cycles, logLikelihood, history, populationSd, populationMean: mu, populationSdSe, items }
 
   /** Cross-product (XPD) information from per-person scores, inverted, then the delta method. */
   function standardErrors(): { seA: Float64Array | null; seB: Float64Array; populationSdSe: number | null } | null {
@@ -462,7 +509,7 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
     let m = 0
     for (let j = 0; j < J; j++) if (free[j]) index[j] = m++
     const perItem = model === '2pl' ? 2 : 1
-    const slopeIndex = model === 'rasch' && estimateSd ? m * perItem : -1
+    const slopeIndex = model === 'rasch' && estimateSd && !anchored ? m * perItem : -1
     const dim = m * perItem + (slopeIndex >= 0 ? 1 : 0)
     const info = new Float64Array(dim * dim)
     const score = new Float64Array(dim)
@@ -518,10 +565,10 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
         const cab = cov[at * dim + at + 1]
         const a = alpha[j]
         const b = beta[j]
-        outA![j] = Math.sqrt(va) / D
-        // b = −β/α: ∂b/∂α = β/α², ∂b/∂β = −1/α
-        const ga = b / (a * a)
-        const gb = -1 / a
+        outA![j] = Math.sqrt(va) / (D * sigma)
+        // b = μ − βσ/α: ∂b/∂α = βσ/α², ∂b/∂β = −σ/α (μ and σ taken as known)
+        const ga = (b * sigma) / (a * a)
+        const gb = -sigma / a
         outB[j] = Math.sqrt(Math.max(ga * ga * va + gb * gb * vb + 2 * ga * gb * cab, 0))
       } else {
         outB[j] = Math.sqrt(cov[at * dim + at]) / D

@@ -8,7 +8,9 @@
  * Metric: everything estimated here is on a θ scale where the assessed population is N(0, 1)
  * (the configured prior), unless anchor items with imported parameters set the metric. A Rasch
  * calibration, which estimates the latent SD σ with a = 1, is stored in its equivalent 1PL form on
- * that scale (a = σ for every item of the skill, b = b_logit/σ); fit_json keeps the logit values.
+ * that scale (a = σ for every item of the skill, b = b_logit/σ); fit_json keeps the calibration's
+ * own values. Items with imported parameters are anchors: they stay fixed, set the metric, and the
+ * mean and SD of the people are estimated alongside the new items.
  */
 import type { Stage, StageContext, StageResult } from '../stage.ts'
 import type { Config } from '../config.ts'
@@ -135,7 +137,7 @@ export function runAbility(db: Db, config: Config, options: AbilityRunOptions = 
             model: result.model,
             status: item.status,
             note: item.note,
-            logitMetric: item.params ? { a: item.params.a, b: item.params.b, populationSd: result.populationSd } : null,
+            calibrationMetric: item.params ? { a: item.params.a, b: item.params.b, populationMean: result.populationMean, populationSd: result.populationSd } : null,
             se: item.se ? { a: item.se.a === null ? null : item.se.a * rescale, b: item.se.b / rescale } : null,
             fit: item.fit,
             nResponses: item.nResponses,

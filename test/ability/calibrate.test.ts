@@ -139,39 +139,45 @@ describe('parameter recovery by simulation (seeded)', () => {
 })
 
 describe('anchored calibration (new items alongside items with known parameters)', () => {
-  it('2PL: anchors keep their parameters, new items are recovered on the anchors\' metric', () => {
+  it('2PL: anchors keep their parameters; new items and the population are recovered on the anchors\' metric', () => {
     const rng = mulberry32(31)
     const truth: ItemParams[] = Array.from({ length: 20 }, (_, j) =>
-      j < 15 ? makeItem('3pl', { a: 0.7 + rng(), b: normalDraw(rng), c: j % 5 === 0 ? 0.2 : 0 }) : makeItem('2pl', { a: 0.7 + rng(), b: normalDraw(rng) }),
+      j < 12 ? makeItem('3pl', { a: 0.7 + rng(), b: normalDraw(rng), c: j % 4 === 0 ? 0.2 : 0 }) : makeItem('2pl', { a: 0.7 + rng(), b: normalDraw(rng) }),
     )
-    const thetas = Float64Array.from({ length: 4000 }, () => normalDraw(rng))
-    const fixed = truth.map((item, j) => (j < 15 ? item : null))
+    // the people assessed now are abler and more spread out than the anchors' calibration sample
+    const thetas = Float64Array.from({ length: 4000 }, () => 0.5 + 1.3 * normalDraw(rng))
+    const fixed = truth.map((item, j) => (j < 12 ? item : null))
     const result = calibrate(simulateResponses(thetas, truth, rng), { model: '2pl', fixed })
     expect(result.converged).toBe(true)
-    for (let j = 0; j < 15; j++) {
+    expect(result.populationMean).toBeCloseTo(0.5, 1)
+    expect(result.populationSd).toBeCloseTo(1.3, 1)
+    for (let j = 0; j < 12; j++) {
       expect(result.items[j].status).toBe('fixed')
       expect(result.items[j].params).toEqual(truth[j])
       expect(result.items[j].se).toBeNull()
     }
-    const fresh = result.items.slice(15)
+    const fresh = result.items.slice(12)
     expect(fresh.every((item) => item.status === 'converged')).toBe(true)
-    const rmseB = Math.sqrt(fresh.reduce((s, item) => s + (item.params!.b - truth[item.index].b) ** 2, 0) / fresh.length)
-    const rmseA = Math.sqrt(fresh.reduce((s, item) => s + (item.params!.a - truth[item.index].a) ** 2, 0) / fresh.length)
-    expect(rmseB).toBeLessThan(0.15)
-    expect(rmseA).toBeLessThan(0.2)
+    const rmse = (key: 'a' | 'b') => Math.sqrt(fresh.reduce((s, item) => s + (item.params![key] - truth[item.index][key]) ** 2, 0) / fresh.length)
+    expect(rmse('b')).toBeLessThan(0.15)
+    expect(rmse('a')).toBeLessThan(0.2)
+    // without the population update (people assumed N(0, 1)) the new items would be off by about the mean shift
+    const naive = fresh.reduce((s, item) => s + item.params!.b - truth[item.index].b, 0) / fresh.length
+    expect(Math.abs(naive)).toBeLessThan(0.1)
   })
-  it('Rasch: anchors fix the location while σ is estimated', () => {
+  it('Rasch: anchors fix the location; mean and SD of the people are estimated', () => {
     const rng = mulberry32(32)
     const truth = Array.from({ length: 16 }, (_, j) => makeItem('rasch', { b: -1.5 + j * 0.2 }))
-    const thetas = Float64Array.from({ length: 3000 }, () => 0.5 + 1.2 * normalDraw(rng)) // population mean 0.5
+    const thetas = Float64Array.from({ length: 3000 }, () => 0.5 + 1.2 * normalDraw(rng))
     const fixed = truth.map((item, j) => (j % 2 === 0 ? item : null))
     const result = calibrate(simulateResponses(thetas, truth, rng), { model: 'rasch', fixed })
-    // with the mean held at 0 the free items absorb part of the population shift, but less than without anchors
+    expect(result.converged).toBe(true)
+    expect(result.populationMean).toBeCloseTo(0.5, 1)
+    expect(result.populationSd).toBeCloseTo(1.2, 1)
     const free = result.items.filter((item) => item.status === 'converged')
     expect(free).toHaveLength(8)
-    const unanchored = calibrate(simulateResponses(thetas, truth, mulberry32(33)), { model: 'rasch' })
-    const bias = (items: typeof free) => items.reduce((s, item) => s + item.params!.b - truth[item.index].b, 0) / items.length
-    expect(Math.abs(bias(free))).toBeLessThan(Math.abs(bias(unanchored.items.filter((_, j) => j % 2 === 1))))
+    const rmse = Math.sqrt(free.reduce((s, item) => s + (item.params!.b - truth[item.index].b) ** 2, 0) / free.length)
+    expect(rmse).toBeLessThan(0.08)
     expect(() => calibrate(simulateResponses(thetas, truth, rng), { fixed: [null] })).toThrow(/fixed has 1 entries for 16 items/)
   })
 })
