@@ -36,6 +36,11 @@ export interface CsvReadResult {
  * other rows are kept. Missing required columns are fatal.
  */
 export function readCsv(text: string, file: string, required: readonly string[], optional: readonly string[] = []): CsvReadResult {
+  // many NULs mark UTF-16 without a byte-order mark, or a binary file (a stray one is a bad field)
+  const head = text.slice(0, 4096)
+  if (head.length > 0 && head.split('\u0000').length - 1 >= head.length / 4) {
+    return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, reason: 'mostly NUL bytes: a binary file, or text saved as UTF-16; save it as UTF-8 CSV' } }
+  }
   let records: { record: string[]; info: { lines: number }; raw: string }[]
   try {
     records = parse(text, { info: true, raw: true, relax_column_count: true, bom: true, skip_empty_lines: true, trim: false }) as never
