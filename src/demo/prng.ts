@@ -17,7 +17,7 @@
  * deriveSeed(1, 'people') === deriveSeed(1, 'people') // => true
  */
 export function deriveSeed(seed: number, name: string): number {
-  let h = 0x811c9dc5 ^ (seed >>> 0)
+  let h = 0x811c9dc5
   const text = `${seed >>> 0}:${name}`
   for (let i = 0; i < text.length; i++) {
     h ^= text.charCodeAt(i)
