@@ -127,28 +127,30 @@ export interface DocumentConcepts {
 }
 
 /**
- * Distinct documents of a kind with their directly mentioned concepts, oldest first.
+ * Distinct documents of a kind with their directly mentioned concepts, in id order.
  * @param sinceMonth first month to include ('YYYY-MM'), or null for all
  */
 export function readDocumentConcepts(db: Db, kind: 'posting' | 'request', sinceMonth: string | null = null): DocumentConcepts[] {
-  const docs = new Map<number, DocumentConcepts>()
-  const rows = db
+  const since = sinceMonth ?? ''
+  const docs = db
+    .prepare('SELECT id, month, title, occupation FROM documents WHERE kind = ? AND duplicate_of IS NULL AND month >= ? ORDER BY id')
+    .raw()
+    .all(kind, since) as [number, string, string, string | null][]
+  const byId = new Map<number, DocumentConcepts>()
+  const out = docs.map(([id, month, title, occupation]) => {
+    const doc: DocumentConcepts = { id, month, title, occupation, concepts: [] }
+    byId.set(id, doc)
+    return doc
+  })
+  const mentions = db
     .prepare(
-      `SELECT d.id, d.month, d.title, d.occupation, m.concept_id
-       FROM documents d LEFT JOIN mentions m ON m.document_id = d.id AND m.via <> 'rollup'
-       WHERE d.kind = ? AND d.duplicate_of IS NULL AND (? IS NULL OR d.month >= ?)
-       ORDER BY d.month, d.id, m.concept_id`,
+      `SELECT m.document_id, m.concept_id FROM mentions m JOIN documents d ON d.id = m.document_id
+       WHERE d.kind = ? AND d.duplicate_of IS NULL AND d.month >= ? AND m.via <> 'rollup'`,
     )
-    .iterate(kind, sinceMonth, sinceMonth) as IterableIterator<{ id: number; month: string; title: string; occupation: string | null; concept_id: string | null }>
-  for (const r of rows) {
-    let doc = docs.get(r.id)
-    if (!doc) {
-      doc = { id: r.id, month: r.month, title: r.title, occupation: r.occupation, concepts: [] }
-      docs.set(r.id, doc)
-    }
-    if (r.concept_id !== null) doc.concepts.push(r.concept_id)
-  }
-  return [...docs.values()]
+    .raw()
+    .iterate(kind, since) as IterableIterator<[number, string]>
+  for (const [docId, conceptId] of mentions) byId.get(docId)?.concepts.push(conceptId)
+  return out
 }
 
 /** The latest month with a distinct document of this kind, or null. */

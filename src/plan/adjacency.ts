@@ -30,36 +30,78 @@ export interface CoOccurrence {
   documents: number
   /** documents mentioning each skill */
   counts: Map<string, number>
-  /** skill -> other skill -> documents mentioning both (stored in both directions) */
-  pairs: Map<string, Map<string, number>>
+  /** skill -> dense index used in pair keys */
+  index: Map<string, number>
+  /** documents mentioning both skills, keyed by lowIndex·2^21 + highIndex */
+  pairCounts: Map<number, number>
+  /** neighbour lists, built on first use (cosine) */
+  neighbours?: Map<number, Map<number, number>>
+}
+
+/** Pair keys stay exact doubles for up to 2^21 (about two million) distinct skills. */
+const PAIR_SHIFT = 2 ** 21
+
+function pairKey(i: number, j: number): number {
+  return i < j ? i * PAIR_SHIFT + j : j * PAIR_SHIFT + i
 }
 
 /** Counts single and pair document frequencies; a skill repeated in one document counts once. */
 export function countCoOccurrence(documents: Iterable<readonly string[]>): CoOccurrence {
   const counts = new Map<string, number>()
-  const pairs = new Map<string, Map<string, number>>()
+  const index = new Map<string, number>()
+  const pairCounts = new Map<number, number>()
   let n = 0
+  const ids: number[] = []
   for (const doc of documents) {
     n++
-    const skills = [...new Set(doc)].sort()
-    for (const s of skills) counts.set(s, (counts.get(s) ?? 0) + 1)
-    for (let i = 0; i < skills.length; i++) {
-      const a = skills[i]!
-      let row = pairs.get(a)
-      if (!row) pairs.set(a, (row = new Map()))
-      for (let j = 0; j < skills.length; j++) {
-        if (i === j) continue
-        const b = skills[j]!
-        row.set(b, (row.get(b) ?? 0) + 1)
+    ids.length = 0
+    for (const s of doc) {
+      let i = index.get(s)
+      if (i === undefined) {
+        i = index.size
+        if (i >= PAIR_SHIFT) throw new RangeError(`countCoOccurrence supports at most ${PAIR_SHIFT} distinct skills`)
+        index.set(s, i)
+      }
+      if (!ids.includes(i)) {
+        ids.push(i)
+        counts.set(s, (counts.get(s) ?? 0) + 1)
+      }
+    }
+    for (let x = 0; x < ids.length; x++) {
+      for (let y = x + 1; y < ids.length; y++) {
+        const key = pairKey(ids[x]!, ids[y]!)
+        pairCounts.set(key, (pairCounts.get(key) ?? 0) + 1)
       }
     }
   }
-  return { documents: n, counts, pairs }
+  return { documents: n, counts, index, pairCounts }
 }
 
 /** Documents mentioning both skills. */
 export function support(co: CoOccurrence, a: string, b: string): number {
-  return co.pairs.get(a)?.get(b) ?? 0
+  const i = co.index.get(a)
+  const j = co.index.get(b)
+  if (i === undefined || j === undefined || i === j) return 0
+  return co.pairCounts.get(pairKey(i, j)) ?? 0
+}
+
+function neighbours(co: CoOccurrence): Map<number, Map<number, number>> {
+  if (!co.neighbours) {
+    const lists = new Map<number, Map<number, number>>()
+    const add = (i: number, j: number, v: number) => {
+      let row = lists.get(i)
+      if (!row) lists.set(i, (row = new Map()))
+      row.set(j, v)
+    }
+    for (const [key, v] of co.pairCounts) {
+      const i = Math.floor(key / PAIR_SHIFT)
+      const j = key - i * PAIR_SHIFT
+      add(i, j, v)
+      add(j, i, v)
+    }
+    co.neighbours = lists
+  }
+  return co.neighbours
 }
 
 /** Pointwise mutual information in bits; null when a pair or a skill is never seen. */
@@ -81,8 +123,9 @@ export function ppmi(co: CoOccurrence, a: string, b: string, minSupport: number)
 /** Cosine of the co-occurrence vectors of a and b, 0 below the minimum support. */
 export function cosine(co: CoOccurrence, a: string, b: string, minSupport: number): number {
   if (a === b || support(co, a, b) < minSupport) return 0
-  const va = co.pairs.get(a)
-  const vb = co.pairs.get(b)
+  const lists = neighbours(co)
+  const va = lists.get(co.index.get(a)!)
+  const vb = lists.get(co.index.get(b)!)
   if (!va || !vb) return 0
   const [small, large] = va.size <= vb.size ? [va, vb] : [vb, va]
   let dot = 0

@@ -12,8 +12,8 @@ export interface LabelIndex {
   ids: Set<string>
   /** lower-cased label -> concepts carrying it, pref labels first */
   byLabel: Map<string, { id: string; kind: string }[]>
-  /** labels for title matching, longest first */
-  patterns: { id: string; label: string; re: RegExp }[]
+  /** labels for title matching, longest first; the pattern is compiled on first use */
+  patterns: { id: string; label: string; lower: string; exactCase: boolean; re: RegExp | null }[]
 }
 
 function escapeRegExp(s: string): string {
@@ -38,9 +38,7 @@ export function buildLabelIndex(conceptIds: Iterable<string>, labels: readonly L
     .filter((l) => l.label.trim().length > 0)
     .map((l) => {
       const label = l.label.trim()
-      const exactCase = l.case_sensitive === 1 || label.length <= 2
-      const re = new RegExp(`(?<![\\p{L}\\p{N}])${escapeRegExp(label)}(?![\\p{L}\\p{N}])`, exactCase ? 'u' : 'iu')
-      return { id: l.concept_id, label, re }
+      return { id: l.concept_id, label, lower: label.toLowerCase(), exactCase: l.case_sensitive === 1 || label.length <= 2, re: null }
     })
     .sort((a, b) => b.label.length - a.label.length || (a.label < b.label ? -1 : 1))
   return { ids, byLabel, patterns }
@@ -65,8 +63,11 @@ export function resolveSkillRef(index: LabelIndex, ref: string): { id: string; b
 export function mapTitle(index: LabelIndex, title: string): { id: string; label: string }[] {
   const taken: [number, number][] = []
   const found = new Map<string, string>()
+  const lowerTitle = title.toLowerCase()
   for (const p of index.patterns) {
-    if (found.has(p.id)) continue
+    // a cheap substring test first: most labels never occur, and their patterns are never compiled
+    if (found.has(p.id) || !lowerTitle.includes(p.lower)) continue
+    p.re ??= new RegExp(`(?<![\\p{L}\\p{N}])${escapeRegExp(p.label)}(?![\\p{L}\\p{N}])`, p.exactCase ? 'u' : 'iu')
     const m = p.re.exec(title)
     if (!m) continue
     const start = m.index
