@@ -275,9 +275,15 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
   let momentCount = 0
   let moment1 = 0
   let moment2 = 0
+  // people who answered every active item add their posterior once to `everyone` instead of to
+  // each item's n (complete designs then cost half as much); n is completed at the end
+  let activeCount = 0
+  for (let j = 0; j < J; j++) activeCount += active[j]
+  const everyone = new Float64Array(K)
   const eStep = (): number => {
     n.fill(0)
     r.fill(0)
+    everyone.fill(0)
     momentCount = 0
     moment1 = 0
     moment2 = 0
@@ -294,19 +300,22 @@ export function calibrate(matrix: ResponseMatrix, options: CalibrationOptions = 
       momentCount++
       moment1 += m1
       moment2 += m2
+      let answered = 0
+      for (let e = matrix.start[p]; e < matrix.start[p + 1]; e++) answered += active[matrix.item[e]]
+      const complete = answered === activeCount
+      if (complete) for (let k = 0; k < K; k++) everyone[k] += post[k]
       for (let e = matrix.start[p]; e < matrix.start[p + 1]; e++) {
         const j = matrix.item[e]
         if (!active[j]) continue
         const offset = j * K
-        if (matrix.response[e] === 1) {
-          for (let k = 0; k < K; k++) {
-            n[offset + k] += post[k]
-            r[offset + k] += post[k]
-          }
-        } else {
-          for (let k = 0; k < K; k++) n[offset + k] += post[k]
-        }
+        if (matrix.response[e] === 1) for (let k = 0; k < K; k++) r[offset + k] += post[k]
+        if (!complete) for (let k = 0; k < K; k++) n[offset + k] += post[k]
       }
+    }
+    for (let j = 0; j < J; j++) {
+      if (!active[j]) continue
+      const offset = j * K
+      for (let k = 0; k < K; k++) n[offset + k] += everyone[k]
     }
     return logLik
   }
