@@ -160,6 +160,9 @@ export function runAbility(db: Db, config: Config, options: AbilityRunOptions = 
   const skillsEstimated: string[] = []
   for (const [skillId, data] of bySkill) {
     const usableItems = data.items.filter((item) => paramsOf(item) !== null)
+    for (const item of data.items) {
+      if (item.b !== null && paramsOf(item) === null) log(`item ${item.item_id}: parameters a = ${item.a}, b = ${item.b}, c = ${item.c} are not usable (need a > 0, 0 <= c < 1); its responses were ignored`)
+    }
     withoutParameters += data.items.length - usableItems.length
     if (usableItems.length === 0) continue
     const { matrix, personIds, latest } = matrixOf(usableItems, data.responses)
