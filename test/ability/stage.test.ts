@@ -183,6 +183,17 @@ describe('ability stage', () => {
     expect(others.n).toBeGreaterThan(300)
   })
 
+  it('names an item whose stored parameters cannot be used and ignores its responses', () => {
+    const { db, config } = setup()
+    seed(db, { people: 30 })
+    db.prepare("UPDATE items SET a = 0 WHERE item_id = 'sql-3'").run() // as if written by another tool
+    const logs: string[] = []
+    const result = runAbility(db, config, { now: NOW, log: (m) => logs.push(m) })
+    expect(logs.join('\n')).toMatch(/item sql-3: parameters a = 0, b = .* are not usable/)
+    expect(result.counts.itemsWithoutParameters).toBe(11)
+    expect(result.counts.estimated).toBe(27)
+  })
+
   it('the Stage wrapper passes --calibrate and rejects a bad now option', async () => {
     const { db, config } = setup()
     seed(db, { people: 60 })
