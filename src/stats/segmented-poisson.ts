@@ -10,13 +10,13 @@ import { fSurvival } from './f-distribution.ts'
 import { chiSquareSurvival } from './chi-square-distribution.ts'
 
 export interface SegmentedPoissonInput {
-  /** observation times (e.g. month index), strictly increasing */
+  /** observation times (e.g. month index), non-decreasing; several series may share a time */
   times: readonly number[]
   counts: readonly number[]
   /** log exposure per observation (log of all documents that month) */
   offset?: readonly number[]
   priorWeights?: readonly number[]
-  /** at least this many observations on each side of the breakpoint (default 6) */
+  /** at least this many distinct times on each side of the breakpoint (default 6) */
   minSegment?: number
   /** only consider breakpoints at or after this time (default: all) */
   earliestBreak?: number
@@ -206,9 +206,14 @@ export function segmentedPoisson(input: SegmentedPoissonInput): SegmentedPoisson
   const n = times.length
   if (counts.length !== n) throw new RangeError(`segmentedPoisson requires one count per time, got ${counts.length} and ${n}`)
   if (!(minSegment >= 2)) throw new RangeError(`segmentedPoisson requires minSegment >= 2, got ${minSegment}`)
-  if (n < 2 * minSegment) throw new RangeError(`segmentedPoisson requires at least ${2 * minSegment} observations, got ${n}`)
-  for (let i = 1; i < n; i++) {
-    if (!(times[i]! > times[i - 1]!)) throw new RangeError(`segmentedPoisson requires strictly increasing times, position ${i} has ${times[i]}`)
+  const distinctTimes: number[] = []
+  for (let i = 0; i < n; i++) {
+    if (!Number.isFinite(times[i]!)) throw new RangeError(`segmentedPoisson requires finite times, position ${i} has ${times[i]}`)
+    if (i > 0 && !(times[i]! >= times[i - 1]!)) throw new RangeError(`segmentedPoisson requires non-decreasing times, position ${i} has ${times[i]}`)
+    if (i === 0 || times[i]! > times[i - 1]!) distinctTimes.push(times[i]!)
+  }
+  if (distinctTimes.length < 2 * minSegment) {
+    throw new RangeError(`segmentedPoisson requires at least ${2 * minSegment} distinct times, got ${distinctTimes.length}`)
   }
   let meanTime = 0
   for (const time of times) meanTime += time / n
@@ -241,8 +246,8 @@ export function segmentedPoisson(input: SegmentedPoissonInput): SegmentedPoisson
   let bestDeviance = Infinity
   let bestBeta = Float64Array.from(beta)
   const earliest = input.earliestBreak ?? -Infinity
-  for (let k = minSegment - 1; k <= n - minSegment - 1; k++) {
-    const breakpoint = times[k]!
+  for (let k = minSegment - 1; k <= distinctTimes.length - minSegment - 1; k++) {
+    const breakpoint = distinctTimes[k]!
     if (breakpoint < earliest) continue
     for (let i = 0; i < n; i++) hinge[i] = Math.max(0, times[i]! - breakpoint)
     const deviance = hingeDevianceScan(centredTime, hinge, scanCounts, scanOffset, scanWeights, beta) + constant

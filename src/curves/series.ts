@@ -1,0 +1,168 @@
+/**
+ * @module curves/series
+ * A skill's monthly demand on a contiguous month grid: per source (external postings, internal
+ * requests) the documents mentioning it (n) and all documents (N), and the combined demand index.
+ * Months with N = 0 are missing, not zero demand.
+ */
+import { monthIndex, monthLabel } from './months.ts'
+
+export type SourceName = 'external' | 'internal'
+export const SOURCES: readonly SourceName[] = ['external', 'internal']
+
+/** Raw monthly counts of one source, as read from the database or a file. */
+export interface SourceCounts {
+  /** documents mentioning the skill per month */
+  n: readonly number[]
+  /** all documents of that source per month (0 = no data that month) */
+  N: readonly number[]
+}
+
+/** Input of one skill: months ('YYYY-MM', any order, no repeats) and counts per source. */
+export interface SkillSeriesInput {
+  id: string
+  label?: string
+  months: readonly string[]
+  external?: SourceCounts
+  internal?: SourceCounts
+}
+
+/** One source on the grid. NaN share where N = 0. */
+export interface GridSource {
+  name: SourceName
+  n: Float64Array
+  N: Float64Array
+  share: Float64Array
+  observedMonths: number
+  mentions: number
+  /** normalised weight in the combined index (0 when the source is not used) */
+  weight: number
+}
+
+export interface SkillGrid {
+  id: string
+  label: string
+  /** month index of grid position 0 */
+  firstMonth: number
+  length: number
+  sources: GridSource[]
+  /** combined demand index: weighted mean of the used sources' shares; NaN unless all used sources are observed */
+  combined: Float64Array
+  /** mentions and documents summed over used sources (for bursts and emergence) */
+  mentions: Float64Array
+  documents: Float64Array
+  /** sources that had data but too few observed months to be used, with the reason */
+  dropped: { name: SourceName; reason: string }[]
+}
+
+/** A skill's input that cannot be used; the message names the skill, the month and the field. */
+export class SeriesInputError extends Error {
+  override name = 'SeriesInputError'
+}
+
+export interface GridOptions {
+  weights: { external: number; internal: number }
+  /** keep only the latest this-many months */
+  windowMonths: number
+  /** a source needs this many observed months to take part */
+  minMonths: number
+  /** last month of the grid (index); default: the skill's last month */
+  lastMonth?: number
+}
+
+/**
+ * Put a skill's counts on a contiguous month grid and build the combined demand index.
+ *
+ * The combined index is the weighted mean of the sources' shares, I(t) = Σ w_s n_s/N_s / Σ w_s,
+ * over the sources that take part (data in at least `minMonths` months; weights renormalised).
+ * A month where a taking-part source has no documents is missing in the index; the regression still
+ * uses every observed month of every source.
+ *
+ * @throws SeriesInputError for malformed months, repeated months, lengths that do not match, negative
+ *   or fractional counts, or n > N
+ * @example
+ * ```ts
+ * buildGrid({ id: 'sql', months: ['2024-01', '2024-02'], external: { n: [3, 4], N: [100, 100] } }, options).combined // => [0.03, 0.04]
+ * ```
+ */
+export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillGrid {
+  const where = `skill "${input.id}"`
+  const indices = input.months.map((month, position) => {
+    try {
+      return monthIndex(month)
+    } catch {
+      throw new SeriesInputError(`${where}: months[${position}] must be YYYY-MM, got "${month}"`)
+    }
+  })
+  const seen = new Map<number, number>()
+  indices.forEach((index, position) => {
+    const earlier = seen.get(index)
+    if (earlier !== undefined) throw new SeriesInputError(`${where}: month ${input.months[position]} appears twice (positions ${earlier} and ${position})`)
+    seen.set(index, position)
+  })
+  const last = options.lastMonth ?? (indices.length ? Math.max(...indices) : 0)
+  const first = indices.length ? Math.max(Math.min(...indices), last - options.windowMonths + 1) : last
+  const length = Math.max(0, last - first + 1)
+
+  const rawSources: GridSource[] = []
+  for (const name of ['external', 'internal'] as const) {
+    const counts = input[name]
+    if (!counts) continue
+    if (counts.n.length !== indices.length || counts.N.length !== indices.length) {
+      throw new SeriesInputError(`${where}: ${name}.n and ${name}.N need one value per month (${indices.length}), got ${counts.n.length} and ${counts.N.length}`)
+    }
+    const n = new Float64Array(length)
+    const N = new Float64Array(length)
+    indices.forEach((index, position) => {
+      const mentions = counts.n[position]!
+      const total = counts.N[position]!
+      const month = input.months[position]
+      if (!Number.isInteger(mentions) || mentions < 0) throw new SeriesInputError(`${where}: ${name}.n for ${month} must be a whole number >= 0, got ${mentions}`)
+      if (!Number.isInteger(total) || total < 0) throw new SeriesInputError(`${where}: ${name}.N for ${month} must be a whole number >= 0, got ${total}`)
+      if (mentions > total) throw new SeriesInputError(`${where}: ${name}.n (${mentions}) exceeds ${name}.N (${total}) for ${month}`)
+      const slot = index - first
+      if (slot < 0 || slot >= length) return
+      n[slot] = mentions
+      N[slot] = total
+    })
+    const share = new Float64Array(length)
+    let observedMonths = 0
+    let mentionTotal = 0
+    for (let t = 0; t < length; t++) {
+      if (N[t]! > 0) {
+        share[t] = n[t]! / N[t]!
+        observedMonths++
+        mentionTotal += n[t]!
+      } else share[t] = Number.NaN
+    }
+    rawSources.push({ name, n, N, share, observedMonths, mentions: mentionTotal, weight: options.weights[name] })
+  }
+  const dropped: SkillGrid['dropped'] = []
+  const sources = rawSources.filter((source) => {
+    if (source.weight <= 0) return false
+    if (source.observedMonths < options.minMonths) {
+      if (source.observedMonths > 0) dropped.push({ name: source.name, reason: `${source.observedMonths} observed months, fewer than ${options.minMonths}` })
+      return false
+    }
+    return true
+  })
+  const weightSum = sources.reduce((sum, source) => sum + source.weight, 0)
+  for (const source of sources) source.weight /= weightSum
+  const combined = new Float64Array(length)
+  const mentions = new Float64Array(length)
+  const documents = new Float64Array(length)
+  for (let t = 0; t < length; t++) {
+    let value = sources.length ? 0 : Number.NaN
+    for (const source of sources) {
+      value += source.weight * source.share[t]!
+      mentions[t]! += source.n[t]!
+      documents[t]! += source.N[t]!
+    }
+    combined[t] = value
+  }
+  return { id: input.id, label: input.label ?? input.id, firstMonth: first, length, sources, combined, mentions, documents, dropped }
+}
+
+/** 'YYYY-MM' of a grid position. */
+export function gridMonth(grid: SkillGrid, position: number): string {
+  return monthLabel(grid.firstMonth + position)
+}
