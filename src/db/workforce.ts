@@ -2,6 +2,7 @@
  * @module db/workforce
  * Storage of imported people, roles, items, responses, abilities and courses.
  */
+import type Database from 'better-sqlite3'
 import type { Db } from './connection.ts'
 
 export interface PersonRow { person_id: string; role: string; team: string }
@@ -36,8 +37,13 @@ export function upsertItems(db: Db, rows: readonly ItemRow[]): void {
   for (const r of rows) st.run(r)
 }
 
+const itemLookups = new WeakMap<Db, Database.Statement>()
+
+/** Whether an item is stored (called once per imported response row, so the statement is kept). */
 export function itemExists(db: Db, itemId: string): boolean {
-  return db.prepare('SELECT 1 FROM items WHERE item_id = ?').get(itemId) !== undefined
+  let st = itemLookups.get(db)
+  if (!st) itemLookups.set(db, (st = db.prepare('SELECT 1 FROM items WHERE item_id = ?')))
+  return st.get(itemId) !== undefined
 }
 
 export function upsertResponses(db: Db, rows: readonly ResponseRow[]): void {
