@@ -1,0 +1,175 @@
+/**
+ * Shared helpers of the reliability and soak tests: run the real `tides` command in a child process
+ * (through tsx, as `npm run tides` does), build a small workspace with a config, a generated taxonomy
+ * and postings from bench/corpus.ts, and compare databases.
+ */
+import { type ChildProcess, spawn } from 'node:child_process'
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import { fileURLToPath, pathToFileURL } from 'node:url'
+import Database from 'better-sqlite3'
+import { generatePostings, generateTaxonomy, plantedTrends, writeTaxonomyCsv, type CorpusTruth, type GeneratedTaxonomy } from '../../bench/corpus.ts'
+import { contentHash } from '../../src/db/connection.ts'
+
+export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..')
+// tsx's loader in this very process (the tsx command would put a second process in between, and a
+// signal sent to it would not reach the program)
+const TSX_PREFLIGHT = path.join(ROOT, 'node_modules', 'tsx', 'dist', 'preflight.cjs')
+const TSX_LOADER = pathToFileURL(path.join(ROOT, 'node_modules', 'tsx', 'dist', 'loader.mjs')).href
+export const CLI = path.join(ROOT, 'src', 'cli.ts')
+
+export interface Finished {
+  code: number | null
+  signal: NodeJS.Signals | null
+  stdout: string
+  stderr: string
+  ms: number
+}
+
+export interface Running {
+  child: ChildProcess
+  /** resolves when the process has exited */
+  done: Promise<Finished>
+  stdout(): string
+  stderr(): string
+}
+
+/** Starts a TypeScript script under tsx in one process (its pid is the program's pid). */
+export function startScript(script: string, args: readonly string[], opts: { cwd?: string; env?: NodeJS.ProcessEnv } = {}): Running {
+  const started = performance.now()
+  const child = spawn(process.execPath, ['--require', TSX_PREFLIGHT, '--import', TSX_LOADER, script, ...args], {
+    cwd: opts.cwd ?? ROOT,
+    env: { ...process.env, NO_COLOR: '1', ...opts.env },
+    stdio: ['ignore', 'pipe', 'pipe'],
+  })
+  let out = ''
+  let err = ''
+  child.stdout!.setEncoding('utf8').on('data', (d: string) => (out += d))
+  child.stderr!.setEncoding('utf8').on('data', (d: string) => (err += d))
+  const done = new Promise<Finished>((resolve, reject) => {
+    child.once('error', reject)
+    child.once('close', (code, signal) => resolve({ code, signal, stdout: out, stderr: err, ms: performance.now() - started }))
+  })
+  return { child, done, stdout: () => out, stderr: () => err }
+}
+
+/** Starts `tides ARGS...`. */
+export function startTides(args: readonly string[], opts: { cwd?: string; env?: NodeJS.ProcessEnv } = {}): Running {
+  return startScript(CLI, args, opts)
+}
+
+/** Runs `tides ARGS...` to the end. */
+export function tides(args: readonly string[], opts: { cwd?: string; env?: NodeJS.ProcessEnv } = {}): Promise<Finished> {
+  return startTides(args, opts).done
+}
+
+/** Resolves once `predicate` holds (polled), or rejects after `timeoutMs`. */
+export async function waitFor(predicate: () => boolean, timeoutMs: number, what: string, everyMs = 20): Promise<void> {
+  const deadline = Date.now() + timeoutMs
+  while (!predicate()) {
+    if (Date.now() > deadline) throw new Error(`timed out after ${timeoutMs} ms waiting for ${what}`)
+    await new Promise((r) => setTimeout(r, everyMs))
+  }
+}
+
+export const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms))
+
+let taxonomyCache: { key: string; taxonomy: GeneratedTaxonomy } | null = null
+
+/** A small generated taxonomy (the shipped concepts plus generated ones), cached per process. */
+export function smallTaxonomy(concepts = 2000, seed = 7): GeneratedTaxonomy {
+  const key = `${concepts}:${seed}`
+  if (taxonomyCache?.key !== key) taxonomyCache = { key, taxonomy: generateTaxonomy({ concepts, labels: concepts * 4, seed }) }
+  return taxonomyCache.taxonomy
+}
+
+export interface Workspace {
+  dir: string
+  db: string
+  config: string
+  postings: string
+  taxonomyCsv: string
+  truth: CorpusTruth
+  /** arguments that point `tides` at this workspace */
+  args: string[]
+  cleanup(): void
+}
+
+/**
+ * A temporary folder with tides.config.json (one JSON Lines source `corpus` over the postings file,
+ * dashboard token set), a generated taxonomy CSV and `n` generated postings over `months` months.
+ */
+export function makeWorkspace(opts: { n: number; months?: number; seed?: number; concepts?: number; batchSize?: number; name?: string }): Workspace {
+  const dir = fs.mkdtempSync(path.join(os.tmpdir(), `tides-${opts.name ?? 'rel'}-`))
+  const taxonomy = smallTaxonomy(opts.concepts ?? 2000, opts.seed ?? 7)
+  const taxonomyCsv = path.join(dir, 'taxonomy.csv')
+  writeTaxonomyCsv(taxonomyCsv, taxonomy)
+  const postings = path.join(dir, 'postings.jsonl')
+  const chunks: Buffer[] = []
+  const truth = generatePostings({ n: opts.n, months: opts.months ?? 24, seed: opts.seed ?? 7, taxonomy, trends: plantedTrends(taxonomy, opts.seed ?? 7) }, (b) => chunks.push(Buffer.from(b)))
+  fs.writeFileSync(postings, Buffer.concat(chunks))
+  const db = path.join(dir, 'tides.db')
+  const config = path.join(dir, 'tides.config.json')
+  fs.writeFileSync(
+    config,
+    JSON.stringify(
+      {
+        db: 'tides.db',
+        dataDir: '.',
+        sources: [{ id: 'corpus', kind: 'jsonl', location: 'postings.jsonl' }],
+        ingest: { batchSize: opts.batchSize ?? 500 },
+        server: { token: 'reliability-test-token-0123456789' },
+      },
+      null,
+      2,
+    ),
+  )
+  return { dir, db, config, postings, taxonomyCsv, truth, args: ['--config', config], cleanup: () => fs.rmSync(dir, { recursive: true, force: true }) }
+}
+
+/** Copies a database file (after a checkpoint, so the copy is complete without its -wal file). */
+export function copyDb(from: string, to: string): void {
+  const db = new Database(from)
+  db.pragma('wal_checkpoint(TRUNCATE)')
+  db.close()
+  fs.copyFileSync(from, to)
+  for (const suffix of ['-wal', '-shm']) fs.rmSync(to + suffix, { force: true })
+}
+
+/** `PRAGMA integrity_check` of a database file: 'ok' or the problems. */
+export function integrity(file: string): string {
+  const db = new Database(file, { readonly: true })
+  try {
+    return (db.pragma('integrity_check') as { integrity_check: string }[]).map((r) => r.integrity_check).join('; ')
+  } finally {
+    db.close()
+  }
+}
+
+/** Tables whose rows record how the work went (runs, retries, cursors, locks) rather than its results. */
+export const BOOKKEEPING_TABLES = ['job_runs', 'events', 'event_cursors', 'locks', 'webhook_deliveries']
+
+/** contentHash of a database file over every table except the bookkeeping ones. */
+export function resultHash(file: string, except: readonly string[] = BOOKKEEPING_TABLES): string {
+  const db = new Database(file, { readonly: true })
+  try {
+    const tables = (db.prepare("SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite_%' ORDER BY name").all() as { name: string }[])
+      .map((r) => r.name)
+      .filter((t) => !except.includes(t))
+    return contentHash(db, tables)
+  } finally {
+    db.close()
+  }
+}
+
+/** Rows of a query on a database file (read-only). */
+export function query<T = Record<string, unknown>>(file: string, sql: string, ...params: unknown[]): T[] {
+  const db = new Database(file, { readonly: true, fileMustExist: true })
+  try {
+    db.pragma('busy_timeout = 5000')
+    return db.prepare(sql).all(...params) as T[]
+  } finally {
+    db.close()
+  }
+}
