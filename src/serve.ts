@@ -7,8 +7,9 @@ import type { AddressInfo } from 'node:net'
 import { JOBS } from '../jobs/index.ts'
 import type { Config } from './config.ts'
 import type { Db } from './db/connection.ts'
+import { ripple, withPipelineLock } from './pipeline.ts'
 import { startSchedules, type Scheduler } from './schedule.ts'
-import { createApp } from './server/app.ts'
+import { createApp, type AppOptions } from './server/app.ts'
 
 export interface Running {
   url: string
@@ -20,13 +21,42 @@ export interface Running {
 
 const LOOPBACK = new Set(['127.0.0.1', '::1', 'localhost'])
 
-export async function serve(db: Db, config: Config, opts: { schedules: boolean; log: (m: string) => void; signals?: boolean }): Promise<Running> {
+export interface ServeOptions {
+  schedules: boolean
+  log: (m: string) => void
+  signals?: boolean
+  /** overrides of the app's options (tests pass stand-in actions) */
+  app?: Partial<AppOptions>
+}
+
+export async function serve(db: Db, config: Config, opts: ServeOptions): Promise<Running> {
   const { host, port } = config.server
   if (!LOOPBACK.has(host)) {
     opts.log(`warning: listening on ${host}, not loopback: anyone who can reach this address can read the dashboard; writes still need the token`)
   }
   let scheduler: Scheduler | null = null
-  const app = createApp(db, config, { nextRuns: () => scheduler?.nextRuns() ?? [] })
+  // a dashboard change (an accepted term, a snooze) emitted events: run the subscribed stages after
+  // the response went out, under the pipeline lock, as a scheduled run would
+  let rippling = false
+  let again = false
+  const afterWrite = (): void => {
+    if (rippling) {
+      again = true // picked up when the current ripple ends
+      return
+    }
+    rippling = true
+    again = false
+    setImmediate(() => {
+      withPipelineLock(db, () => ripple(db, config, opts.log), 5 * 60_000)
+        .then((outcomes) => outcomes.forEach((o) => opts.log(`after a dashboard change: ${o.stage} ${o.error ? `failed: ${o.error}` : (o.result?.summary ?? 'done')}`)))
+        .catch((err: unknown) => opts.log(`after a dashboard change: not run: ${err instanceof Error ? err.message : String(err)}`))
+        .finally(() => {
+          rippling = false
+          if (again) afterWrite()
+        })
+    })
+  }
+  const app = createApp(db, config, { nextRuns: () => scheduler?.nextRuns() ?? [], afterWrite, log: opts.log, ...opts.app })
   const server = await new Promise<ReturnType<typeof serveHttp>>((resolve, reject) => {
     const s = serveHttp({ fetch: app.fetch, hostname: host, port }, () => resolve(s))
     s.once('error', reject)

@@ -52,8 +52,15 @@ export function skillCoverage(rows: readonly CoverageRow[], min: number): { tota
     [...rows.map((r) => ({ size: r.assessed, family: 'skill' })), { size: totalAssessed, family: 'skill', isTotal: true }],
     min,
   )
+  // headcounts are suppressed the same way on their own sizes, so total minus the shown roles never
+  // gives a small role's headcount back
+  const totalHeadcount = rows.reduce((a, r) => a + r.headcount, 0)
+  const headReasons = suppressionReasons(
+    [...rows.map((r) => ({ size: r.headcount, family: 'skill' })), { size: totalHeadcount, family: 'skill', isTotal: true }],
+    min,
+  )
   const byRole = rows.map((r, i): CoverageFigure => {
-    const headcount = r.headcount < min ? null : r.headcount
+    const headcount = headReasons[i] === null ? r.headcount : null
     const reason = reasons[i] ?? null
     if (reason !== null) return hidden(r.role, r.required_theta, headcount, why(reason, min))
     return {
@@ -64,12 +71,12 @@ export function skillCoverage(rows: readonly CoverageRow[], min: number): { tota
     }
   })
   const totalReason = reasons[rows.length] ?? null
-  const headcount = sum((r) => r.headcount)
+  const headcount = headReasons[rows.length] === null ? totalHeadcount : null
   const total: CoverageFigure =
     totalReason !== null
-      ? hidden(null, null, headcount < min ? null : headcount, why(totalReason, min))
+      ? hidden(null, null, headcount, why(totalReason, min))
       : {
-          role: null, requiredTheta: null, headcount: headcount < min ? null : headcount, assessed: totalAssessed, unknown: sum((r) => r.unknown),
+          role: null, requiredTheta: null, headcount, assessed: totalAssessed, unknown: sum((r) => r.unknown),
           coverage: totalAssessed > 0 ? sum((r) => r.expected_meeting) / totalAssessed : null,
           // gap intervals of roles added end to end: wider (more cautious) than a joint interval
           gap: sum((r) => r.expected_gap), gapLow: sum((r) => r.gap_low), gapHigh: sum((r) => r.gap_high),

@@ -11,13 +11,16 @@ export const SPARK_WIDTH = 96
 export const SPARK_HEIGHT = 24
 
 /**
- * The SVG polyline points for a series scaled into the box; missing values break nothing (skipped).
+ * The SVG polyline points for a series scaled into the box; missing values are skipped. Shares are
+ * drawn from a zero baseline (not from their minimum), so month-to-month noise of a steady skill
+ * stays small and a halving looks like one.
  * @example sparkPoints([0, 1], 10, 10, 0) // => "0,10 10,0"
+ * @example sparkPoints([1, 2], 10, 10, 0) // => "0,5 10,0"
  */
 export function sparkPoints(values: readonly (number | null)[], width = SPARK_WIDTH, height = SPARK_HEIGHT, pad = 2): string {
   const present = values.filter((v): v is number => typeof v === 'number' && Number.isFinite(v))
   if (present.length === 0) return ''
-  const min = Math.min(...present)
+  const min = Math.min(0, ...present)
   const max = Math.max(...present)
   const span = max - min
   const step = values.length > 1 ? (width - 2 * pad) / (values.length - 1) : 0

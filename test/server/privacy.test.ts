@@ -15,7 +15,8 @@ describe('skillCoverage (small-group and complementary suppression)', () => {
     const { total, byRole } = skillCoverage([row('A', 14, 12, 6.6), row('B', 3, 3, 2.1)], 5)
     expect(byRole.map((r) => [r.role, r.suppressed, r.coverage])).toEqual([['A', true, null], ['B', true, null]])
     expect(byRole[1]!.headcount).toBeNull() // 3 people: not even the headcount
-    expect(byRole[0]!.headcount).toBe(14)
+    expect(byRole[0]!.headcount).toBeNull() // else 17 − 14 would give the 3 back
+    expect(total!.headcount).toBe(17)
     expect(total!.suppressed).toBe(false)
     expect(total!.coverage).toBeCloseTo(8.7 / 15, 12)
     expect(total!.gap).toBeCloseTo(15 - 8.7, 12)
@@ -25,6 +26,7 @@ describe('skillCoverage (small-group and complementary suppression)', () => {
     const { byRole } = skillCoverage([row('A', 25, 20, 10), row('B', 12, 12, 6), row('C', 4, 3, 1)], 5)
     expect(byRole.map((r) => r.suppressed)).toEqual([false, true, true])
     expect(byRole[0]!.coverage).toBe(0.5)
+    expect(byRole.map((r) => r.headcount)).toEqual([25, null, null])
   })
 
   it('hides the total when everyone together is under the minimum', () => {

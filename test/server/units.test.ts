@@ -7,13 +7,15 @@ import { readExamples, readTrend } from '../../src/server/pages/taxonomy.ts'
 import { sparkPoints, sparkline } from '../../src/server/sparkline.ts'
 
 describe('sparkPoints', () => {
-  it('scales into the box with padding, top = maximum', () => {
+  it('scales into the box with padding from a zero baseline, top = maximum', () => {
     expect(sparkPoints([0, 1], 10, 10, 0)).toBe('0,10 10,0')
-    expect(sparkPoints([1, 2, 3], 104, 24, 2)).toBe('2,22 52,12 102,2')
+    expect(sparkPoints([0, 2, 4], 104, 24, 2)).toBe('2,22 52,12 102,2')
+    expect(sparkPoints([2, 4], 10, 10, 0)).toBe('0,5 10,0') // half the share is half the height
   })
-  it('draws a flat series in the middle, skips missing values, and returns nothing for no data', () => {
-    expect(sparkPoints([5, 5, 5], 10, 20, 0)).toBe('0,10 5,10 10,10')
-    expect(sparkPoints([1, null, 3], 10, 10, 0)).toBe('0,10 10,0')
+  it('draws a constant series at full height, zeros in the middle, skips missing values, nothing for no data', () => {
+    expect(sparkPoints([5, 5, 5], 10, 20, 0)).toBe('0,0 5,0 10,0')
+    expect(sparkPoints([0, 0], 10, 20, 0)).toBe('0,10 10,10')
+    expect(sparkPoints([1, null, 3], 10, 9, 0)).toBe('0,6 10,0')
     expect(sparkPoints([null, NaN as number])).toBe('')
   })
   it('names first and last value in its accessible label', async () => {
