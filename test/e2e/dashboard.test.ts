@@ -111,14 +111,15 @@ describe('dashboard in Chromium', () => {
     await expect.poll(() => chart.getAttribute('data-drawn'), { timeout: 15_000 }).not.toBeNull()
     expect(Number(await chart.getAttribute('data-drawn'))).toBe(48) // 24 external + 24 internal monthly shares
     // the canvas has ink on it: count non-transparent pixels
-    const inked = await page.evaluate(() => {
-      const canvas = document.querySelector('#demand-chart canvas') as HTMLCanvasElement | null
+    // (a string, so this Node-side file needs no DOM typings)
+    const inked = (await page.evaluate(`(() => {
+      const canvas = document.querySelector('#demand-chart canvas')
       if (!canvas) return -1
-      const data = canvas.getContext('2d')!.getImageData(0, 0, canvas.width, canvas.height).data
+      const data = canvas.getContext('2d').getImageData(0, 0, canvas.width, canvas.height).data
       let n = 0
-      for (let i = 3; i < data.length; i += 4) if (data[i]! > 0) n++
+      for (let i = 3; i < data.length; i += 4) if (data[i] > 0) n++
       return n
-    })
+    })()`)) as number
     expect(inked).toBeGreaterThan(2000)
     expect(await page.locator('#demand-chart .u-legend').textContent()).toContain('Forecast')
     await shot('03-skill-kubernetes')
