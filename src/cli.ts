@@ -10,7 +10,7 @@ import { parseArgs, type ParseArgsConfig } from 'node:util'
 import { IMPORT_KINDS, IMPORTERS, PLANNED_REPORTS, REPORTS, type ImportKind } from './commands/registry.ts'
 import { COMMANDS as EXTRA_COMMANDS } from './commands/extra.ts'
 import { ConfigError, loadConfig, type Config } from './config.ts'
-import { DbError, openDb, type Db } from './db/connection.ts'
+import { DbError, describeDbFailure, openDb, type Db } from './db/connection.ts'
 import { closeAbandonedRuns } from './db/runs.ts'
 import { BusyError, runPipeline } from './pipeline.ts'
 import { NotBuiltError } from './stage.ts'
@@ -269,6 +269,11 @@ export async function main(argv: string[], io: Io): Promise<number> {
     }
     if (err instanceof CliError || err instanceof ConfigError || err instanceof DbError || err instanceof NotBuiltError || err instanceof BusyError) {
       io.err(`tides ${name}: ${err.message}\n`)
+      return 1
+    }
+    const dbFailure = describeDbFailure(err, opened?.config.db ?? config?.db)
+    if (dbFailure) {
+      io.err(`tides ${name}: ${dbFailure}\n`)
       return 1
     }
     io.err(`tides ${name}: unexpected error: ${err instanceof Error ? (err.stack ?? err.message) : String(err)}\n`)

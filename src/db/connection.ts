@@ -90,6 +90,24 @@ export function migrate(db: Db, upTo: number = SCHEMA_VERSION, migrations: reado
   return applied
 }
 
+/**
+ * A one-line explanation of a SQLite error the user can act on (read-only file, full disk, I/O
+ * failure, damaged file, another process holding it), or null for any other error.
+ */
+export function describeDbFailure(err: unknown, file?: string): string | null {
+  const code = (err as { code?: unknown } | null)?.code
+  if (typeof code !== 'string' || !code.startsWith('SQLITE_')) return null
+  const where = file ? `database ${file}` : 'the database'
+  const why = (err as Error).message
+  if (code.startsWith('SQLITE_READONLY')) return `${where} cannot be written (${why}): the file or its folder is read-only; nothing was changed`
+  if (code === 'SQLITE_FULL') return `${where} cannot grow (${why}): the disk is full; the interrupted work was rolled back`
+  if (code.startsWith('SQLITE_IOERR')) return `${where}: disk I/O error (${code}): the disk may be full, a file size limit reached or the disk failing; the interrupted work was rolled back`
+  if (code.startsWith('SQLITE_CANTOPEN')) return `${where} cannot be opened (${why}): check that the file and its folder exist and are readable and writable`
+  if (code === 'SQLITE_CORRUPT' || code === 'SQLITE_NOTADB') return `${where} is damaged or not a skill-tides database (${why})`
+  if (code.startsWith('SQLITE_BUSY') || code.startsWith('SQLITE_LOCKED')) return `${where} is busy: another process kept it locked too long (${why}); try again`
+  return null
+}
+
 /** The schema version recorded in the database. */
 export function schemaVersion(db: Db): number {
   return db.pragma('user_version', { simple: true }) as number

@@ -27,6 +27,21 @@ export interface Finished {
   ms: number
 }
 
+export interface SpawnOpts {
+  cwd?: string
+  env?: NodeJS.ProcessEnv
+  /** run as this user and group (only root may) */
+  uid?: number
+  gid?: number
+  /** largest file the process may write, in bytes (needs prlimit) */
+  fileSizeLimit?: number
+}
+
+/** Whether util-linux prlimit is installed (for file-size-limit tests). */
+export function hasPrlimit(): boolean {
+  return ['/usr/bin/prlimit', '/bin/prlimit', '/usr/local/bin/prlimit'].some((p) => fs.existsSync(p))
+}
+
 export interface Running {
   child: ChildProcess
   /** resolves when the process has exited */
@@ -36,12 +51,17 @@ export interface Running {
 }
 
 /** Starts a TypeScript script under tsx in one process (its pid is the program's pid). */
-export function startScript(script: string, args: readonly string[], opts: { cwd?: string; env?: NodeJS.ProcessEnv } = {}): Running {
+export function startScript(script: string, args: readonly string[], opts: SpawnOpts = {}): Running {
   const started = performance.now()
-  const child = spawn(process.execPath, ['--require', TSX_PREFLIGHT, '--import', TSX_LOADER, script, ...args], {
+  const command = [process.execPath, '--require', TSX_PREFLIGHT, '--import', TSX_LOADER, script, ...args]
+  // a file size limit (RLIMIT_FSIZE) through util-linux prlimit: writes past it fail with EFBIG
+  if (opts.fileSizeLimit !== undefined) command.unshift('prlimit', `--fsize=${opts.fileSizeLimit}`, '--')
+  const child = spawn(command[0]!, command.slice(1), {
     cwd: opts.cwd ?? ROOT,
     env: { ...process.env, NO_COLOR: '1', ...opts.env },
     stdio: ['ignore', 'pipe', 'pipe'],
+    uid: opts.uid,
+    gid: opts.gid,
   })
   let out = ''
   let err = ''
@@ -55,12 +75,12 @@ export function startScript(script: string, args: readonly string[], opts: { cwd
 }
 
 /** Starts `tides ARGS...`. */
-export function startTides(args: readonly string[], opts: { cwd?: string; env?: NodeJS.ProcessEnv } = {}): Running {
+export function startTides(args: readonly string[], opts: SpawnOpts = {}): Running {
   return startScript(CLI, args, opts)
 }
 
 /** Runs `tides ARGS...` to the end. */
-export function tides(args: readonly string[], opts: { cwd?: string; env?: NodeJS.ProcessEnv } = {}): Promise<Finished> {
+export function tides(args: readonly string[], opts: SpawnOpts = {}): Promise<Finished> {
   return startTides(args, opts).done
 }
 
@@ -161,6 +181,24 @@ export function resultHash(file: string, except: readonly string[] = BOOKKEEPING
   } finally {
     db.close()
   }
+}
+
+/** contentHash of each table of a database file, by table name. */
+export function tableHashes(file: string): Record<string, string> {
+  const db = new Database(file, { readonly: true })
+  try {
+    const tables = (db.prepare("SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite_%' ORDER BY name").all() as { name: string }[]).map((r) => r.name)
+    return Object.fromEntries(tables.map((t) => [t, contentHash(db, [t])]))
+  } finally {
+    db.close()
+  }
+}
+
+/** Names of the tables whose contents differ between two database files. */
+export function changedTables(a: string, b: string): string[] {
+  const ha = tableHashes(a)
+  const hb = tableHashes(b)
+  return [...new Set([...Object.keys(ha), ...Object.keys(hb)])].filter((t) => ha[t] !== hb[t]).sort()
 }
 
 /** Rows of a query on a database file (read-only). */
