@@ -57,8 +57,10 @@ export const planConfigSchema = z
       .object({
         /** share of a course's skills (with evidence) that must be declining or fading for "retire" */
         retireDecliningFraction: z.number().gt(0).max(1).default(0.75),
-        /** a course whose demand-weighted share halves within this many months may be retired */
-        retireHalvingMonths: z.number().positive().default(36),
+        /** the same, when the course's enrolments fell over the last year */
+        retireFractionWhenEnrolmentsFall: z.number().gt(0).max(1).default(0.5),
+        /** a course whose declining skills' demand-weighted share halves within this many months may be retired */
+        retireHalvingMonths: z.number().positive().default(30),
         /** enrolment changes within this fraction count as flat */
         enrolmentTolerance: z.number().min(0).max(1).default(0.05),
         /** halving times beyond this many months are reported as "not within" */

@@ -6,9 +6,11 @@
  *   C(t) = Σ_s L_s·exp(r_s·t), with L_s the latest share of skill s and r_s its monthly log-rate
  *   (from its half-life, else its annual growth; 0 when unknown); the months until C halves are found
  *   by a monthly scan and bisection, with a fast and a slow end from the skills' interval ends.
- * - **retire**: at least `courses.retireDecliningFraction` of the skills with evidence are declining
- *   or fading, the course's share halves within `courses.retireHalvingMonths` (or every declining
- *   skill is fading and no halving time can be computed), and enrolments do not rise.
+ * - **retire**: the course's declining part halves soon (its declining and fading skills' own
+ *   demand-weighted share halves within `courses.retireHalvingMonths`, or they are all fading, which
+ *   the curves define as already rare and still falling), and either at least
+ *   `courses.retireDecliningFraction` of the skills with evidence decline and enrolments do not rise,
+ *   or at least `courses.retireFractionWhenEnrolmentsFall` decline and enrolments fall.
  * - **refresh**: some skills decline and rising skills are adjacent to them in postings (named, to be
  *   added); also a would-be retire whose enrolments still rise.
  * - **keep**: otherwise.
@@ -65,7 +67,10 @@ export interface CourseFlag {
   skills: CourseSkillView[]
   unresolved: string[]
   decliningFraction: number | null
+  /** the whole course's demand-weighted share */
   halving: Halving
+  /** the demand-weighted share of its declining skills only */
+  decliningHalving: Halving
   enrolment: { last12m: number | null; previous12m: number | null; trend: 'rising' | 'flat' | 'falling' | 'unknown' }
   /** rising skills to add (refresh), with the declining skill each is adjacent to */
   add: (AdjacentRising & { adjacentTo: string })[]
@@ -191,18 +196,26 @@ export function flagCourse(
   if (noEvidence.length && evidenced.length) reasons.push(`Not enough demand evidence yet for ${listWords(noEvidence.map((s) => s.label))}.`)
 
   let flag: Flag = 'keep'
+  // "halves soon" is judged on the course's losing part: a steady co-skill must not hide a fading subject
+  const decliningHalf = halving(declining, cfg.maxMonths)
   const allFading = declining.length > 0 && declining.every((s) => s.curve!.state === 'fading')
-  const halvesSoon = half.months !== null ? half.months <= cfg.retireHalvingMonths : allFading
-  const retireLevel = fraction !== null && fraction >= cfg.retireDecliningFraction && halvesSoon
+  const halvesSoon = allFading || (decliningHalf.months !== null && decliningHalf.months <= cfg.retireHalvingMonths)
+  const mostlyDeclining = fraction !== null && fraction >= cfg.retireDecliningFraction
+  const partlyDeclining = fraction !== null && fraction >= cfg.retireFractionWhenEnrolmentsFall
+  // retire: mostly declining and learners not growing, or partly declining and learners leaving
+  const retireLevel = halvesSoon && (mostlyDeclining || (partlyDeclining && enrolment.trend === 'falling'))
   const halvingText =
     half.months === null
-      ? `its demand-weighted share does not halve within ${cfg.maxMonths} months${half.low !== null ? ` (at the fast end of the intervals it would in ${Math.round(half.low)})` : ''}`
-      : `its demand-weighted share halves in ${formatMonths(half.months, half.low, half.high, cfg.maxMonths)}`
+      ? `the course's demand-weighted share does not halve within ${cfg.maxMonths} months${half.low !== null ? ` (at the fast end of the intervals it would in ${Math.round(half.low)})` : ''}`
+      : `the course's demand-weighted share halves in ${formatMonths(half.months, half.low, half.high, cfg.maxMonths)}`
+  const partText =
+    declining.length < evidenced.length && decliningHalf.months !== null ? `; its declining part halves in ${formatMonths(decliningHalf.months, decliningHalf.low, decliningHalf.high, cfg.maxMonths)}` : ''
   const enrolText =
     enrolment.trend === 'unknown'
       ? 'enrolment trend unknown'
       : `enrolments ${enrolment.trend === 'flat' ? 'held steady' : enrolment.trend === 'rising' ? 'rose' : 'fell'} from ${enrolment.previous12m} to ${enrolment.last12m} over the last year`
   const addText = add.length ? `add ${listWords(add.map((a) => a.label))}, which rise${add.length === 1 ? 's' : ''} in postings that ask for ${listWords([...new Set(add.map((a) => labelOf(skills, a.adjacentTo)))])}` : ''
+  const fadingText = allFading && (decliningHalf.months === null || decliningHalf.months > cfg.retireHalvingMonths) ? ' (fading: already rare and still falling)' : ''
 
   if (evidenced.length === 0) {
     reasons.push(skills.length ? 'No skill of this course has demand evidence yet, so there is nothing to judge.' : 'The course has no known skills, so there is nothing to judge.')
@@ -214,20 +227,19 @@ export function flagCourse(
           ? 'Its only skill with demand evidence is'
           : `All ${evidenced.length} of its skills are`
         : `${declining.length} of its ${evidenced.length} skills are`
-    reasons.push(`${what} losing demand: ${listWords(declining.map(skillPhrase))}; ${halvingText}; ${enrolText}.`)
+    reasons.push(`${what} losing demand${fadingText}: ${listWords(declining.map(skillPhrase))}; ${halvingText}${partText}; ${enrolText}.`)
     if (add.length) reasons.push(`A replacement could teach ${listWords(add.map((a) => a.label))} instead.`)
   } else if (retireLevel) {
     flag = 'refresh'
-    reasons.push(`Its skills lose demand (${listWords(declining.map(skillPhrase))}; ${halvingText}), but ${enrolText}: refresh rather than retire${add.length ? `; ${addText}` : ''}.`)
+    reasons.push(`Its skills lose demand (${listWords(declining.map(skillPhrase))}; ${halvingText}${partText}), but ${enrolText}: refresh rather than retire${add.length ? `; ${addText}` : ''}.`)
   } else if (declining.length > 0 && add.length > 0) {
     flag = 'refresh'
-    reasons.push(`${listWords(declining.map(skillPhrase))} ${declining.length === 1 ? 'loses' : 'lose'} demand while adjacent skills rise: ${addText}; ${halvingText}.`)
+    reasons.push(`${listWords(declining.map(skillPhrase))} ${declining.length === 1 ? 'loses' : 'lose'} demand while adjacent skills rise: ${addText}; ${halvingText}${partText}.`)
   } else if (declining.length > 0) {
-    const why =
-      fraction! < cfg.retireDecliningFraction
-        ? 'the rest of the course holds its demand'
-        : `${halvingText}, slower than the ${cfg.retireHalvingMonths} months that would call for retiring it`
-    reasons.push(`${listWords(declining.map(skillPhrase))} ${declining.length === 1 ? 'loses' : 'lose'} demand, but ${why}, and no rising skill is adjacent in postings; review again later.`)
+    const why = !halvesSoon
+      ? `${declining.length === 1 ? 'it falls' : 'they fall'} slower than retiring would call for (halving within ${cfg.retireHalvingMonths} months)`
+      : 'the rest of the course holds its demand'
+    reasons.push(`${listWords(declining.map(skillPhrase))} ${declining.length === 1 ? 'loses' : 'lose'} demand, but ${why}, and no rising skill is adjacent in postings; ${halvingText}; review again later.`)
   } else {
     reasons.push(`None of its skills is losing demand (${listWords(evidenced.map(skillPhrase))}).`)
   }
@@ -253,6 +265,7 @@ export function flagCourse(
     unresolved: [...unresolved],
     decliningFraction: fraction,
     halving: half,
+    decliningHalving: decliningHalf,
     enrolment,
     add,
   }

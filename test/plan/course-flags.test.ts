@@ -125,7 +125,7 @@ describe('course flags on small synthetic curves', () => {
     const f = flagCourse(course(), [skill('perl')], [], ADJ, cfg)
     expect(f.flag).toBe('keep')
     expect(f.halving.months).toBeCloseTo(96, 6)
-    expect(f.reasons[0]).toMatch(/slower than the 36 months/)
+    expect(f.reasons[0]).toMatch(/falls slower than retiring would call for \(halving within 30 months\)/)
   })
 
   it('keep: steady skills', () => {
@@ -147,10 +147,30 @@ describe('course flags on small synthetic curves', () => {
     expect(inferred.reasons.join(' ')).toMatch(/Not enough demand evidence yet for COBOL/)
   })
 
+  it('a fading subject with a steady co-skill retires when learners leave, not while they stay', () => {
+    // half the skills decline; the whole course never halves (Python holds), but its declining part is fading
+    const falling = flagCourse(course(), [skill('flash'), skill('python')], [], ADJ, cfg)
+    expect(falling.flag).toBe('retire')
+    expect(falling.halving.months).toBeNull()
+    expect(falling.decliningHalving.months).toBeCloseTo(14, 6)
+    expect(falling.reasons[0]).toMatch(/1 of its 2 skills are losing demand/)
+    expect(falling.reasons[0]).toMatch(/its declining part halves in 14 months/)
+    const flat = flagCourse(course({ enrollments_12m: 40 }), [skill('flash'), skill('python')], [], ADJ, cfg)
+    expect(flat.flag).toBe('refresh') // HTML5 Canvas is adjacent to Flash
+    expect(flagCourse(course({ enrollments_12m: 40 }), [skill('flash'), skill('python')], [], new Map(), cfg).flag).toBe('keep')
+  })
+
   it('thresholds come from config', () => {
-    const strict = testConfig({ courses: { retireHalvingMonths: 12 } }).plan.courses
-    expect(flagCourse(course(), [skill('flash')], [], new Map(), strict).flag).toBe('keep')
-    expect(flagCourse(course(), [skill('jquery')], [], new Map(), testConfig({ courses: { retireHalvingMonths: 40 } }).plan.courses).flag).toBe('retire')
+    const at = (c: Record<string, unknown>) => testConfig({ courses: c }).plan.courses
+    // jQuery's share halves in 36 months: too slow for the default 30, fast enough for 40
+    expect(flagCourse(course(), [skill('jquery')], [], new Map(), cfg).flag).toBe('keep')
+    expect(flagCourse(course(), [skill('jquery')], [], new Map(), at({ retireHalvingMonths: 40 })).flag).toBe('retire')
+    // half declining with flat enrolments: retire only when half is enough
+    const flat = course({ enrollments_12m: 40 })
+    expect(flagCourse(flat, [skill('jquery'), skill('html')], [], new Map(), at({ retireHalvingMonths: 40 })).flag).toBe('keep')
+    expect(flagCourse(flat, [skill('jquery'), skill('html')], [], new Map(), at({ retireHalvingMonths: 40, retireDecliningFraction: 0.5 })).flag).toBe('retire')
+    // falling enrolments and a stricter share for that case
+    expect(flagCourse(course(), [skill('jquery'), skill('html')], [], new Map(), at({ retireHalvingMonths: 40, retireFractionWhenEnrolmentsFall: 0.6 })).flag).toBe('keep')
   })
 })
 
