@@ -78,7 +78,7 @@ export function parseTaxonomyCsv(text: string, file: string): RecordsResult {
   const seen = new Map<string, number>()
   for (const row of rows) {
     const newlines = (row.raw.replace(/\r?\n$/, '').match(/\n/g) ?? []).length
-    const line = row.info.lines + headerLine - newlines
+    const line = row.info.lines - newlines
     const get = (k: string) => (row.record[k] ?? '').trim()
     const id = get('id')
     const prefLabel = get('prefLabel')

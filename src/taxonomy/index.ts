@@ -30,20 +30,27 @@ export function formatOf(file: string): TaxonomyFormat | undefined {
 }
 
 /**
- * Parses and validates taxonomy text.
+ * Parses and validates taxonomy CSV text (synchronous).
  * @example
- * loadTaxonomyText('id,prefLabel,altLabel,hiddenLabel,broader,type\npython,Python,,,,hard\n', 'x.csv', 'csv').taxonomy.concepts.length // => 1
+ * loadCsvTaxonomy('id,prefLabel,altLabel,hiddenLabel,broader,type\npython,Python,,,,hard\n', 'x.csv').taxonomy.concepts.length // => 1
  */
-export function loadTaxonomyText(text: string, file: string, format: TaxonomyFormat): LoadResult {
-  const { records, problems } = format === 'csv' ? parseTaxonomyCsv(text, file) : parseSkosTurtle(text, file)
+export function loadCsvTaxonomy(text: string, file: string): LoadResult {
+  const { records, problems } = parseTaxonomyCsv(text, file)
+  return buildTaxonomy(records, problems)
+}
+
+/** Parses and validates taxonomy text in either format. */
+export async function loadTaxonomyText(text: string, file: string, format: TaxonomyFormat): Promise<LoadResult> {
+  if (format === 'csv') return loadCsvTaxonomy(text, file)
+  const { records, problems } = await parseSkosTurtle(text, file)
   return buildTaxonomy(records, problems)
 }
 
 /**
- * Reads, parses and validates a taxonomy file.
+ * Reads, parses and validates a taxonomy file (.csv or .ttl).
  * @throws Error when the file cannot be read or its extension is neither .csv nor .ttl
  */
-export function loadTaxonomyFile(file: string): LoadResult {
+export async function loadTaxonomyFile(file: string): Promise<LoadResult> {
   const format = formatOf(file)
   if (!format) throw new Error(`${file}: unknown taxonomy format (expected .csv or .ttl)`)
   return loadTaxonomyText(fs.readFileSync(file, 'utf8'), file, format)
@@ -68,17 +75,21 @@ export interface LoadedMatcher {
 }
 
 /** Loads a taxonomy file with its rules and builds the matcher. */
-export function matcherForFile(taxonomyFile: string, rulesFile = rulesFileFor(taxonomyFile)): LoadedMatcher {
-  const loaded = loadTaxonomyFile(taxonomyFile)
+export async function matcherForFile(taxonomyFile: string, rulesFile = rulesFileFor(taxonomyFile)): Promise<LoadedMatcher> {
+  const loaded = await loadTaxonomyFile(taxonomyFile)
   const rules = loadRulesFile(rulesFile)
   const matcher = Matcher.build(loaded.taxonomy, rules)
   return { matcher, problems: [...loaded.problems, ...matcher.problems] }
 }
 
 let shipped: LoadedMatcher | undefined
-/** The shipped taxonomy's matcher, built once per process. */
+/** The shipped taxonomy's matcher (CSV, so built synchronously), once per process. */
 export function shippedMatcher(): LoadedMatcher {
-  shipped ??= matcherForFile(SHIPPED_TAXONOMY, SHIPPED_RULES)
+  if (!shipped) {
+    const loaded = loadCsvTaxonomy(fs.readFileSync(SHIPPED_TAXONOMY, 'utf8'), SHIPPED_TAXONOMY)
+    const matcher = Matcher.build(loaded.taxonomy, loadRulesFile(SHIPPED_RULES))
+    shipped = { matcher, problems: [...loaded.problems, ...matcher.problems] }
+  }
   return shipped
 }
 

@@ -129,7 +129,10 @@ export function compileMatcher(taxonomy: Taxonomy, rules: RuleSet = emptyRules()
       const key = folded.join(' ')
       const existing = entryByKey.get(key)
       if (existing !== undefined) {
-        if (labelConcept[existing] === ci) labelWritten[existing]!.push(written)
+        if (labelConcept[existing] === ci) {
+          labelWritten[existing]!.push(written)
+          labelLists[existing]! |= lists
+        }
         continue // another concept's label: the validator has reported it
       }
       const entry = labelConcept.length

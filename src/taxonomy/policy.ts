@@ -47,13 +47,12 @@ export const DEFAULT_TECH_WORDS: readonly string[] = [
  * Found by stemming the shipped labels' families; common practice, no source.
  */
 export const DEFAULT_STEM_EXCLUDE: readonly string[] = [
-  'community', 'communities', 'communal', 'commune', 'communes', 'communism', 'communist', 'negotiable',
+  'community', 'communities', 'communal', 'commune', 'communes', 'communism', 'negotiable',
   'integrate', 'integrated', 'integrates', 'integrating', 'integration', 'integrations', 'integral', 'integrator',
   'integrators', 'adapter', 'adapters', 'creative', 'creatives', 'delegates', 'influencer', 'influencers',
   'assert', 'asserts', 'assertion', 'assertions', 'account', 'accounts', 'accounting', 'accountant',
-  'accountants', 'professional', 'professionals', 'profession', 'professions', 'resource', 'resources',
+  'accountants', 'professional', 'professionals', 'resource', 'resources',
   'depend', 'depends', 'dependent', 'dependency', 'dependencies', 'decision', 'decisions', 'coaches',
-  'compose', 'composed', 'composer',
 ]
 
 /** One-token labels with capitals whose lexicon check the inference needs (letters only, three or more). */

@@ -35,14 +35,14 @@ function languageRank(lang: string): number {
 }
 
 /**
- * Parses SKOS Turtle text into concept records.
+ * Parses SKOS Turtle text into concept records (asynchronous: n3 delivers quads in a microtask).
  * @param text Turtle source
  * @param file name used in problems
  * @example
- * parseSkosTurtle('@prefix skos: <http://www.w3.org/2004/02/skos/core#> . <http://x/go> a skos:Concept ; skos:prefLabel "Go"@en .', 't.ttl').records[0].id
+ * await parseSkosTurtle('@prefix skos: <http://www.w3.org/2004/02/skos/core#> . <http://x/go> a skos:Concept ; skos:prefLabel "Go"@en .', 't.ttl')  // .records[0].id
  * // => 'go'
  */
-export function parseSkosTurtle(text: string, file: string): RecordsResult {
+export async function parseSkosTurtle(text: string, file: string): Promise<RecordsResult> {
   const problems: Problem[] = []
   const drafts = new Map<string, Draft>()
   const draft = (iri: string, line: number): Draft => {
@@ -53,6 +53,9 @@ export function parseSkosTurtle(text: string, file: string): RecordsResult {
     }
     return d
   }
+  // n3 parses a string with a callback asynchronously (in a microtask), delivering the quads
+  // before a syntax error and then the error; the lexer's current line is the line of the
+  // statement's end when a quad is delivered.
   const parser = new Parser()
   const lexer = (parser as unknown as { _lexer: { _line: number } })._lexer
   const onQuad = (quad: Quad): void => {
@@ -96,17 +99,23 @@ export function parseSkosTurtle(text: string, file: string): RecordsResult {
       draft(o.value, line).broader.push(s)
     }
   }
-  const syntaxError = (err: Error & { context?: { line?: number } }): void => {
-    problems.push({ file, line: err.context?.line ?? lexer._line, message: `Turtle syntax error, rest of file skipped: ${err.message}`, severity: 'error' })
-  }
-  try {
-    parser.parse(text, (err, quad) => {
-      if (err) syntaxError(err)
-      else if (quad) onQuad(quad)
-    })
-  } catch (err) {
-    syntaxError(err as Error)
-  }
+  await new Promise<void>((resolve) => {
+    const syntaxError = (err: Error & { context?: { line?: number } }): void => {
+      problems.push({ file, line: err.context?.line ?? lexer._line, message: `Turtle syntax error, rest of file skipped: ${err.message}`, severity: 'error' })
+    }
+    try {
+      parser.parse(text, (err, quad) => {
+        if (err) {
+          syntaxError(err)
+          resolve()
+        } else if (quad) onQuad(quad)
+        else resolve()
+      })
+    } catch (err) {
+      syntaxError(err as Error)
+      resolve()
+    }
+  })
 
   // ids: the local name when unique among concepts, else the full IRI
   const concepts = [...drafts.values()].filter((d) => d.typed || d.pref.length > 0)
