@@ -86,10 +86,25 @@ export function stripDoctype(xml: string): { xml: string; declaredEntities: bool
   return { xml: xml.slice(0, m.index) + '\n'.repeat(lines) + xml.slice(m.index + m[0].length), declaredEntities: /<!ENTITY/i.test(m[0]), removed: true }
 }
 
+/** offsets of the line breaks of the last text asked about (one feed is read at a time) */
+let breaks: { text: string; at: number[] } | null = null
+
+/** 1-based line of `offset`, by binary search over the text's line breaks (found once per text). */
 function lineAt(text: string, offset: number): number {
-  let line = 1
-  for (let i = text.indexOf('\n'); i !== -1 && i < offset; i = text.indexOf('\n', i + 1)) line++
-  return line
+  if (breaks?.text !== text) {
+    const at: number[] = []
+    for (let i = text.indexOf('\n'); i !== -1; i = text.indexOf('\n', i + 1)) at.push(i)
+    breaks = { text, at }
+  }
+  const at = breaks.at
+  let lo = 0
+  let hi = at.length
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1
+    if (at[mid]! < offset) lo = mid + 1
+    else hi = mid
+  }
+  return lo + 1
 }
 
 /**
@@ -140,13 +155,23 @@ async function recover(
   const namespaces = [...rootAttributes.matchAll(/\sxmlns(?::[\w.-]+)?\s*=\s*("[^"]*"|'[^']*')/g)].map((m) => m[0]).join('')
   const tag = format === 'atom' ? 'entry' : 'item'
   const items: FeedReadResult['items'] = []
-  const chunk = new RegExp(`<${tag}[\\s>][\\s\\S]*?</${tag}\\s*>`, 'g')
-  let end = 0
-  for (const m of xml.matchAll(chunk)) {
-    const line = lineAt(xml, m.index!)
-    end = m.index! + m[0].length
+  // each item runs from its start tag to the first end tag before the next item starts, so an item
+  // whose end tag is damaged costs that item only, not the one after it too
+  const starts = [...xml.matchAll(new RegExp(`<${tag}[\\s>]`, 'g'))].map((m) => m.index!)
+  const close = new RegExp(`</${tag}\\s*>`, 'g')
+  for (let k = 0; k < starts.length; k++) {
+    const start = starts[k]!
+    const limit = k + 1 < starts.length ? starts[k + 1]! : xml.length
+    const line = lineAt(xml, start)
+    close.lastIndex = start
+    const end = close.exec(xml)
+    if (!end || end.index + end[0].length > limit) {
+      problems.push({ file, line, reason: k + 1 < starts.length ? `an ${tag} has no end tag before the next ${tag} begins` : `an ${tag} is cut off (the body ends inside it)` })
+      continue
+    }
+    const text = xml.slice(start, end.index + end[0].length)
     const wrapped =
-      format === 'atom' ? `<feed${namespaces.includes('xmlns=') ? '' : ' xmlns="http://www.w3.org/2005/Atom"'}${namespaces}>${m[0]}</feed>` : `<rss version="2.0"${namespaces}><channel>${m[0]}</channel></rss>`
+      format === 'atom' ? `<feed${namespaces.includes('xmlns=') ? '' : ' xmlns="http://www.w3.org/2005/Atom"'}${namespaces}>${text}</feed>` : `<rss version="2.0"${namespaces}><channel>${text}</channel></rss>`
     try {
       // a fresh parser each time: xml2js keeps state after an error, and a reused parser was seen
       // to let an undeclared entity through as literal text on the next document
@@ -156,8 +181,6 @@ async function recover(
       problems.push({ file, line, reason: `item is not well-formed XML: ${(err as Error).message.replace(/\s+/g, ' ').replace(/ Line: \d+ Column: \d+ Char: .*$/, '').trim()}` })
     }
   }
-  const tail = xml.slice(end)
-  if (new RegExp(`<${tag}[\\s>]`).test(tail)) problems.push({ file, line: lineAt(xml, end + tail.search(new RegExp(`<${tag}[\\s>]`))), reason: `an ${tag} is cut off (the body ends inside it)` })
   return { format, items, problems, fatal: items.length === 0 && problems.every((p) => p.warning) ? `no readable ${tag} in the feed` : null }
 }
 
