@@ -69,6 +69,23 @@ export function setSourceValidators(db: Db, id: string, etag: string | null, las
 // ------------------------------------------------------------------------------------------------
 // documents
 
+/**
+ * Raises the connection's page cache to at least `kib` KiB (SQLite's default is 2 MiB): the random
+ * inserts of ingest (text-hash index, band keys) otherwise miss the cache on every row once the
+ * indexes outgrow it.
+ */
+export function ensureCacheSize(db: Db, kib: number): void {
+  const current = db.pragma('cache_size', { simple: true }) as number
+  // negative = KiB, positive = pages (of page_size bytes)
+  const pageSize = db.pragma('page_size', { simple: true }) as number
+  const currentKib = current < 0 ? -current : (current * pageSize) / 1024
+  if (currentKib < kib) db.pragma(`cache_size = -${Math.floor(kib)}`)
+  // checkpoint (which syncs) every `kib` of WAL instead of every 1000 pages: far fewer syncs during
+  // a large ingest; SQLite still checkpoints, just less often
+  const pages = Math.floor((kib * 1024) / pageSize)
+  if ((db.pragma('wal_autocheckpoint', { simple: true }) as number) < pages) db.pragma(`wal_autocheckpoint = ${pages}`)
+}
+
 export interface DocumentRow {
   source_id: string
   external_id: string
@@ -101,15 +118,16 @@ export interface StoredSignature {
 const INSERT_DOCUMENT = `INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, date_estimated,
   text_hash, duplicate_of, dup_similarity, occupation, organisation, location, channel, team, skills_json, signature)
   VALUES (@source_id, @external_id, @kind, @title, @body, @posted_at, @month, @date_estimated, @text_hash, @duplicate_of,
-  @dup_similarity, @occupation, @organisation, @location, @channel, @team, @skills_json, @signature)`
+  @dup_similarity, @occupation, @organisation, @location, @channel, @team, @skills_json, @signature)
+  ON CONFLICT (source_id, external_id) DO NOTHING`
 
 /**
  * Prepared statements for the ingest hot path, prepared once per connection and band count.
  * Every method runs inside the caller's batch transaction.
  */
 export class DocumentStore {
-  private readonly byExternal: Statement
   private readonly byHash: Statement
+  private readonly setDup: Statement
   private readonly insert: Statement
   private readonly signatureOf: Statement
   private readonly insertBandsStmt: Statement
@@ -119,27 +137,32 @@ export class DocumentStore {
     readonly db: Db,
     readonly bands: number,
   ) {
-    this.byExternal = db.prepare('SELECT id FROM documents WHERE source_id = ? AND external_id = ?').pluck()
-    this.byHash = db.prepare("SELECT id, duplicate_of FROM documents WHERE text_hash = ? AND kind = 'posting' ORDER BY id LIMIT 1")
+    this.byHash = db.prepare("SELECT id, duplicate_of FROM documents WHERE text_hash = ? AND kind = 'posting' AND id < ? ORDER BY id LIMIT 1")
+    this.setDup = db.prepare('UPDATE documents SET duplicate_of = ?, dup_similarity = ?, signature = CASE WHEN ? THEN NULL ELSE signature END WHERE id = ?')
     this.insert = db.prepare(INSERT_DOCUMENT)
     this.signatureOf = db.prepare('SELECT id, duplicate_of, signature, title, body FROM documents WHERE id = ?')
     const marks = Array.from({ length: bands }, () => '(?, ?)').join(', ')
     this.insertBandsStmt = db.prepare(`INSERT OR IGNORE INTO document_bands(key, document_id) VALUES ${marks}`)
-    this.candidatesStmt = db.prepare(`SELECT DISTINCT document_id FROM document_bands WHERE key IN (${Array.from({ length: bands }, () => '?').join(', ')})`).pluck()
+    this.candidatesStmt = db.prepare(`SELECT document_id FROM document_bands WHERE key IN (${Array.from({ length: bands }, () => '?').join(', ')})`).pluck()
   }
 
-  /** The id of the document with this external id in this source, if stored. */
-  existing(sourceId: string, externalId: string): number | undefined {
-    return this.byExternal.get(sourceId, externalId) as number | undefined
+  /** The earliest posting stored before `beforeId` with this normalised-text hash. */
+  sameText(hash: string, beforeId: number): { id: number; duplicate_of: number | null } | undefined {
+    return this.byHash.get(hash, beforeId) as { id: number; duplicate_of: number | null } | undefined
   }
 
-  /** The earliest posting with this normalised-text hash. */
-  sameText(hash: string): { id: number; duplicate_of: number | null } | undefined {
-    return this.byHash.get(hash) as { id: number; duplicate_of: number | null } | undefined
+  /**
+   * Inserts a document unless its source already has one with the same external id.
+   * @returns the new id, or null when it was already stored
+   */
+  insertDocument(row: DocumentRow): number | null {
+    const info = this.insert.run(row)
+    return info.changes === 0 ? null : Number(info.lastInsertRowid)
   }
 
-  insertDocument(row: DocumentRow): number {
-    return Number(this.insert.run(row).lastInsertRowid)
+  /** Links a stored document to its original; an exact-text repost keeps no signature of its own. */
+  setDuplicate(id: number, original: number, similarity: number, dropSignature: boolean): void {
+    this.setDup.run(original, similarity, dropSignature ? 1 : 0, id)
   }
 
   /** Band keys as stored: band * 2^32 + key (exact in a double, below 2^53). */
@@ -153,14 +176,61 @@ export class DocumentStore {
     this.insertBandsStmt.run(...args)
   }
 
+  private chunkStmt: Statement | null = null
+  private static readonly CHUNK = 100
+
+  /**
+   * Inserts (stored key, document id) pairs; callers pass them sorted by key, so the index pages
+   * are visited in order once per batch instead of at random once per document.
+   */
+  insertBandRows(rows: readonly (readonly [number, number])[]): void {
+    const n = DocumentStore.CHUNK
+    this.chunkStmt ??= this.db.prepare(`INSERT OR IGNORE INTO document_bands(key, document_id) VALUES ${Array.from({ length: n }, () => '(?, ?)').join(', ')}`)
+    const one = this.db.prepare('INSERT OR IGNORE INTO document_bands(key, document_id) VALUES (?, ?)')
+    let i = 0
+    const args: number[] = new Array(2 * n)
+    for (; i + n <= rows.length; i += n) {
+      for (let j = 0; j < n; j++) {
+        args[2 * j] = rows[i + j]![0]
+        args[2 * j + 1] = rows[i + j]![1]
+      }
+      this.chunkStmt.run(...args)
+    }
+    for (; i < rows.length; i++) one.run(rows[i]![0], rows[i]![1])
+  }
+
   /** Ids of documents sharing at least one band key. */
   candidates(keys: readonly number[]): number[] {
-    return this.candidatesStmt.all(...DocumentStore.storedKeys(keys)) as number[]
+    // made distinct here rather than with SQL DISTINCT, which builds a temporary b-tree per call
+    return [...new Set(this.candidatesStmt.all(...DocumentStore.storedKeys(keys)) as number[])]
   }
 
   signature(id: number): StoredSignature | undefined {
     return this.signatureOf.get(id) as StoredSignature | undefined
   }
+}
+
+export function bandKeyCount(db: Db): number {
+  return db.prepare('SELECT COUNT(*) FROM document_bands').pluck().get() as number
+}
+
+/** Every stored band key (for the in-memory filter), in key order. */
+export function iterateBandKeys(db: Db): IterableIterator<number> {
+  return db.prepare('SELECT key FROM document_bands').pluck().iterate() as IterableIterator<number>
+}
+
+export function postingCount(db: Db): number {
+  return db.prepare("SELECT COUNT(*) FROM documents WHERE kind = 'posting'").pluck().get() as number
+}
+
+/** Every posting's normalised-text hash (for the in-memory filter). */
+export function iteratePostingHashes(db: Db): IterableIterator<string> {
+  return db.prepare("SELECT text_hash FROM documents WHERE kind = 'posting'").pluck().iterate() as IterableIterator<string>
+}
+
+/** The highest document id (0 when there is none): an O(1) size estimate. */
+export function maxDocumentId(db: Db): number {
+  return db.prepare('SELECT COALESCE(MAX(id), 0) FROM documents').pluck().get() as number
 }
 
 /** Postings that carry band keys (all but exact-text duplicates), for rebuilding signatures and bands. */

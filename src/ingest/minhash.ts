@@ -35,13 +35,45 @@ const FNV_PRIME = 0x01000193
 let scratch: Uint32Array = new Uint32Array(4096)
 
 /**
- * FNV-1a hashes of the words of a text, read the way normaliseText() reads it (letters and digits,
- * lower-cased), in one pass without building the normalised string. ASCII is handled by a table;
- * other characters go through the Unicode-aware path one by one.
- * @example tokenHashes('Data-Engineer').length // => 2
+ * FNV-1a hashes of the words of a text: maximal runs of letters and digits (Unicode categories L
+ * and N), lower-cased, after NFKC folding. Computed in one pass without building a normalised
+ * string; ASCII goes through a lookup table.
+ * @example tokenHashes('Senior Data-Engineer!').length // => 3
  */
 export function tokenHashes(text: string): Uint32Array {
-  const folded = /^[\u0000-\u007f]*$/.test(text) ? text : text.normalize('NFKC')
+  // NFKC folds compatibility forms (full-width letters, ligatures); it cannot change plain ASCII,
+  // so it is applied only once a non-ASCII character turns up
+  const n = asciiTokens(text)
+  return n >= 0 ? scratch.slice(0, n) : unicodeTokens(text.normalize('NFKC'))
+}
+
+/** The ASCII fast path: token count in `scratch`, or -1 at the first non-ASCII character. */
+function asciiTokens(text: string): number {
+  let n = 0
+  let h = FNV_OFFSET
+  let inWord = false
+  for (let i = 0; i < text.length; i++) {
+    let c = text.charCodeAt(i)
+    if (c >= 128) return -1
+    if (ASCII_WORD[c] === 1) {
+      if (c <= 90 && c >= 65) c += 32
+      h = Math.imul(h ^ c, FNV_PRIME)
+      inWord = true
+    } else if (inWord) {
+      if (n === scratch.length) scratch = grow(scratch)
+      scratch[n++] = h
+      h = FNV_OFFSET
+      inWord = false
+    }
+  }
+  if (inWord) {
+    if (n === scratch.length) scratch = grow(scratch)
+    scratch[n++] = h
+  }
+  return n
+}
+
+function unicodeTokens(folded: string): Uint32Array {
   let n = 0
   let h = FNV_OFFSET
   let inWord = false
@@ -96,10 +128,11 @@ function grow(a: Uint32Array): Uint32Array {
 }
 
 /**
- * The set of w-word shingle hashes of a sequence of token hashes, sorted ascending without repeats.
+ * The w-word shingle hashes of a sequence of token hashes, in text order (repeats kept: MinHash
+ * does not mind them, and sorting is left to the rare exact comparison, see shingleSet).
  * A text shorter than w words yields one shingle of all its words; an empty text yields none.
  */
-export function shingleSet(tokens: Uint32Array, w: number): Uint32Array {
+export function shingleHashes(tokens: Uint32Array, w: number): Uint32Array {
   const n = tokens.length
   if (n === 0) return new Uint32Array(0)
   const width = Math.min(w, n)
@@ -111,10 +144,20 @@ export function shingleSet(tokens: Uint32Array, w: number): Uint32Array {
     for (let j = 0; j < width; j++) h = Math.imul(((h << 5) | (h >>> 27)) ^ ts[i + j]!, 0x9e3779b1)
     out[i] = fmix32(h)
   }
-  out.sort()
+  return out
+}
+
+/** Shingle hashes as a set: sorted ascending without repeats (for exactJaccard). */
+export function toSortedSet(hashes: Uint32Array): Uint32Array {
+  const out = hashes.slice().sort()
   let m = 0
-  for (let i = 0; i < count; i++) if (i === 0 || out[i] !== out[m - 1]) out[m++] = out[i]!
+  for (let i = 0; i < out.length; i++) if (i === 0 || out[i] !== out[m - 1]) out[m++] = out[i]!
   return out.slice(0, m)
+}
+
+/** The set of w-word shingle hashes, sorted ascending without repeats. */
+export function shingleSet(tokens: Uint32Array, w: number): Uint32Array {
+  return toSortedSet(shingleHashes(tokens, w))
 }
 
 /** k deterministic seeds (splitmix32 sequence), so that signatures are stable across runs. */
@@ -213,8 +256,12 @@ export function candidateProbability(j: number, bands: number, rows: number): nu
   return 1 - Math.pow(1 - Math.pow(j, rows), bands)
 }
 
+const LITTLE_ENDIAN = new Uint8Array(new Uint32Array([1]).buffer)[0] === 1
+
 /** Signature as bytes for storage (little-endian uint32) and back. */
 export function signatureToBytes(sig: Uint32Array): Buffer {
+  // on little-endian machines (nearly all) the array's own bytes are the stored form
+  if (LITTLE_ENDIAN) return Buffer.from(sig.buffer, sig.byteOffset, sig.byteLength)
   const buf = Buffer.alloc(sig.length * 4)
   for (let i = 0; i < sig.length; i++) buf.writeUInt32LE(sig[i]!, i * 4)
   return buf

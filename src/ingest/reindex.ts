@@ -7,6 +7,7 @@
 import type { Db } from '../db/connection.ts'
 import { getSetting, setSetting } from '../db/connection.ts'
 import { DocumentStore, clearBands, postingsForReindex, setSignature } from '../db/documents.ts'
+import { invalidateBandFilter } from './band-filter.ts'
 import { type DedupeParams, dedupeText, indexSignature } from './dedupe.ts'
 import { bandKeys, minhashSeeds, minhashSignature, shingleSet, signatureToBytes } from './minhash.ts'
 import { normalisedTextHash } from './text.ts'
@@ -23,6 +24,7 @@ export function ensureDedupeIndex(db: Db, params: DedupeParams): number {
   const seeds = minhashSeeds(params.numHashes)
   const store = new DocumentStore(db, params.bands)
   let n = 0
+  invalidateBandFilter(db)
   db.transaction(() => {
     clearBands(db)
     for (const row of [...postingsForReindex(db)]) {

@@ -67,7 +67,12 @@ export function firstInvalidUtf8(b: Uint8Array): number {
   return -1
 }
 
-const BLOCK_TAGS = /<\/?(?:p|div|br|li|ul|ol|h[1-6]|tr|td|th|table|section|article|blockquote|pre|dd|dt|dl|hr)\b[^>]*>/gi
+const BLOCK = 'p|div|br|li|ul|ol|h[1-6]|tr|td|th|table|section|article|blockquote|pre|dd|dt|dl|hr'
+/** comments, script-like elements with their content, CDATA, block tags, other tags: one pass */
+const MARKUP = new RegExp(
+  `<!--[\\s\\S]*?(?:-->|$)|<(script|style|template|noscript)\\b[\\s\\S]*?(?:</\\1\\s*>|$)|<!\\[CDATA\\[([\\s\\S]*?)\\]\\]>|<(/?(?:${BLOCK}))\\b[^>]*>|</?[a-z][^>]*>`,
+  'gi',
+)
 
 /**
  * HTML (or plain text that may hold entities) to plain text: scripts, styles and comments dropped,
@@ -75,30 +80,31 @@ const BLOCK_TAGS = /<\/?(?:p|div|br|li|ul|ol|h[1-6]|tr|td|th|table|section|artic
  * @example htmlToText('<p>Python &amp; SQL</p><ul><li>Kubernetes</li></ul>') // => 'Python & SQL\nKubernetes'
  */
 export function htmlToText(html: string): string {
-  if (!/[<&]/.test(html)) return cleanText(html)
-  const text = html
-    .replace(/<!--[\s\S]*?(?:-->|$)/g, ' ')
-    .replace(/<(script|style|template|noscript)\b[\s\S]*?(?:<\/\1\s*>|$)/gi, ' ')
-    .replace(/<!\[CDATA\[([\s\S]*?)\]\]>/g, '$1')
-    .replace(BLOCK_TAGS, '\n')
-    .replace(/<\/?[a-z][^>]*>/gi, ' ')
-  return cleanText(decodeHTML(text))
+  let text = html
+  if (text.includes('<')) {
+    text = text.replace(MARKUP, (_m, _script: string | undefined, cdata: string | undefined, block: string | undefined) => (cdata !== undefined ? cdata : block !== undefined ? '\n' : ' '))
+  }
+  if (text.includes('&')) text = decodeHTML(text)
+  return cleanText(text)
 }
+
+// eslint-disable-next-line no-control-regex
+const CONTROL = /[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f\u200b\ufeff]/
+// eslint-disable-next-line no-control-regex
+const CONTROL_ALL = /[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f\u200b\ufeff]/g
+// a run of two or more blanks, or any single tab, no-break space or line break; single spaces (the
+// bulk of any text) fail at their second character, which keeps this pass cheap
+const SPACES = /[ \t\u00a0\n]{2,}|[\t\u00a0\n]/g
 
 /**
  * Removes control characters (keeping line breaks), collapses runs of spaces and blank lines, trims.
  * @example cleanText(' a \t b\n\n\n c\u0007 ') // => 'a b\nc'
  */
 export function cleanText(text: string): string {
-  return (
-    text
-      // eslint-disable-next-line no-control-regex
-      .replace(/[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f\u200b\ufeff]/g, '')
-      .replace(/\r\n?/g, '\n')
-      .replace(/[ \t\u00a0]+/g, ' ')
-      .replace(/ *\n[ \n]*/g, '\n')
-      .trim()
-  )
+  let t = text
+  if (CONTROL.test(t)) t = t.replace(CONTROL_ALL, '')
+  if (t.includes('\r')) t = t.replace(/\r\n?/g, '\n')
+  return t.replace(SPACES, (m) => (m.includes('\n') ? '\n' : ' ')).trim()
 }
 
 /** sha1 hex of a string: content-derived external ids (stable across runs and machines). */

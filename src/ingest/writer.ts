@@ -8,7 +8,7 @@
  */
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
-import { DocumentStore, setSourceCursor } from '../db/documents.ts'
+import { DocumentStore, ensureCacheSize, setSourceCursor } from '../db/documents.ts'
 import { emit } from '../events/outbox.ts'
 import { monthOf } from './dates.ts'
 import { Deduper } from './dedupe.ts'
@@ -68,6 +68,7 @@ export class BatchWriter {
     private readonly onProgress: (counts: IngestCounts) => void = () => {},
   ) {
     ensureDedupeIndex(db, config.ingest.dedupe)
+    ensureCacheSize(db, 64 * 1024)
     this.store = new DocumentStore(db, config.ingest.dedupe.bands)
     this.deduper = new Deduper(this.store, config.ingest.dedupe)
     this.batchSize = config.ingest.batchSize
@@ -121,13 +122,7 @@ export class BatchWriter {
     const tx = this.db.transaction(() => {
       for (const { doc } of batch) {
         delta.read++
-        if (this.store.existing(this.sourceId, doc.externalId) !== undefined) {
-          delta.alreadyStored++
-          delta.duplicate++
-          continue
-        }
         const a = this.deduper.analyse(doc)
-        const d = this.deduper.decide(a, doc.kind)
         const id = this.store.insertDocument({
           source_id: this.sourceId,
           external_id: doc.externalId,
@@ -138,18 +133,25 @@ export class BatchWriter {
           month: monthOf(doc.postedAt),
           date_estimated: doc.dateEstimated ? 1 : 0,
           text_hash: a.textHash,
-          duplicate_of: d.duplicateOf,
-          dup_similarity: d.similarity,
+          duplicate_of: null,
+          dup_similarity: null,
           occupation: doc.occupation ?? null,
           organisation: doc.organisation ?? null,
           location: doc.location ?? null,
           channel: doc.channel ?? null,
           team: doc.team ?? null,
           skills_json: doc.skills && doc.skills.length ? JSON.stringify(doc.skills) : null,
-          signature: a.signature && d.how !== 'exact' ? signatureToBytes(a.signature) : null,
+          signature: a.signature ? signatureToBytes(a.signature) : null,
         })
-        // exact-text reposts add nothing to the band index: their keys equal their original's
-        if (a.keys && d.how !== 'exact') this.store.insertBands(id, a.keys)
+        if (id === null) {
+          // same source and external id: stored by an earlier run (or earlier in this one)
+          delta.alreadyStored++
+          delta.duplicate++
+          continue
+        }
+        const d = this.deduper.decide(id, a, doc.kind)
+        if (d.duplicateOf !== null) this.store.setDuplicate(id, d.duplicateOf, d.similarity!, d.how === 'exact')
+        this.deduper.stored(id, a, d)
         stored.push({ id, a })
         firstId ??= id
         lastId = id
@@ -163,6 +165,7 @@ export class BatchWriter {
         if (from === null || doc.postedAt < from) from = doc.postedAt
         if (to === null || doc.postedAt > to) to = doc.postedAt
       }
+      this.deduper.flushBands()
       if (cursor !== undefined) setSourceCursor(this.db, this.sourceId, cursor)
       finalStep?.()
       if (stored.length > 0) {
