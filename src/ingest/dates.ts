@@ -49,8 +49,10 @@ export function parsePostingDate(raw: string, now: number = Date.now()): DateRes
     try {
       t = Date.parse(parseIsoDate(s, 'date'))
     } catch (err) {
-      if (err instanceof FieldError) return { ok: false, reason: `"${clip(s)}" is neither an RFC 822 nor an ISO 8601 date` }
-      throw err
+      if (!(err instanceof FieldError)) throw err
+      // an ISO-shaped value gets the ISO parser's own reason (e.g. "is not a calendar date")
+      if (/^\d{4}-\d{2}-\d{2}/.test(s)) return { ok: false, reason: err.message }
+      return { ok: false, reason: `"${clip(s)}" is neither an RFC 822 nor an ISO 8601 date` }
     }
   }
   if (t < EARLIEST_DATE) return { ok: false, reason: `"${clip(s)}" is before 1990` }

@@ -89,6 +89,17 @@ export function stripDoctype(xml: string): { xml: string; declaredEntities: bool
 /** offsets of the line breaks of the last text asked about (one feed is read at a time) */
 let breaks: { text: string; at: number[] } | null = null
 
+/** Offsets of the item (or entry) start tags, skipping comments and CDATA sections. */
+function itemStarts(xml: string, tag: string): number[] {
+  const re = new RegExp(`<!--[\\s\\S]*?(?:-->|$)|<!\\[CDATA\\[[\\s\\S]*?(?:\\]\\]>|$)|<${tag}[\\s>]`, 'g')
+  return [...xml.matchAll(re)].filter((m) => m[0].startsWith(`<${tag}`)).map((m) => m.index!)
+}
+
+/** Comments replaced by spaces (line breaks kept), so that markup inside them is not taken for items. */
+function maskComments(xml: string): string {
+  return xml.replace(/<!--[\s\S]*?(?:-->|$)/g, (m) => m.replace(/[^\n]/g, ' '))
+}
+
 /** 1-based line of `offset`, by binary search over the text's line breaks (found once per text). */
 function lineAt(text: string, offset: number): number {
   if (breaks?.text !== text) {
@@ -125,7 +136,7 @@ export async function readFeed(text: string, file: string, fetchedAt: string, co
   const root = /<(rss|feed|rdf:RDF)\b([^>]*)>/i.exec(xml)
   const format = root ? (root[1]!.toLowerCase() === 'feed' ? 'atom' : 'rss') : null
   const tag = format === 'atom' ? 'entry' : 'item'
-  const starts = [...xml.matchAll(new RegExp(`<${tag}[\\s>]`, 'g'))].map((m) => m.index!)
+  const starts = itemStarts(xml, tag)
   let raw: RawItem[]
   try {
     const feed = await makeParser().parseString(xml)
@@ -134,7 +145,7 @@ export async function readFeed(text: string, file: string, fetchedAt: string, co
     const reason = (err as Error).message.replace(/\s+/g, ' ').trim()
     if (!root) return { format: null, items: [], problems, fatal: `not an RSS or Atom feed: ${reason}` }
     problems.push({ file, reason: `the feed is not well-formed XML (${reason}); items were read one by one`, warning: true })
-    return recover(xml, file, fetchedAt, format!, root[2] ?? '', problems)
+    return recover(maskComments(xml), file, fetchedAt, format!, root[2] ?? '', problems)
   }
   const items: FeedReadResult['items'] = []
   raw.forEach((item, i) => {
@@ -157,7 +168,7 @@ async function recover(
   const items: FeedReadResult['items'] = []
   // each item runs from its start tag to the first end tag before the next item starts, so an item
   // whose end tag is damaged costs that item only, not the one after it too
-  const starts = [...xml.matchAll(new RegExp(`<${tag}[\\s>]`, 'g'))].map((m) => m.index!)
+  const starts = itemStarts(xml, tag)
   const close = new RegExp(`</${tag}\\s*>`, 'g')
   for (let k = 0; k < starts.length; k++) {
     const start = starts[k]!

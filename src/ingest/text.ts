@@ -82,7 +82,11 @@ const MARKUP = new RegExp(
 export function htmlToText(html: string): string {
   let text = html
   if (text.includes('<')) {
-    text = text.replace(MARKUP, (_m, _script: string | undefined, cdata: string | undefined, block: string | undefined) => (cdata !== undefined ? cdata : block !== undefined ? '\n' : ' '))
+    // inline tags vanish without a space, as a browser renders them ("<b>SQL</b>," is "SQL,");
+    // comments and scripts become a space; block elements a line break
+    text = text.replace(MARKUP, (m, script: string | undefined, cdata: string | undefined, block: string | undefined) =>
+      cdata !== undefined ? cdata : block !== undefined ? '\n' : script !== undefined || m.startsWith('<!') ? ' ' : '',
+    )
   }
   if (text.includes('&')) text = decodeHTML(text)
   return cleanText(text)
