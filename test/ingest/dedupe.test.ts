@@ -1,0 +1,157 @@
+import { describe, expect, it } from 'vitest'
+import { parseConfig } from '../../src/config.ts'
+import { openDb, type Db } from '../../src/db/connection.ts'
+import { upsertSource } from '../../src/db/documents.ts'
+import type { DocumentInput } from '../../src/ingest/document.ts'
+import { BatchWriter } from '../../src/ingest/writer.ts'
+import { postingsWithReposts, setJaccard, shingles, stringJaccard } from './corpus.ts'
+
+function posting(id: string, body: string, title = 'Role'): DocumentInput {
+  return { externalId: id, kind: 'posting', title, body, postedAt: '2023-04-05T00:00:00.000Z', dateEstimated: false }
+}
+
+function writerFor(db: Db, sourceId: string, ingest: Record<string, unknown> = {}): BatchWriter {
+  const config = parseConfig({ ingest: { batchSize: 100, ...ingest } })
+  upsertSource(db, { id: sourceId, kind: 'jsonl', location: `${sourceId}.jsonl` })
+  return new BatchWriter(db, config, sourceId, null)
+}
+
+function rows(db: Db): { id: number; external_id: string; duplicate_of: number | null; dup_similarity: number | null }[] {
+  return db.prepare('SELECT id, external_id, duplicate_of, dup_similarity FROM documents ORDER BY id').all() as never
+}
+
+describe('near-duplicate reposts (generated set with known pairs)', () => {
+  it('finds reposts at or above the threshold and links them to the root; nothing below it is linked', () => {
+    const db = openDb(':memory:')
+    // edits of 1..6 words in ~160 give Jaccard from ~0.97 down to ~0.85, on both sides of 0.9
+    const { lines, copies } = postingsWithReposts(42, 2500, 0.12, [1, 2, 3, 4, 6])
+    const w = writerFor(db, 'gen')
+    for (const l of lines) w.add(posting(l.identifier, l.description, l.title), { file: 'gen' })
+    w.flush()
+    const stored = rows(db)
+    expect(stored).toHaveLength(lines.length)
+    // truth, computed on shingle strings: for each posting, its best earlier match at J >= 0.9
+    const rootOf = (i: number): number => {
+      const d = stored[i]!.duplicate_of
+      return d === null ? i : d - 1
+    }
+    let truePairs = 0
+    let found = 0
+    for (const [i, orig] of copies) {
+      if (stringJaccard(lines[i]!.description, lines[orig]!.description, 4) < 0.9) continue
+      truePairs++
+      if (stored[i]!.duplicate_of !== null && rootOf(i) === rootOf(orig)) found++
+    }
+    // precision, checked on shingle strings: every linked posting has an earlier posting of the same
+    // root (the one it matched) at J >= 0.9, and no posting without a planted twin is linked
+    const cluster = new Map<number, number[]>()
+    stored.forEach((_, i) => cluster.set(rootOf(i), [...(cluster.get(rootOf(i)) ?? []), i]))
+    let unsupported = 0
+    stored.forEach((r, i) => {
+      if (r.duplicate_of === null) return
+      const earlier = cluster.get(rootOf(i))!.filter((k) => k < i)
+      if (!earlier.some((k) => stringJaccard(lines[i]!.description, lines[k]!.description, 4) >= 0.9)) unsupported++
+    })
+    const plantedIds = new Set(copies.keys())
+    const spurious = stored.filter((r, i) => r.duplicate_of !== null && !plantedIds.has(i)).length
+    expect(truePairs).toBeGreaterThan(100)
+    // recall: LSH misses a J = 0.9 pair with probability (1 - 0.9^6)^10 ~ 5e-4
+    expect(found / truePairs).toBeGreaterThanOrEqual(0.99)
+    // precision: candidates are verified exactly, so no posting without a planted twin is linked
+    expect(spurious).toBe(0)
+    expect(unsupported).toBe(0)
+    // every link points at a root, and its similarity is the exact Jaccard against the matched posting
+    for (const r of stored) {
+      if (r.duplicate_of === null) continue
+      expect(stored[r.duplicate_of - 1]!.duplicate_of).toBeNull()
+      expect(r.dup_similarity!).toBeGreaterThanOrEqual(0.9)
+      expect(r.dup_similarity!).toBeLessThanOrEqual(1)
+    }
+  })
+
+  it('gives the same decisions as a brute-force search over all earlier postings (exact Jaccard)', () => {
+    const db = openDb(':memory:')
+    const { lines } = postingsWithReposts(7, 300, 0.2, [1, 2, 3, 5])
+    const w = writerFor(db, 'bf')
+    for (const l of lines) w.add(posting(l.identifier, l.description, l.title), { file: 'bf' })
+    w.flush()
+    const stored = rows(db)
+    const sets = lines.map((l) => shingles(`${l.title}\n${l.description}`, 4))
+    const root: number[] = []
+    let disagreements = 0
+    for (let i = 0; i < lines.length; i++) {
+      let best = -1
+      let bestJ = 0
+      for (let k = 0; k < i; k++) {
+        const j = setJaccard(sets[i]!, sets[k]!)
+        const r = root[k]!
+        if (j >= 0.9 && (j > bestJ || (j === bestJ && r < best))) [best, bestJ] = [r, j]
+      }
+      root.push(best === -1 ? i : best)
+      const expected = best === -1 ? null : best + 1
+      if (stored[i]!.duplicate_of !== expected) disagreements++
+      else if (expected !== null) expect(stored[i]!.dup_similarity).toBeCloseTo(bestJ, 12)
+    }
+    // only an LSH miss (probability ~5e-4 per pair at J = 0.9) may differ
+    expect(disagreements).toBeLessThanOrEqual(1)
+  })
+})
+
+describe('exact duplicates', () => {
+  it('same normalised text across sources is a repost with similarity 1 (case, spacing, punctuation ignored)', () => {
+    const db = openDb(':memory:')
+    const a = writerFor(db, 'a')
+    a.add(posting('1', 'Forklift driver, early shifts at the north depot.', 'Driver'), { file: 'a' })
+    a.flush()
+    const b = writerFor(db, 'b')
+    b.add(posting('x', 'FORKLIFT driver -- early   shifts at the North depot!', 'driver'), { file: 'b' })
+    b.flush()
+    expect(rows(db).map((r) => [r.duplicate_of, r.dup_similarity])).toEqual([
+      [null, null],
+      [1, 1],
+    ])
+    expect(b.counts).toMatchObject({ read: 1, new: 0, duplicate: 1, exactText: 1 })
+  })
+
+  it('the same source and external id is stored once, however often it is read', () => {
+    const db = openDb(':memory:')
+    const w = writerFor(db, 'a')
+    for (let round = 0; round < 3; round++) w.add(posting('same-id', `Text version ${round} of a cooperative role.`), { file: 'a' })
+    w.flush()
+    expect(rows(db)).toHaveLength(1)
+    expect(w.counts).toMatchObject({ read: 3, new: 1, duplicate: 2, alreadyStored: 2 })
+  })
+
+  it('requests are never deduplicated by text: two people asking for the same thing are two signals', () => {
+    const db = openDb(':memory:')
+    const w = writerFor(db, 'r')
+    for (const team of ['north', 'south']) {
+      w.add({ externalId: team, kind: 'request', title: '', body: 'Excel pivot tables course please', postedAt: '2023-01-01T09:00:00.000Z', dateEstimated: false, team }, { file: 'r' })
+    }
+    w.flush()
+    expect(rows(db).map((r) => r.duplicate_of)).toEqual([null, null])
+    expect((db.prepare('SELECT COUNT(*) FROM document_bands').pluck().get() as number)).toBe(0)
+  })
+})
+
+describe('index settings', () => {
+  it('a change of MinHash settings rebuilds signatures and bands, and later reposts are still found', () => {
+    const db = openDb(':memory:')
+    const { lines, copies } = postingsWithReposts(5, 300, 0, [1])
+    const w1 = writerFor(db, 's')
+    for (const l of lines) w1.add(posting(l.identifier, l.description), { file: 's' })
+    w1.flush()
+    expect(copies.size).toBe(0)
+    const before = db.prepare('SELECT COUNT(*) FROM document_bands').pluck().get() as number
+    expect(before).toBe(300 * 10)
+    // 128 hashes in 16 bands: a different index; a repost of posting 17 must still be found
+    const w2 = writerFor(db, 's2', { dedupe: { numHashes: 128, bands: 16 } })
+    expect(db.prepare('SELECT COUNT(*) FROM document_bands').pluck().get()).toBe(300 * 16)
+    expect((db.prepare('SELECT length(signature) FROM documents WHERE id = 1').pluck().get() as number)).toBe(128 * 4)
+    const words = lines[17]!.description.split(' ')
+    words[3] = 'changed'
+    w2.add(posting('again', words.join(' ')), { file: 's2' })
+    w2.flush()
+    expect(rows(db).at(-1)!.duplicate_of).toBe(18)
+  })
+})
