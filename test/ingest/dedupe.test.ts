@@ -35,10 +35,12 @@ describe('near-duplicate reposts (generated set with known pairs)', () => {
       const d = stored[i]!.duplicate_of
       return d === null ? i : d - 1
     }
+    // dedupe compares title and description together, and so does the truth
+    const full = (i: number) => `${lines[i]!.title}\n${lines[i]!.description}`
     let truePairs = 0
     let found = 0
     for (const [i, orig] of copies) {
-      if (stringJaccard(lines[i]!.description, lines[orig]!.description, 4) < 0.9) continue
+      if (stringJaccard(full(i), full(orig), 4) < 0.9) continue
       truePairs++
       if (stored[i]!.duplicate_of !== null && rootOf(i) === rootOf(orig)) found++
     }
@@ -50,7 +52,7 @@ describe('near-duplicate reposts (generated set with known pairs)', () => {
     stored.forEach((r, i) => {
       if (r.duplicate_of === null) return
       const earlier = cluster.get(rootOf(i))!.filter((k) => k < i)
-      if (!earlier.some((k) => stringJaccard(lines[i]!.description, lines[k]!.description, 4) >= 0.9)) unsupported++
+      if (!earlier.some((k) => stringJaccard(full(i), full(k), 4) >= 0.9)) unsupported++
     })
     const plantedIds = new Set(copies.keys())
     const spurious = stored.filter((r, i) => r.duplicate_of !== null && !plantedIds.has(i)).length
