@@ -138,5 +138,7 @@ export function renderHtml(p: BodyParts): string {
   if (p.layout === 0) {
     return `<p>${e(p.intro)}</p><h3>What you will do</h3><ul>${p.duties.map((d) => `<li>${e(d)}</li>`).join('')}</ul><h3>What you bring</h3><ul>${bring.map((b) => `<li>${e(b)}</li>`).join('')}</ul><p>${e(p.salary)} ${e(p.closing)}</p>`
   }
+  // the same words as renderPlain, so a posting published as HTML on one board and as plain text on another is an exact repost
+  if (p.layout === 2) return `<p>${e(p.intro)} ${e(p.duties[0] ?? '')}</p><p>Requirements: ${e(bring.join(' '))}</p><p>${e(p.salary)} ${e(p.closing)}</p>`
   return `<p>${e([p.intro, ...p.duties].join(' '))}</p><p>${e(bring.join(' '))}</p><p>${e(p.salary)} ${e(p.closing)}</p>`
 }

@@ -93,6 +93,38 @@ describe('generated text mentions exactly the recorded skills', () => {
     expect(checked).toBeGreaterThan(2500)
   })
 
+  it('reposts: exact ones have the same words in every format, edited ones a 4-shingle Jaccard of at least 0.9', () => {
+    // words only, lower-cased; HTML tags and entities dropped (how a dedupe step would normalise the text)
+    const words = (text: string) => text.replace(/<[^>]+>/g, ' ').replace(/&[a-z#0-9]+;/g, ' ').toLowerCase().match(/[a-z0-9]+/g) ?? []
+    const shingles = (ws: string[]) => new Set(ws.map((_w, i) => ws.slice(i, i + 4).join(' ')).slice(0, Math.max(1, ws.length - 3)))
+    const byId = new Map<string, { title: string; plain: string; html: string }>()
+    let exact = 0
+    let edited = 0
+    generatePostings({ seed: 12, months, perMonth: 120 }, (p) => {
+      const doc = { title: p.title, plain: renderPlain(p.parts), html: renderHtml(p.parts) }
+      if (p.repostOf === null) {
+        byId.set(p.identifier, doc)
+        return
+      }
+      const orig = byId.get(p.repostOf)!
+      const a = words(`${orig.title} ${orig.plain}`)
+      if (!p.edited) {
+        exact++
+        expect(words(`${p.title} ${doc.html}`)).toEqual(a)
+        expect(words(`${p.title} ${doc.plain}`)).toEqual(a)
+      } else {
+        edited++
+        const sa = shingles(a)
+        const sb = shingles(words(`${p.title} ${doc.html}`))
+        const inter = [...sa].filter((x) => sb.has(x)).length
+        expect(inter / (sa.size + sb.size - inter), p.identifier).toBeGreaterThanOrEqual(0.9)
+        expect(sb).not.toEqual(sa)
+      }
+    })
+    expect(exact).toBeGreaterThan(100)
+    expect(edited).toBeGreaterThan(30)
+  })
+
   it('requests: planted skills found in the text match the truth counts', () => {
     const { rows, truth } = generateRequests(11, months, 120)
     const counts: Record<string, number> = {}
