@@ -102,8 +102,8 @@ async function attempt(hook: WebhookConfig, row: DeliveryRow): Promise<{ ok: tru
     if (res.status >= 200 && res.status < 300) return { ok: true }
     return { ok: false, error: `HTTP ${res.status}`, unreachable: false }
   } catch (err) {
-    const e = err as Error & { cause?: { code?: string } }
-    const reason = e.name === 'TimeoutError' ? `timed out after ${hook.timeoutMs} ms` : (e.cause?.code ?? e.message)
+    const e = err as Error & { cause?: { code?: string; message?: string } }
+    const reason = e.name === 'TimeoutError' ? `timed out after ${hook.timeoutMs} ms` : (e.cause?.code ?? e.cause?.message ?? e.message)
     return { ok: false, error: reason, unreachable: true }
   }
 }
