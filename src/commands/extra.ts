@@ -26,10 +26,11 @@ export const COMMANDS: Record<string, Command> = {
   },
   map: {
     summary: 'show which skills a text or a JSON Lines file of postings maps to',
-    usage: 'tides map [--text TEXT | FILE.jsonl] [--json]',
-    options: { text: { type: 'string' }, json: { type: 'boolean' } },
-    async run() {
-      throw new NotBuiltError('map is not built in this version')
+    usage: 'tides map [--text TEXT | FILE.jsonl] [--json] [--explain]',
+    options: { text: { type: 'string' }, json: { type: 'boolean' }, explain: { type: 'boolean' } },
+    async run(ctx, values, positionals) {
+      const { runMapCommand } = await import('../taxonomy/map-command.ts')
+      await runMapCommand(ctx, values, positionals)
     },
   },
 }

@@ -10,6 +10,8 @@ import { listRuns } from '../db/runs.ts'
 import { importDocuments } from '../ingest/import.ts'
 import { coverageReport } from '../ability/report.ts'
 import { PLAN_REPORTS } from '../plan/reports.ts'
+import { importTaxonomy } from '../taxonomy/store.ts'
+import { candidatesReport } from '../taxonomy/commands.ts'
 
 export interface ImportOptions {
   skipBad: boolean
@@ -25,6 +27,7 @@ export const IMPORTERS: Partial<Record<ImportKind, Importer>> = {
   ...Object.fromEntries(TABLE_KINDS.map((kind: TableKind) => [kind, (db: Db, _c: Config, file: string, opts: ImportOptions) => importTableFile(db, kind, file, opts)])),
   postings: (db, config, file, opts) => importDocuments(db, config, 'postings', file, opts),
   requests: (db, config, file, opts) => importDocuments(db, config, 'requests', file, opts),
+  taxonomy: (db, _config, file, opts) => importTaxonomy(db, file, opts),
 }
 
 export interface ReportOutput {
@@ -74,6 +77,10 @@ export const REPORTS: Record<string, Report> = {
       }))
       return { rows, columns: ['id', 'stage', 'source', 'trigger', 'started', 'ended', 'status', 'read', 'new', 'duplicate', 'rejected', 'error'] }
     },
+  },
+  candidates: {
+    description: 'rising terms that are not in the taxonomy (G² of recent vs earlier document frequency), with examples',
+    build: (db, _config, opts) => candidatesReport(db, { ...(opts.limit !== undefined ? { limit: opts.limit } : {}), ...(typeof opts['status'] === 'string' ? { status: opts['status'] } : {}) }),
   },
   ...PLAN_REPORTS,
 }

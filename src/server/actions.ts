@@ -6,6 +6,7 @@
  */
 import type { Db } from '../db/connection.ts'
 import { snoozeCourseFlag } from '../plan/snooze.ts'
+import { acceptAsAltLabel, acceptAsConcept, dismissCandidate } from '../taxonomy/decisions.ts'
 
 export interface ConceptChoice {
   /** new concept id; the taxonomy stage derives one from the label when absent */
@@ -23,7 +24,12 @@ export interface Actions {
 
 /** The stages' own functions, as far as this build has them. */
 export function defaultActions(): Actions {
-  return { snoozeCourseFlag: (db, courseId, note, untilIso, actor) => snoozeCourseFlag(db, courseId, note, untilIso, actor) }
+  return {
+    snoozeCourseFlag: (db, courseId, note, untilIso, actor) => snoozeCourseFlag(db, courseId, note, untilIso, actor),
+    acceptAsConcept: (db, term, choice, actor) => acceptAsConcept(db, term, choice, actor),
+    acceptAsAltLabel: (db, term, conceptId, actor) => acceptAsAltLabel(db, term, conceptId, actor),
+    dismissCandidate: (db, term, actor) => dismissCandidate(db, term, actor),
+  }
 }
 
 /** Raised by a route when the action it needs is not part of this build. */

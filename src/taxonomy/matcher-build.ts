@@ -162,6 +162,23 @@ export function compileMatcher(taxonomy: Taxonomy, rules: RuleSet = emptyRules()
     }
   })
 
+  // number variants of multi-word hard labels in lower case ("vector database" / "vector
+  // databases"): the head noun flipped, added after every real label so that none is shadowed
+  const entries = labelConcept.length
+  for (let entry = 0; entry < entries; entry++) {
+    const c = concepts[labelConcept[entry]!]!
+    const written = labelWritten[entry]![0]!
+    if (c.type !== 'hard' || policies[entry]!.stem || written.length < 2) continue
+    if (!written.every((w) => /^[a-z]+$/.test(w))) continue
+    const head = numberVariant(written[written.length - 1]!)
+    if (!head) continue
+    const folded = [...written.slice(0, -1), head]
+    const key = folded.join(' ')
+    if (entryByKey.has(key)) continue
+    entryByKey.set(key, entry)
+    exact.insert(folded.map((t) => vocab.add(t)), entry)
+  }
+
   // policy words become token ids (they join the vocabulary so the scanner can see them)
   const idCache = new Map<readonly string[], Set<number>>()
   const idsOf = (words: readonly string[]): Set<number> => {
@@ -222,6 +239,24 @@ export function compileMatcher(taxonomy: Taxonomy, rules: RuleSet = emptyRules()
     ancestors: ancestorsOf(concepts, conceptIndex),
     problems,
   }
+}
+
+/**
+ * The other grammatical number of an English noun, by the regular rules (irregular plurals are
+ * left to altLabels): databases ↔ database, policies ↔ policy, switches ↔ switch. Undefined for
+ * words the rules cannot decide safely (ending in -ss, -us, -is, or too short).
+ * @example
+ * numberVariant('databases') // => 'database'
+ * numberVariant('policy') // => 'policies'
+ */
+export function numberVariant(word: string): string | undefined {
+  if (word.length < 4 || /(ss|us|is|ics)$/.test(word)) return undefined
+  if (/[^aeiou]ies$/.test(word)) return word.slice(0, -3) + 'y'
+  if (/(ches|shes|xes|zes|sses)$/.test(word)) return word.slice(0, -2)
+  if (word.endsWith('s')) return word.slice(0, -1)
+  if (/[^aeiou]y$/.test(word)) return word.slice(0, -1) + 'ies'
+  if (/(ch|sh|x|z|s)$/.test(word)) return word + 'es'
+  return word + 's'
 }
 
 /** Transitive broader concepts of each concept (the validator guarantees no cycles). */

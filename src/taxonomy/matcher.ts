@@ -164,6 +164,88 @@ export class Matcher {
     return this.matches.count
   }
 
+  /** True when any label of the taxonomy occurs in the text (rules aside); allocates nothing per token. */
+  containsAnyLabel(text: string): boolean {
+    const norm = NON_ASCII.test(text) ? text.normalize('NFKC') : text
+    const d = this.d
+    const buf = this.buf
+    scanText(norm, d.vocab, buf)
+    const n = buf.count
+    for (let i = 0; i < n; i++) {
+      const id = buf.id[i]!
+      let node = id >= 0 ? d.exact.root[id]! : -1
+      let k = i + 1
+      while (node >= 0) {
+        if (d.exact.terminal[node]! >= 0) return true
+        if (k >= n || (buf.flags[k]! & F_BREAK) !== 0) break
+        const nid = buf.id[k]!
+        node = nid >= 0 ? d.exact.child(node, nid) : -1
+        k++
+      }
+      if (d.hasStem) {
+        const sid = this.stemIdAt(norm, i)
+        node = sid >= 0 ? d.stem.root[sid]! : -1
+        k = i + 1
+        while (node >= 0) {
+          if (d.stem.terminal[node]! >= 0) return true
+          if (k >= n || (buf.flags[k]! & F_BREAK) !== 0) break
+          const ns = this.stemIdAt(norm, k)
+          node = ns >= 0 ? d.stem.child(node, ns) : -1
+          k++
+        }
+      }
+    }
+    return false
+  }
+
+  /**
+   * Tokens of a text with a flag per token telling whether any label of the taxonomy covers it
+   * (whatever the rules decide), for candidate-term discovery. Token texts are folded.
+   */
+  labelCoverage(text: string): { text: string; tokens: { start: number; end: number; folded: string; flags: number; covered: boolean }[] } {
+    const norm = NON_ASCII.test(text) ? text.normalize('NFKC') : text
+    const d = this.d
+    const buf = this.buf
+    scanText(norm, d.vocab, buf)
+    const n = buf.count
+    const covered = new Uint8Array(n)
+    for (let i = 0; i < n; i++) {
+      let best = 0
+      const id = buf.id[i]!
+      if (id >= 0) {
+        let node = d.exact.root[id]!
+        let k = i + 1
+        while (node >= 0) {
+          if (d.exact.terminal[node]! >= 0) best = k - i
+          if (k >= n || (buf.flags[k]! & F_BREAK) !== 0) break
+          const nid = buf.id[k]!
+          node = nid >= 0 ? d.exact.child(node, nid) : -1
+          k++
+        }
+      }
+      if (d.hasStem) {
+        const sid = this.stemIdAt(norm, i)
+        let node = sid >= 0 ? d.stem.root[sid]! : -1
+        let k = i + 1
+        while (node >= 0) {
+          if (d.stem.terminal[node]! >= 0) best = Math.max(best, k - i)
+          if (k >= n || (buf.flags[k]! & F_BREAK) !== 0) break
+          const ns = this.stemIdAt(norm, k)
+          node = ns >= 0 ? d.stem.child(node, ns) : -1
+          k++
+        }
+      }
+      for (let k = i; k < i + best; k++) covered[k] = 1
+    }
+    const tokens = []
+    for (let i = 0; i < n; i++) {
+      const start = buf.start[i]!
+      const end = buf.end[i]!
+      tokens.push({ start, end, folded: foldString(norm.slice(start, end)), flags: buf.flags[i]!, covered: covered[i] === 1 })
+    }
+    return { text: norm, tokens }
+  }
+
   private matchField(f: FieldState, agg: Map<number, ConceptMention>, rejected: RejectedMatch[] | undefined): void {
     const norm = NON_ASCII.test(f.text) ? f.text.normalize('NFKC') : f.text
     const state: FieldState = { ...f, text: norm }

@@ -74,9 +74,9 @@ export function inferredPolicy(facts: LabelFacts, rules: RuleSet, commonWords: R
   const hasUpper = facts.written.some((w) => w !== w.toLowerCase())
   const alphabetic = facts.folded.every((t) => /^[a-z]+$/.test(t))
   const single = facts.folded.length === 1
-  const stem =
-    alphabetic &&
-    (facts.type === 'soft' ? !single || facts.isPref : !single && !hasUpper)
+  // Porter stems for soft skills only: for hard labels they conflate verbs and nouns ("build
+  // services" would meet "building services"); multi-word hard labels get number variants instead
+  const stem = alphabetic && facts.type === 'soft' && (!single || facts.isPref)
   const policy: LabelPolicy = {
     caseMode: 'any',
     near: false,

@@ -1,0 +1,275 @@
+/**
+ * @module db/taxonomy
+ * Every SQL statement of the taxonomy area: concepts, labels and broader links, the mapping of
+ * documents to mentions, and candidate terms with their curator decisions. The taxonomy stage and
+ * its decision functions call these; nothing else writes these tables.
+ */
+import type { Statement } from 'better-sqlite3'
+import type { Db } from './connection.ts'
+import { getSetting, setSetting } from './connection.ts'
+import type { Concept, SkillType } from '../taxonomy/types.ts'
+
+const cache = new WeakMap<Db, Map<string, Statement>>()
+function stmt(db: Db, sql: string): Statement {
+  let m = cache.get(db)
+  if (!m) {
+    m = new Map()
+    cache.set(db, m)
+  }
+  let s = m.get(sql)
+  if (!s) {
+    s = db.prepare(sql)
+    m.set(sql, s)
+  }
+  return s
+}
+
+const VERSION_KEY = 'taxonomy.version'
+const RULES_KEY = 'taxonomy.rules'
+const SOURCE_KEY = 'taxonomy.source'
+
+// ---------------------------------------------------------------- concepts and labels
+
+export function conceptCount(db: Db): number {
+  return (stmt(db, 'SELECT COUNT(*) AS n FROM concepts').get() as { n: number }).n
+}
+
+/** The taxonomy version documents are mapped against (0 before any taxonomy is stored). */
+export function taxonomyVersion(db: Db): number {
+  return Number(getSetting(db, VERSION_KEY) ?? 0)
+}
+
+/** Increments the taxonomy version; call inside the transaction that changes the taxonomy. */
+export function bumpTaxonomyVersion(db: Db): number {
+  const v = taxonomyVersion(db) + 1
+  setSetting(db, VERSION_KEY, String(v))
+  return v
+}
+
+export interface StoredRules {
+  text: string
+  file: string
+}
+
+/** The rule file stored with the taxonomy (its text and original name), if any. */
+export function storedRules(db: Db): StoredRules | undefined {
+  const raw = getSetting(db, RULES_KEY)
+  return raw ? (JSON.parse(raw) as StoredRules) : undefined
+}
+
+/** Where the stored taxonomy came from (file name), for reports. */
+export function taxonomySource(db: Db): string | undefined {
+  return getSetting(db, SOURCE_KEY)
+}
+
+export interface LabelFlags {
+  /** true when matching that label requires the case as written */
+  caseSensitive(conceptId: string, label: string): boolean
+}
+
+/**
+ * Replaces the whole taxonomy (concepts, labels, broader links, stored rules). Mentions of the old
+ * taxonomy are deleted and every document is marked unmapped. Call inside a transaction.
+ * @returns the number of documents that will be re-mapped
+ */
+export function replaceTaxonomy(db: Db, concepts: readonly Concept[], rules: StoredRules | null, source: string, origin: string, flags: LabelFlags): number {
+  stmt(db, 'DELETE FROM mentions').run()
+  stmt(db, 'DELETE FROM concept_broader').run()
+  stmt(db, 'DELETE FROM labels').run()
+  stmt(db, 'DELETE FROM concepts').run()
+  for (const c of concepts) insertConcept(db, c, origin, flags)
+  for (const c of concepts) for (const b of c.broader) stmt(db, 'INSERT OR IGNORE INTO concept_broader(concept_id, broader_id) VALUES (?, ?)').run(c.id, b)
+  if (rules) setSetting(db, RULES_KEY, JSON.stringify(rules))
+  else stmt(db, 'DELETE FROM settings WHERE key = ?').run(RULES_KEY)
+  setSetting(db, SOURCE_KEY, source)
+  return stmt(db, 'UPDATE documents SET mapped_version = NULL WHERE duplicate_of IS NULL').run().changes
+}
+
+/** Inserts one concept with its labels (not its broader links). */
+export function insertConcept(db: Db, c: Concept, origin: string, flags: LabelFlags): void {
+  stmt(db, 'INSERT INTO concepts(id, pref_label, type, origin) VALUES (?, ?, ?, ?)').run(c.id, c.prefLabel, c.type, origin)
+  insertLabel(db, c.id, c.prefLabel, 'pref', flags.caseSensitive(c.id, c.prefLabel))
+  for (const l of c.altLabels) insertLabel(db, c.id, l, 'alt', flags.caseSensitive(c.id, l))
+  for (const l of c.hiddenLabels) insertLabel(db, c.id, l, 'hidden', flags.caseSensitive(c.id, l))
+}
+
+export function insertLabel(db: Db, conceptId: string, label: string, kind: 'pref' | 'alt' | 'hidden', caseSensitive: boolean): void {
+  stmt(db, 'INSERT OR IGNORE INTO labels(concept_id, label, kind, case_sensitive) VALUES (?, ?, ?, ?)').run(conceptId, label, kind, caseSensitive ? 1 : 0)
+}
+
+/** Reads the stored taxonomy back as concepts (in id order, labels in insertion order). */
+export function readConcepts(db: Db): Concept[] {
+  const rows = stmt(db, 'SELECT id, pref_label, type FROM concepts ORDER BY rowid').all() as { id: string; pref_label: string; type: SkillType }[]
+  const byId = new Map<string, Concept>()
+  const concepts = rows.map((r) => {
+    const c: Concept = { id: r.id, prefLabel: r.pref_label, altLabels: [], hiddenLabels: [], broader: [], type: r.type }
+    byId.set(r.id, c)
+    return c
+  })
+  for (const l of stmt(db, "SELECT concept_id, label, kind FROM labels WHERE kind != 'pref' ORDER BY rowid").all() as { concept_id: string; label: string; kind: string }[]) {
+    const c = byId.get(l.concept_id)
+    if (!c) continue
+    if (l.kind === 'alt') c.altLabels.push(l.label)
+    else c.hiddenLabels.push(l.label)
+  }
+  for (const b of stmt(db, 'SELECT concept_id, broader_id FROM concept_broader ORDER BY rowid').all() as { concept_id: string; broader_id: string }[]) {
+    byId.get(b.concept_id)?.broader.push(b.broader_id)
+  }
+  return concepts
+}
+
+export function conceptExists(db: Db, id: string): boolean {
+  return stmt(db, 'SELECT 1 FROM concepts WHERE id = ?').get(id) !== undefined
+}
+
+// ---------------------------------------------------------------- mapping documents
+
+export interface DocumentToMap {
+  id: number
+  kind: 'posting' | 'request'
+  title: string
+  body: string
+  skills_json: string | null
+}
+
+export function countUnmapped(db: Db): number {
+  return (stmt(db, 'SELECT COUNT(*) AS n FROM documents WHERE mapped_version IS NULL AND duplicate_of IS NULL').get() as { n: number }).n
+}
+
+/** The next unmapped original documents after `afterId`, in id order. */
+export function unmappedAfter(db: Db, afterId: number, limit: number): DocumentToMap[] {
+  return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents WHERE mapped_version IS NULL AND duplicate_of IS NULL AND id > ? ORDER BY id LIMIT ?').all(afterId, limit) as DocumentToMap[]
+}
+
+/** Original documents after `afterId`, mapped or not (for finding those a taxonomy change affects). */
+export function documentsAfter(db: Db, afterId: number, limit: number): DocumentToMap[] {
+  return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents WHERE duplicate_of IS NULL AND id > ? ORDER BY id LIMIT ?').all(afterId, limit) as DocumentToMap[]
+}
+
+export interface MentionRow {
+  conceptId: string
+  count: number
+  firstOffset: number | null
+  via: 'text' | 'skills' | 'rollup'
+}
+
+/** Replaces a document's mentions and records the taxonomy version it was mapped with. */
+export function saveMapping(db: Db, documentId: number, version: number, rows: readonly MentionRow[]): void {
+  stmt(db, 'DELETE FROM mentions WHERE document_id = ?').run(documentId)
+  const ins = stmt(db, 'INSERT INTO mentions(document_id, concept_id, count, first_offset, via) VALUES (?, ?, ?, ?, ?)')
+  for (const r of rows) ins.run(documentId, r.conceptId, r.count, r.firstOffset, r.via)
+  stmt(db, 'UPDATE documents SET mapped_version = ? WHERE id = ?').run(version, documentId)
+}
+
+/** Marks documents unmapped so that the map stage maps them again. */
+export function markUnmapped(db: Db, ids: readonly number[]): number {
+  const s = stmt(db, 'UPDATE documents SET mapped_version = NULL WHERE id = ?')
+  let n = 0
+  for (const id of ids) n += s.run(id).changes
+  return n
+}
+
+/** Documents currently mentioning one of the concepts (directly or by rollup). */
+export function documentsMentioning(db: Db, conceptIds: readonly string[]): number[] {
+  const s = stmt(db, 'SELECT document_id FROM mentions WHERE concept_id = ?')
+  const out = new Set<number>()
+  for (const id of conceptIds) for (const r of s.all(id) as { document_id: number }[]) out.add(r.document_id)
+  return [...out]
+}
+
+export interface MentionSummary {
+  concept_id: string
+  pref_label: string
+  documents: number
+  direct: number
+}
+
+/** Per concept: documents mentioning it, and how many of them directly (not by rollup). */
+export function mentionSummary(db: Db, limit = 1000): MentionSummary[] {
+  return stmt(
+    db,
+    `SELECT m.concept_id, c.pref_label, COUNT(*) AS documents, SUM(m.via != 'rollup') AS direct
+     FROM mentions m JOIN concepts c ON c.id = m.concept_id GROUP BY m.concept_id ORDER BY documents DESC, m.concept_id LIMIT ?`,
+  ).all(limit) as MentionSummary[]
+}
+
+// ---------------------------------------------------------------- candidate terms
+
+export interface DocumentText {
+  id: number
+  month: string
+  title: string
+  body: string
+}
+
+/** Original documents' month and text, in id order, for candidate-term discovery. */
+export function* iterateDocumentTexts(db: Db): Generator<DocumentText> {
+  let after = 0
+  for (;;) {
+    const rows = stmt(db, 'SELECT id, month, title, body FROM documents WHERE duplicate_of IS NULL AND id > ? ORDER BY id LIMIT 2000').all(after) as DocumentText[]
+    if (rows.length === 0) return
+    yield* rows
+    after = rows[rows.length - 1]!.id
+  }
+}
+
+export interface CandidateInput {
+  term: string
+  score: number
+  recentDf: number
+  earlierDf: number
+  trend: unknown
+  examples: unknown
+}
+
+/**
+ * Stores the current open candidates: open rows no longer found are removed, decided rows
+ * (accepted, dismissed) are never touched or reopened.
+ */
+export function replaceOpenCandidates(db: Db, rows: readonly CandidateInput[]): void {
+  stmt(db, "DELETE FROM candidate_terms WHERE status = 'open'").run()
+  const ins = stmt(
+    db,
+    `INSERT INTO candidate_terms(term, score, recent_df, earlier_df, trend_json, examples_json, status, updated_at)
+     VALUES (?, ?, ?, ?, ?, ?, 'open', strftime('%Y-%m-%dT%H:%M:%fZ','now'))
+     ON CONFLICT(term) DO NOTHING`,
+  )
+  for (const r of rows) ins.run(r.term, r.score, r.recentDf, r.earlierDf, JSON.stringify(r.trend), JSON.stringify(r.examples))
+}
+
+export interface CandidateTermRow {
+  term: string
+  score: number
+  recent_df: number
+  earlier_df: number
+  trend_json: string
+  examples_json: string
+  status: 'open' | 'accepted' | 'dismissed'
+  decision_json: string | null
+  updated_at: string
+}
+
+export function listCandidates(db: Db, status: string | undefined, limit: number): CandidateTermRow[] {
+  if (status) return stmt(db, 'SELECT * FROM candidate_terms WHERE status = ? ORDER BY score DESC, term LIMIT ?').all(status, limit) as CandidateTermRow[]
+  return stmt(db, 'SELECT * FROM candidate_terms ORDER BY score DESC, term LIMIT ?').all(limit) as CandidateTermRow[]
+}
+
+export function getCandidate(db: Db, term: string): CandidateTermRow | undefined {
+  return stmt(db, 'SELECT * FROM candidate_terms WHERE term = ?').get(term) as CandidateTermRow | undefined
+}
+
+/** Terms the curator has dismissed (kept out of future candidate lists). */
+export function dismissedTerms(db: Db): Set<string> {
+  return new Set((stmt(db, "SELECT term FROM candidate_terms WHERE status = 'dismissed'").all() as { term: string }[]).map((r) => r.term))
+}
+
+/** Records a curator's decision on an open candidate; returns false when it was not open. */
+export function decideCandidate(db: Db, term: string, status: 'accepted' | 'dismissed', decision: Record<string, unknown>): boolean {
+  return (
+    stmt(db, "UPDATE candidate_terms SET status = ?, decision_json = ?, updated_at = strftime('%Y-%m-%dT%H:%M:%fZ','now') WHERE term = ? AND status = 'open'").run(
+      status,
+      JSON.stringify(decision),
+      term,
+    ).changes === 1
+  )
+}

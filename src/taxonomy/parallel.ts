@@ -1,0 +1,126 @@
+/**
+ * @module taxonomy/parallel
+ * Mapping spread over worker threads, for large imports. Each worker builds the matcher once
+ * (from the concepts, rule text and lexicon answers it is sent, so no worker re-reads files) and
+ * maps the batches it is given; batches go to whichever worker is free.
+ */
+import os from 'node:os'
+import { Worker } from 'node:worker_threads'
+import { commonWordsFor } from './matcher-build.ts'
+import type { DocumentMapping, MapInput } from './matcher.ts'
+import type { Concept, Taxonomy } from './types.ts'
+
+export interface MapperSource {
+  concepts: Concept[]
+  rulesText: string | null
+  rulesFile: string
+  /** the lexicon's answers for the taxonomy's one-word labels (see commonWordsFor) */
+  commonWords: string[]
+}
+
+export interface WorkerRequest {
+  id: number
+  inputs: MapInput[]
+}
+
+export interface WorkerResponse {
+  id: number
+  results?: DocumentMapping[]
+  error?: string
+}
+
+/** Builds the message that lets a worker rebuild the same matcher. */
+export function mapperSource(taxonomy: Taxonomy, rulesText: string | null, rulesFile: string): MapperSource {
+  return { concepts: taxonomy.concepts, rulesText, rulesFile, commonWords: [...commonWordsFor(taxonomy)] }
+}
+
+/** Default thread count: one per core, at most 8, at least 1. */
+export function defaultThreads(): number {
+  return Math.max(1, Math.min(8, os.availableParallelism?.() ?? os.cpus().length))
+}
+
+interface Slot {
+  worker: Worker
+  ready: Promise<void>
+  busy: boolean
+}
+
+export class MapperPool {
+  private readonly slots: Slot[] = []
+  private readonly waiting = new Map<number, { resolve: (r: DocumentMapping[]) => void; reject: (e: Error) => void; slot: Slot }>()
+  private readonly queue: { req: WorkerRequest; resolve: (r: DocumentMapping[]) => void; reject: (e: Error) => void }[] = []
+  private nextId = 0
+
+  private constructor(source: MapperSource, threads: number) {
+    // The worker runs the TypeScript sources too. Hooks given by `--import` in a worker's execArgv
+    // do not reach its entry module on Node 20, so a small bootstrap registers tsx in the worker
+    // first and then imports the worker module.
+    const target = new URL('./map-worker.ts', import.meta.url).href
+    const api = import.meta.resolve('tsx/esm/api')
+    const bootstrap = `import(${JSON.stringify(api)}).then((m) => { m.register(); return import(${JSON.stringify(target)}) })`
+    for (let i = 0; i < threads; i++) {
+      const worker = new Worker(bootstrap, { eval: true, workerData: source })
+      const slot: Slot = { worker, busy: true, ready: Promise.resolve() }
+      slot.ready = new Promise<void>((resolve, reject) => {
+        const onFirst = (msg: WorkerResponse) => {
+          if (msg.id === -1) {
+            worker.off('message', onFirst)
+            slot.busy = false
+            resolve()
+            this.pump()
+          }
+        }
+        worker.on('message', onFirst)
+        worker.once('error', reject)
+      })
+      worker.on('message', (msg: WorkerResponse) => {
+        if (msg.id < 0) return
+        const w = this.waiting.get(msg.id)
+        if (!w) return
+        this.waiting.delete(msg.id)
+        w.slot.busy = false
+        if (msg.error !== undefined) w.reject(new Error(`mapping worker: ${msg.error}`))
+        else w.resolve(msg.results ?? [])
+        this.pump()
+      })
+      worker.on('error', (err) => {
+        for (const [id, w] of this.waiting) if (w.slot === slot) { this.waiting.delete(id); w.reject(err) }
+      })
+      this.slots.push(slot)
+    }
+  }
+
+  /** Starts `threads` workers and waits until each has built its matcher. */
+  static async start(source: MapperSource, threads = defaultThreads()): Promise<MapperPool> {
+    const pool = new MapperPool(source, Math.max(1, threads))
+    await Promise.all(pool.slots.map((s) => s.ready))
+    return pool
+  }
+
+  get size(): number {
+    return this.slots.length
+  }
+
+  /** Maps one batch on the next free worker. */
+  map(inputs: MapInput[]): Promise<DocumentMapping[]> {
+    return new Promise((resolve, reject) => {
+      this.queue.push({ req: { id: this.nextId++, inputs }, resolve, reject })
+      this.pump()
+    })
+  }
+
+  private pump(): void {
+    for (const slot of this.slots) {
+      if (slot.busy || this.queue.length === 0) continue
+      const job = this.queue.shift()!
+      slot.busy = true
+      this.waiting.set(job.req.id, { resolve: job.resolve, reject: job.reject, slot })
+      slot.worker.postMessage(job.req)
+    }
+  }
+
+  /** Stops every worker. */
+  async close(): Promise<void> {
+    await Promise.all(this.slots.map((s) => s.worker.terminate()))
+  }
+}

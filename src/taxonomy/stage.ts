@@ -1,0 +1,169 @@
+/**
+ * @module taxonomy/stage
+ * The `map` stage: maps every original document not yet mapped against the stored taxonomy
+ * (loading the configured or shipped one on first use), writes its mentions (direct ones via
+ * `text` or `skills`, broader concepts via `rollup`) and emits `documents.mapped` in the
+ * transaction of the last batch. It runs on `documents.ingested` and on `taxonomy.changed`,
+ * whose writer has already marked the affected documents unmapped. Large runs are spread over
+ * worker threads. Afterwards it recomputes the candidate terms.
+ */
+import type { Db } from '../db/connection.ts'
+import {
+  countUnmapped,
+  dismissedTerms,
+  iterateDocumentTexts,
+  replaceOpenCandidates,
+  saveMapping,
+  storedRules,
+  taxonomyVersion,
+  unmappedAfter,
+  type DocumentToMap,
+  type MentionRow,
+} from '../db/taxonomy.ts'
+import { emit } from '../events/outbox.ts'
+import type { Stage, StageContext, StageResult } from '../stage.ts'
+import type { Config } from '../config.ts'
+import { findCandidateTerms, type CandidateResult } from './candidates.ts'
+import type { DocumentMapping, MapInput, Matcher } from './matcher.ts'
+import { defaultThreads, MapperPool, mapperSource } from './parallel.ts'
+import { ensureTaxonomy, matcherFromDb, storedTaxonomy } from './store.ts'
+
+const BATCH = 1000
+
+/** The text a document is mapped as: its title, a line break, its body. Offsets refer to this. */
+export function documentInput(d: Pick<DocumentToMap, 'title' | 'body' | 'skills_json'>): MapInput {
+  let skills: unknown
+  if (d.skills_json) {
+    try {
+      skills = JSON.parse(d.skills_json)
+    } catch {
+      skills = d.skills_json
+    }
+  }
+  return { text: d.title ? `${d.title}\n${d.body}` : d.body, ...(skills !== undefined ? { skills } : {}) }
+}
+
+/** The mention rows of one document's mapping (presence per concept; rollups marked). */
+export function mentionRows(mapping: DocumentMapping): MentionRow[] {
+  const rows: MentionRow[] = mapping.mentions.map((m) => {
+    const inText = m.spans.some((s) => s.field === 'text')
+    const first = m.spans.find((s) => s.field === 'text')
+    return { conceptId: m.conceptId, count: m.count, firstOffset: first ? first.start : null, via: inText ? 'text' : 'skills' }
+  })
+  for (const r of mapping.rollups) rows.push({ conceptId: r.conceptId, count: r.via.length, firstOffset: null, via: 'rollup' })
+  return rows
+}
+
+export interface MapRunCounts {
+  mapped: number
+  mentions: number
+  rollups: number
+  workers: number
+}
+
+/**
+ * Maps every unmapped original document (see module doc).
+ * @param threads worker threads to use when at least `threshold` documents wait (0: a default)
+ */
+export async function mapUnmapped(db: Db, config: Config, log: (m: string) => void = () => {}, opts: { threads?: number; threshold?: number } = {}): Promise<MapRunCounts> {
+  const total = countUnmapped(db)
+  const counts: MapRunCounts = { mapped: 0, mentions: 0, rollups: 0, workers: 0 }
+  if (total === 0) return counts
+  const version = taxonomyVersion(db)
+  const threshold = opts.threshold ?? config.taxonomy.workerThreshold
+  const threads = opts.threads ?? (config.taxonomy.workers || defaultThreads())
+  let pool: MapperPool | undefined
+  let matcher: Matcher | undefined
+  if (total >= threshold && threads > 1) {
+    const rules = storedRules(db)
+    pool = await MapperPool.start(mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)'), threads)
+    counts.workers = pool.size
+    log(`map: ${total} documents over ${pool.size} worker threads`)
+  } else matcher = matcherFromDb(db)
+  try {
+    let after = 0
+    // with workers, read ahead so that every worker has a batch while the main thread writes
+    const ahead = pool ? pool.size : 1
+    const inflight: { docs: DocumentToMap[]; results: Promise<DocumentMapping[]> }[] = []
+    const fetchNext = (): boolean => {
+      const docs = unmappedAfter(db, after, BATCH)
+      if (docs.length === 0) return false
+      after = docs[docs.length - 1]!.id
+      const inputs = docs.map(documentInput)
+      inflight.push({ docs, results: pool ? pool.map(inputs) : Promise.resolve(inputs.map((i) => matcher!.map(i))) })
+      return true
+    }
+    while (inflight.length < ahead && fetchNext());
+    while (inflight.length > 0) {
+      const batch = inflight.shift()!
+      const results = await batch.results
+      const last = counts.mapped + batch.docs.length >= total
+      db.transaction(() => {
+        batch.docs.forEach((d, i) => {
+          const rows = mentionRows(results[i]!)
+          saveMapping(db, d.id, version, rows)
+          for (const r of rows) {
+            if (r.via === 'rollup') counts.rollups++
+            else counts.mentions++
+          }
+        })
+        counts.mapped += batch.docs.length
+        if (last || inflight.length === 0) emit(db, 'documents.mapped', { mapped: counts.mapped, version, mentions: counts.mentions, rollups: counts.rollups })
+      })()
+      if (counts.mapped % 10_000 < BATCH) log(`map: ${counts.mapped}/${total}`)
+      while (inflight.length < ahead && fetchNext());
+    }
+  } finally {
+    await pool?.close()
+  }
+  return counts
+}
+
+/** Recomputes the open candidate terms from every original document. */
+export function refreshCandidates(db: Db, config: Config, matcher: Matcher = matcherFromDb(db)): CandidateResult {
+  const c = config.taxonomy.candidates
+  const result = findCandidateTerms(
+    () => (function* () {
+      for (const d of iterateDocumentTexts(db)) yield { month: d.month, text: d.title ? `${d.title}\n${d.body}` : d.body }
+    })(),
+    matcher,
+    { recentMonths: c.recentMonths, minRecentDocs: c.minRecentDocs, minRatio: c.minRatio, alpha: c.alpha, maxTerms: c.maxTerms, exclude: dismissedTerms(db) },
+  )
+  db.transaction(() =>
+    replaceOpenCandidates(
+      db,
+      result.candidates.map((t) => ({
+        term: t.term,
+        score: t.score,
+        recentDf: t.recentDf,
+        earlierDf: t.earlierDf,
+        trend: t.trend,
+        examples: t.examples,
+      })),
+    ),
+  )()
+  return result
+}
+
+async function run(ctx: StageContext): Promise<StageResult> {
+  const loaded = await ensureTaxonomy(ctx.db, ctx.config, ctx.log)
+  const counts = await mapUnmapped(ctx.db, ctx.config, ctx.log)
+  let candidates = -1
+  if (counts.mapped > 0 && ctx.config.taxonomy.candidates.enabled) candidates = refreshCandidates(ctx.db, ctx.config).candidates.length
+  const after = ctx.trigger.includes('taxonomy.changed') ? ' after a taxonomy change' : ''
+  const summary =
+    `mapped ${counts.mapped} documents${after} (${counts.mentions} mentions, ${counts.rollups} rollups` +
+    `${counts.workers ? `, ${counts.workers} worker threads` : ''})` +
+    `${loaded ? `; loaded ${loaded.concepts} concepts` : ''}${candidates >= 0 ? `; ${candidates} candidate terms` : ''}`
+  return {
+    summary,
+    counts: { mapped: counts.mapped, mentions: counts.mentions, rollups: counts.rollups, candidates: Math.max(0, candidates), ...(loaded ? { concepts: loaded.concepts } : {}) },
+  }
+}
+
+export const mapStage: Stage = {
+  name: 'map',
+  description: 'map documents to skills (mentions with broader rollups) and find rising candidate terms',
+  subscribesTo: ['documents.ingested', 'taxonomy.changed'],
+  run,
+}

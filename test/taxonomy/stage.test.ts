@@ -1,0 +1,184 @@
+import { describe, it, expect, beforeEach } from 'vitest'
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import { loadConfig } from '../../src/config.ts'
+import { openDb, type Db } from '../../src/db/connection.ts'
+import { conceptCount, countUnmapped, getCandidate, listCandidates, mentionSummary, replaceOpenCandidates, taxonomyVersion } from '../../src/db/taxonomy.ts'
+import { pendingFor } from '../../src/events/outbox.ts'
+import { importDocuments } from '../../src/ingest/import.ts'
+import { acceptAsAltLabel, acceptAsConcept, DecisionError, dismissCandidate } from '../../src/taxonomy/decisions.ts'
+import { mapStage, mapUnmapped, refreshCandidates } from '../../src/taxonomy/stage.ts'
+import { ensureTaxonomy, importTaxonomy, matcherFromDb } from '../../src/taxonomy/store.ts'
+
+const config = loadConfig({ db: ':memory:' })
+const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'tides-taxonomy-'))
+const quiet = () => {}
+
+function postingsFile(name: string, rows: { id: string; title: string; description: string; date: string; skills?: unknown }[]): string {
+  const file = path.join(tmp, name)
+  fs.writeFileSync(file, rows.map((r) => JSON.stringify({ identifier: r.id, title: r.title, description: r.description, datePosted: r.date, ...(r.skills ? { skills: r.skills } : {}) })).join('\n') + '\n')
+  return file
+}
+
+async function dbWith(rows: Parameters<typeof postingsFile>[1]): Promise<Db> {
+  const db = openDb(':memory:')
+  const r = await importDocuments(db, config, 'postings', postingsFile(`p-${Math.random().toString(36).slice(2)}.jsonl`, rows), { skipBad: false })
+  expect(r.refused).toBe(false)
+  return db
+}
+
+const POSTINGS = [
+  { id: 'a', title: 'Platform engineer', description: 'Kubernetes and Terraform on Fernhollow infrastructure. PyTorch a plus.', date: '2024-01-10' },
+  { id: 'b', title: 'Analyst', description: 'Advanced Excel, SQL; negotiating with suppliers.', date: '2024-02-11', skills: ['R', { '@type': 'DefinedTerm', name: 'Tableau' }] },
+  { id: 'c', title: 'Warehouse lead', description: 'Forklift licence and first aid. Excel at teamwork.', date: '2024-03-12' },
+]
+
+describe('map stage', () => {
+  let db: Db
+  beforeEach(async () => {
+    db = await dbWith(POSTINGS)
+  })
+
+  it('loads the shipped taxonomy on first run, maps every document once and emits documents.mapped', async () => {
+    expect(conceptCount(db)).toBe(0)
+    const before = pendingFor(db, 'test', ['documents.mapped']).events.length
+    const result = await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    expect(conceptCount(db)).toBeGreaterThan(600)
+    expect(result.counts['mapped']).toBe(3)
+    expect(countUnmapped(db)).toBe(0)
+    const events = pendingFor(db, 'test', ['documents.mapped']).events
+    expect(events.length - before).toBe(1)
+    expect(JSON.parse(events[events.length - 1]!.payload_json)).toMatchObject({ mapped: 3 })
+    const summary = new Map(mentionSummary(db).map((m) => [m.concept_id, m]))
+    expect(summary.get('kubernetes')).toMatchObject({ documents: 1, direct: 1 })
+    expect(summary.get('machine-learning')).toMatchObject({ documents: 1, direct: 0 }) // PyTorch rolled up
+    expect(summary.get('r')).toMatchObject({ documents: 1, direct: 1 }) // from the skills field
+    expect(summary.has('microsoft-excel')).toBe(true)
+    // "Excel at teamwork" is not Excel: only document b mentions it
+    expect(summary.get('microsoft-excel')!.documents).toBe(1)
+    // a second run has nothing to do and emits nothing
+    const again = await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    expect(again.counts['mapped']).toBe(0)
+    expect(pendingFor(db, 'test', ['documents.mapped']).events.length).toBe(events.length)
+  })
+
+  it('maps with worker threads to the same mentions as on one thread', async () => {
+    await ensureTaxonomy(db, config)
+    const one = await mapUnmapped(db, config, quiet, { threads: 1 })
+    const single = mentionSummary(db)
+    const db2 = await dbWith(POSTINGS)
+    await ensureTaxonomy(db2, config)
+    const many = await mapUnmapped(db2, config, quiet, { threads: 2, threshold: 1 })
+    expect(many.workers).toBe(2)
+    expect(many.mapped).toBe(one.mapped)
+    expect(mentionSummary(db2)).toEqual(single)
+  }, 60_000)
+})
+
+describe('taxonomy import and changes', () => {
+  const CSV = ['id,prefLabel,altLabel,hiddenLabel,broader,type', 'quillstream,Quillstream,Quill stream,,,hard', 'kubernetes,Kubernetes,K8s,,containers,hard', 'containers,containers,,,,hard', 'teamwork,teamwork,team player,,,soft'].join('\n')
+
+  it('replaces the taxonomy, marks every document for re-mapping and says how many', async () => {
+    const db = await dbWith(POSTINGS)
+    await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    const file = path.join(tmp, 'mini.csv')
+    fs.writeFileSync(file, CSV)
+    const v0 = taxonomyVersion(db)
+    const r = await importTaxonomy(db, file, { skipBad: false })
+    expect(r).toMatchObject({ refused: false, imported: 4, affected: 3 })
+    expect(taxonomyVersion(db)).toBe(v0 + 1)
+    expect(countUnmapped(db)).toBe(3)
+    const ev = pendingFor(db, 'test', ['taxonomy.changed']).events.at(-1)!
+    expect(JSON.parse(ev.payload_json)).toMatchObject({ reason: 'import', affected: 3, concepts: 4 })
+    const res = await mapStage.run({ db, config, log: quiet, trigger: 'event:taxonomy.changed', options: {} })
+    expect(res.summary).toContain('after a taxonomy change')
+    expect(mentionSummary(db).map((m) => m.concept_id).sort()).toEqual(['containers', 'kubernetes', 'teamwork'])
+  })
+
+  it('refuses a taxonomy with errors, naming file and line, unless --skip-bad', async () => {
+    const db = openDb(':memory:')
+    const file = path.join(tmp, 'bad.csv')
+    fs.writeFileSync(file, CSV + '\nbroken,Broken,,,nowhere,hard\n,NoId,,,,hard\n')
+    const refused = await importTaxonomy(db, file, { skipBad: false })
+    expect(refused.refused).toBe(true)
+    expect(refused.problems.map((p) => [p.line, p.column])).toEqual([[6, 'broader'], [7, 'id']])
+    expect(conceptCount(db)).toBe(0)
+    const kept = await importTaxonomy(db, file, { skipBad: true })
+    expect(kept).toMatchObject({ refused: false, imported: 5 })
+    expect(conceptCount(db)).toBe(5)
+  })
+
+  it('imports SKOS Turtle', async () => {
+    const db = openDb(':memory:')
+    const r = await importTaxonomy(db, path.join(import.meta.dirname, 'fixtures/skos-reference-examples.ttl'), { skipBad: false })
+    expect(r).toMatchObject({ refused: false, imported: 7 })
+    expect(matcherFromDb(db).mapText('PyTorch and fauna').mentions.map((m) => m.conceptId)).toEqual(['pytorch', 'animals'])
+  })
+
+  it('accepts a candidate as a new concept or an altLabel, re-mapping only affected documents', async () => {
+    const db = await dbWith([
+      ...POSTINGS,
+      { id: 'd', title: 'Data engineer', description: 'Pipelines orchestrated with Quillstream.', date: '2024-04-01' },
+      { id: 'e', title: 'Data engineer', description: 'Brackenfold ledgers and Quillstream jobs.', date: '2024-04-02' },
+    ])
+    await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    replaceOpenCandidates(db, [
+      { term: 'quillstream', score: 40, recentDf: 2, earlierDf: 0, trend: [], examples: [] },
+      { term: 'brackenfold ledgers', score: 20, recentDf: 1, earlierDf: 0, trend: [], examples: [] },
+      { term: 'warehouse lead', score: 5, recentDf: 1, earlierDf: 0, trend: [], examples: [] },
+    ])
+    const accepted = acceptAsConcept(db, 'quillstream', { label: 'Quillstream', type: 'hard' }, 'curator')
+    expect(accepted).toMatchObject({ conceptId: 'quillstream', affected: 2 })
+    expect(getCandidate(db, 'quillstream')!.status).toBe('accepted')
+    expect(countUnmapped(db)).toBe(2)
+    await mapStage.run({ db, config, log: quiet, trigger: 'event:taxonomy.changed', options: {} })
+    expect(mentionSummary(db).find((m) => m.concept_id === 'quillstream')).toMatchObject({ documents: 2 })
+
+    // the map run recomputed the open candidates; put the ones this test decides back
+    replaceOpenCandidates(db, [
+      { term: 'brackenfold ledgers', score: 20, recentDf: 1, earlierDf: 0, trend: [], examples: [] },
+      { term: 'warehouse lead', score: 5, recentDf: 1, earlierDf: 0, trend: [], examples: [] },
+    ])
+    const alt = acceptAsAltLabel(db, 'brackenfold ledgers', 'accounting', 'curator')
+    expect(alt.affected).toBe(1)
+    await mapStage.run({ db, config, log: quiet, trigger: 'event:taxonomy.changed', options: {} })
+    expect(matcherFromDb(db).mapText('brackenfold ledger').mentions.map((m) => m.conceptId)).toEqual(['accounting'])
+
+    replaceOpenCandidates(db, [{ term: 'warehouse lead', score: 5, recentDf: 1, earlierDf: 0, trend: [], examples: [] }])
+    expect(dismissCandidate(db, 'warehouse lead', 'curator').affected).toBe(0)
+    expect(getCandidate(db, 'warehouse lead')!.status).toBe('dismissed')
+    expect(() => dismissCandidate(db, 'warehouse lead', 'curator')).toThrow(DecisionError)
+    expect(() => acceptAsConcept(db, 'no such term', {}, 'x')).toThrow(/no candidate term/)
+    replaceOpenCandidates(db, [{ term: 'kubernetes clusters', score: 1, recentDf: 1, earlierDf: 0, trend: [], examples: [] }])
+    expect(() => acceptAsAltLabel(db, 'kubernetes clusters', 'nope', 'x')).toThrow(/no concept/)
+    expect(() => acceptAsConcept(db, 'kubernetes clusters', { label: 'K8s' }, 'x')).toThrow(/already a label of concept "kubernetes"/)
+  })
+})
+
+describe('candidate terms in the database', () => {
+  it('finds a term rising in recent months, keeps decided terms and never reopens dismissed ones', async () => {
+    const rows: Parameters<typeof postingsFile>[1] = []
+    // varied invented wording, so that the near-duplicate filter keeps the postings apart
+    const words = 'alder birch cedar damson elder fennel gorse hazel ivy juniper kale larch maple nettle oak poplar quince rowan sorrel thyme'.split(' ')
+    const filler = ['Python and SQL for reporting.', 'Stakeholder management across the cooperative.', 'Kubernetes and Terraform experience.', 'Month-end close with the finance office.']
+    let n = 0
+    for (let m = 1; m <= 12; m++) {
+      for (let i = 0; i < 20; i++) {
+        const rising = m >= 7 && i < 4 + (m - 7) * 2
+        const local = Array.from({ length: 12 }, (_, k) => words[(n * 7 + k * 3 + m) % words.length]).join(' ')
+        rows.push({ id: `x${n++}`, title: `Role ${n}`, description: `${filler[i % 4]} Site ${local} depot ${n}. ${filler[(i + 1) % 4]}${rising ? ' We run Quillstream orchestration daily.' : ''}`, date: `2024-${String(m).padStart(2, '0')}-05` })
+      }
+    }
+    const db = await dbWith(rows)
+    await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    const open = listCandidates(db, 'open', 10)
+    expect(open[0]!.term).toBe('quillstream orchestration')
+    expect(open[0]!.earlier_df).toBe(0)
+    expect(JSON.parse(open[0]!.examples_json)[0].snippet).toContain('Quillstream orchestration')
+    dismissCandidate(db, 'quillstream orchestration', 'curator')
+    const again = refreshCandidates(db, config)
+    expect(again.candidates.map((c) => c.term)).not.toContain('quillstream orchestration')
+    expect(getCandidate(db, 'quillstream orchestration')!.status).toBe('dismissed')
+  })
+})
