@@ -54,8 +54,26 @@ describe('crash safety of ingest', () => {
     const rand = rng(2024)
     const seenCounts: number[] = []
     for (let k = 0; k < 3; k++) {
-      const delay = (0.15 + 0.7 * rand()) * cleanMs
-      const r = await child(crashed, file, (kill) => setTimeout(kill, delay))
+      // kill once the stored count passes a random target, wherever the child then is: reading,
+      // deduplicating, inside a transaction or committing one
+      const target = Math.floor((0.1 + 0.8 * rand()) * 4000)
+      let stop = () => {}
+      const r = await child(crashed, file, (kill) => {
+        const reader = openDb(crashed, { readonly: true })
+        stop = () => {
+          clearInterval(timer)
+          if (reader.open) reader.close()
+        }
+        const timer = setInterval(() => {
+          const n = reader.prepare('SELECT COUNT(*) FROM documents').pluck().get() as number
+          if (n >= target) {
+            stop()
+            // a random further wait inside the next batch
+            setTimeout(kill, rand() * 0.05 * cleanMs)
+          }
+        }, 10)
+      })
+      stop()
       const db = openDb(crashed)
       expect(db.pragma('integrity_check', { simple: true })).toBe('ok')
       seenCounts.push(db.prepare('SELECT COUNT(*) FROM documents').pluck().get() as number)

@@ -1,7 +1,7 @@
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
-import xml2js from 'xml2js'
+import { createRequire } from 'node:module'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { parseConfig } from '../../src/config.ts'
 import { openDb } from '../../src/db/connection.ts'
@@ -9,6 +9,9 @@ import { listRuns } from '../../src/db/runs.ts'
 import { readFeed } from '../../src/ingest/feed.ts'
 import { ingestSources } from '../../src/ingest/stage.ts'
 import { startServer, type TestServer } from './server.ts'
+
+// xml2js ships no types; only its Parser is needed, to check a fact about it independently
+const xml2js = createRequire(import.meta.url)('xml2js') as { Parser: new () => { parseStringPromise(xml: string): Promise<unknown> } }
 
 let server: TestServer
 let dir: string
