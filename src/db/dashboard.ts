@@ -20,38 +20,6 @@ function stmt(db: Db, sql: string): Statement {
 
 // ---------------------------------------------------------------- overview
 
-export const OVERVIEW_SORTS = ['rank', 'label', 'state', 'growth', 'halflife', 'share', 'coverage', 'score'] as const
-export type OverviewSort = (typeof OVERVIEW_SORTS)[number]
-
-/** Lifecycle states in display order; states the curves stage adds later sort after these. */
-export const STATE_ORDER = ['emerging', 'rising', 'steady', 'declining', 'fading'] as const
-
-const STATE_RANK = `CASE cu.state ${STATE_ORDER.map((s, i) => `WHEN '${s}' THEN ${i}`).join(' ')} ELSE ${STATE_ORDER.length} END`
-
-/** Sort expressions; `coverage` is sorted by the caller (suppression is decided outside SQL). */
-const SORT_SQL: Record<Exclude<OverviewSort, 'coverage'>, string> = {
-  rank: 'n.rank',
-  label: 'c.pref_label COLLATE NOCASE',
-  state: STATE_RANK,
-  growth: 'cu.annual_growth',
-  halflife: 'cu.half_life_months',
-  share: 'cu.latest_share',
-  score: 'n.score',
-}
-
-export interface OverviewQuery {
-  sort: OverviewSort
-  dir: 'asc' | 'desc'
-  /** with a role, ranks come from the plan's per-role ranking ('need-role') */
-  role?: string
-  team?: string
-  type?: string
-  state?: string
-  search?: string
-  limit: number
-  offset: number
-}
-
 export interface OverviewDbRow {
   id: string
   label: string
@@ -72,88 +40,91 @@ export interface OverviewDbRow {
   payload_json: string | null
 }
 
+/** The sortable and filterable fields of every skill, for the overview's in-memory index. */
+export interface SkillKeyRow {
+  id: string
+  label: string
+  type: string
+  state: string | null
+  growth: number | null
+  halfLife: number | null
+  share: number | null
+  rank: number | null
+  score: number | null
+}
+
 /**
- * FROM and WHERE of the overview with their parameters in order. Needs come from plan_outputs kind
- * 'need' (key = skill id), or with a role from kind 'need-role' (key = JSON array [role, skill id],
- * as the plan stage writes it); a role shows the skills it requires plus those the plan ranks for it.
+ * One pass over all skills with only the fields the overview sorts and filters on. The curves and
+ * plan rows are wide (JSON details), so this scan is the expensive part of the overview; the server
+ * keeps its result until the data changes (see dataStamp).
  */
-function overviewFrom(q: Pick<OverviewQuery, 'role' | 'team' | 'type' | 'state' | 'search'>): { sql: string; params: unknown[] } {
-  const params: unknown[] = []
-  let sql = 'FROM concepts c LEFT JOIN curves cu ON cu.concept_id = c.id '
-  if (q.role) {
-    sql += "LEFT JOIN plan_outputs n ON n.kind = 'need-role' AND n.key = json_array(?, c.id) "
-    params.push(q.role)
-  } else {
-    sql += "LEFT JOIN plan_outputs n ON n.kind = 'need' AND n.key = c.id "
+export function skillKeys(db: Db): SkillKeyRow[] {
+  return stmt(
+    db,
+    `SELECT c.id, c.pref_label AS label, c.type, cu.state, cu.annual_growth AS growth, cu.half_life_months AS halfLife,
+       cu.latest_share AS share, n.rank, n.score
+     FROM concepts c LEFT JOIN curves cu ON cu.concept_id = c.id LEFT JOIN plan_outputs n ON n.kind = 'need' AND n.key = c.id`,
+  ).all() as SkillKeyRow[]
+}
+
+/**
+ * A stamp that changes whenever the data may have: the latest outbox event (every stage and every
+ * dashboard change emits one in its transaction), SQLite's data_version (commits by other
+ * connections, e.g. a `tides run` in another process) and total_changes() (rows this connection
+ * changed, whether or not an event announced them).
+ */
+export function dataStamp(db: Db): string {
+  const row = stmt(db, 'SELECT (SELECT COALESCE(MAX(id), 0) FROM events) AS e, total_changes() AS t').get() as { e: number; t: number }
+  const version = db.pragma('data_version', { simple: true }) as number
+  return `${row.e}:${version}:${row.t}`
+}
+
+/** The plan's per-role ranking: role -> skill id -> rank and score (keys are JSON [role, skill id]). */
+export function needRoleRanks(db: Db): Map<string, Map<string, { rank: number | null; score: number | null }>> {
+  const out = new Map<string, Map<string, { rank: number | null; score: number | null }>>()
+  for (const r of stmt(db, "SELECT key, rank, score FROM plan_outputs WHERE kind = 'need-role'").all() as { key: string; rank: number | null; score: number | null }[]) {
+    let parsed: unknown
+    try {
+      parsed = JSON.parse(r.key)
+    } catch {
+      continue
+    }
+    if (!Array.isArray(parsed) || typeof parsed[0] !== 'string' || typeof parsed[1] !== 'string') continue
+    if (!out.has(parsed[0])) out.set(parsed[0], new Map())
+    out.get(parsed[0])!.set(parsed[1], { rank: r.rank, score: r.score })
   }
-  const parts: string[] = []
-  if (q.role) {
-    parts.push('(n.key IS NOT NULL OR c.id IN (SELECT skill_id FROM roles WHERE role = ?))')
-    params.push(q.role)
-  }
-  if (q.team) {
-    parts.push('c.id IN (SELECT r.skill_id FROM roles r WHERE r.role IN (SELECT DISTINCT p.role FROM people p WHERE p.team = ?))')
-    params.push(q.team)
-  }
-  if (q.type) {
-    parts.push('c.type = ?')
-    params.push(q.type)
-  }
-  if (q.state === 'none') parts.push('cu.state IS NULL')
-  else if (q.state) {
-    parts.push('cu.state = ?')
-    params.push(q.state)
-  }
-  if (q.search) {
-    parts.push("(c.pref_label LIKE ? ESCAPE '\\' OR c.id LIKE ? ESCAPE '\\')")
-    const like = `%${q.search.replace(/[\\%_]/g, (m) => `\\${m}`)}%`
-    params.push(like, like)
-  }
-  if (parts.length) sql += `WHERE ${parts.join(' AND ')}`
-  return { sql, params }
+  return out
+}
+
+/** Skills a role requires (roles table). */
+export function roleSkillIds(db: Db, role: string): string[] {
+  return stmt(db, 'SELECT skill_id FROM roles WHERE role = ?').pluck().all(role) as string[]
+}
+
+/** Skills required by the roles that members of a team hold. */
+export function teamSkillIds(db: Db, team: string): string[] {
+  return stmt(db, 'SELECT DISTINCT r.skill_id FROM roles r WHERE r.role IN (SELECT DISTINCT p.role FROM people p WHERE p.team = ?)').pluck().all(team) as string[]
 }
 
 const OVERVIEW_COLUMNS = `c.id, c.pref_label AS label, c.type, cu.state, cu.annual_growth, cu.growth_low, cu.growth_high,
   cu.half_life_months, cu.half_life_low, cu.half_life_high, cu.p_adjusted, cu.latest_share, cu.forecast_share12,
   cu.change_month, n.rank, n.score, n.payload_json`
 
-/** Number of skills matching the overview's filters. */
-export function overviewCount(db: Db, q: OverviewQuery): number {
-  const from = overviewFrom(q)
-  return (stmt(db, `SELECT COUNT(*) AS n ${from.sql}`).get(...from.params) as { n: number }).n
-}
-
 /**
- * One page of the skills table, sorted in SQL (any sort but `coverage`).
- * Rows without a value in the sort column come last in either direction.
+ * Full overview rows of the given skills, in the order of `ids`. The need comes from plan_outputs
+ * kind 'need' (key = skill id), or with a role from kind 'need-role' (key = JSON [role, skill id], as
+ * the plan stage writes it).
  */
-export function overviewRows(db: Db, q: OverviewQuery & { sort: Exclude<OverviewSort, 'coverage'> }): OverviewDbRow[] {
-  const from = overviewFrom(q)
-  const expr = SORT_SQL[q.sort]
-  const dir = q.dir === 'desc' ? 'DESC' : 'ASC'
-  return stmt(
-    db,
-    `SELECT ${OVERVIEW_COLUMNS} ${from.sql}
-     ORDER BY (${expr}) IS NULL, ${expr} ${dir}, n.rank IS NULL, n.rank, c.id
-     LIMIT ? OFFSET ?`,
-  ).all(...from.params, q.limit, q.offset) as OverviewDbRow[]
-}
-
-/** Ids of every skill matching the filters, in rank order (for sorts computed outside SQL). */
-export function overviewIds(db: Db, q: OverviewQuery): string[] {
-  const from = overviewFrom(q)
-  return stmt(db, `SELECT c.id ${from.sql} ORDER BY n.rank IS NULL, n.rank, c.id`).pluck().all(...from.params) as string[]
-}
-
-/** Overview rows of the given skills, in the order of `ids`. */
-export function overviewRowsByIds(db: Db, ids: readonly string[], q: Pick<OverviewQuery, 'role'>): OverviewDbRow[] {
+export function overviewRowsByIds(db: Db, ids: readonly string[], role?: string): OverviewDbRow[] {
   const out = new Map<string, OverviewDbRow>()
-  const base = overviewFrom({ role: q.role })
+  const join = role
+    ? "LEFT JOIN plan_outputs n ON n.kind = 'need-role' AND n.key = json_array(?, c.id)"
+    : "LEFT JOIN plan_outputs n ON n.kind = 'need' AND n.key = c.id"
   for (let i = 0; i < ids.length; i += 100) {
     const chunk = ids.slice(i, i + 100)
     const marks = chunk.map(() => '?').join(',')
-    const sql = `SELECT ${OVERVIEW_COLUMNS} ${base.sql} ${base.sql.includes('WHERE') ? 'AND' : 'WHERE'} c.id IN (${marks})`
-    for (const r of stmt(db, sql).all(...base.params, ...chunk) as OverviewDbRow[]) out.set(r.id, r)
+    const sql = `SELECT ${OVERVIEW_COLUMNS} FROM concepts c LEFT JOIN curves cu ON cu.concept_id = c.id ${join} WHERE c.id IN (${marks})`
+    for (const r of stmt(db, sql).all(...(role ? [role] : []), ...chunk) as OverviewDbRow[]) out.set(r.id, r)
   }
   return ids.map((id) => out.get(id)).filter((r): r is OverviewDbRow => r !== undefined)
 }
@@ -163,23 +134,10 @@ export function allCoverage(db: Db): CoverageRow[] {
   return stmt(db, 'SELECT * FROM coverage ORDER BY skill_id, role').all() as CoverageRow[]
 }
 
-/** Number of skills per lifecycle state; skills without a fitted curve are counted as `null`. */
-export function stateCounts(db: Db): { state: string | null; count: number }[] {
-  return stmt(
-    db,
-    `SELECT cu.state AS state, COUNT(*) AS count FROM concepts c LEFT JOIN curves cu ON cu.concept_id = c.id GROUP BY cu.state ORDER BY count DESC`,
-  ).all() as { state: string | null; count: number }[]
-}
-
-/** Values offered in the overview's filters. */
-export function filterChoices(db: Db): { roles: string[]; teams: string[]; types: string[]; states: string[] } {
+/** Roles and teams offered in the overview's filters. */
+export function roleAndTeamChoices(db: Db): { roles: string[]; teams: string[] } {
   const col = (sql: string) => (stmt(db, sql).pluck().all() as string[]).filter((v) => v !== '')
-  return {
-    roles: col('SELECT DISTINCT role FROM roles ORDER BY role'),
-    teams: col('SELECT DISTINCT team FROM people ORDER BY team'),
-    types: col('SELECT DISTINCT type FROM concepts ORDER BY type'),
-    states: col('SELECT DISTINCT state FROM curves ORDER BY state'),
-  }
+  return { roles: col('SELECT DISTINCT role FROM roles ORDER BY role'), teams: col('SELECT DISTINCT team FROM people ORDER BY team') }
 }
 
 export interface DemandPoint {
@@ -188,6 +146,11 @@ export interface DemandPoint {
   month: string
   n: number
   total: number
+}
+
+/** The months of a demand series, oldest first. */
+export function demandMonths(db: Db, series: 'external' | 'internal'): string[] {
+  return stmt(db, 'SELECT DISTINCT month FROM demand WHERE series = ? ORDER BY month').pluck().all(series) as string[]
 }
 
 /** Monthly demand rows of the given skills (one series or both), in month order. */

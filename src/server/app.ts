@@ -15,8 +15,10 @@ import { HTTPException } from 'hono/http-exception'
 import { secureHeaders } from 'hono/secure-headers'
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
+import { dataStamp } from '../db/dashboard.ts'
 import { defaultActions, type Actions } from './actions.ts'
 import { loadAssets, mountAssets } from './assets.ts'
+import { responseCache } from './cache.ts'
 import type { Deps, Env, NextRun } from './deps.ts'
 import { mountFeeds } from './feeds.ts'
 import { page } from './layout.ts'
@@ -41,6 +43,8 @@ export interface AppOptions {
   afterWrite?: () => void
   /** log for unexpected errors */
   log?: (message: string) => void
+  /** cache rendered GET responses until the data changes (default true; benchmarks of render time turn it off) */
+  cache?: boolean
 }
 
 /**
@@ -70,6 +74,7 @@ export function createApp(db: Db, config: Config, options: AppOptions = {}): Hon
   app.use('*', bodyLimit({ maxSize: MAX_BODY_BYTES, onError: (c) => c.text(`request body larger than ${MAX_BODY_BYTES} bytes`, 413) }))
   app.use('*', csrf())
   app.use('*', sessionMiddleware(getToken))
+  if (options.cache !== false) app.use('*', responseCache(() => dataStamp(db)))
   const guard = requireWriter(getToken)
 
   mountFeeds(app as unknown as Hono, config.dataDir)

@@ -1,27 +1,39 @@
 /**
  * @module server/pages/overview
  * The needs overview: skills ranked by the plan's need score, filterable by role, team, skill type
- * and state, sortable by any column, paginated (the database sorts and cuts the page, so 20,000
- * skills cost one indexed query plus lookups for the rows shown). Each row carries a server-drawn
+ * and state, sortable by any column, paginated: an in-memory index (skill-index.ts) sorts and cuts
+ * the page, so 20,000 skills cost a few milliseconds plus lookups for the rows shown. Each row carries a server-drawn
  * trend line, the state as shape and word, growth or half-life with interval, coverage and the
  * score's parts. JSON twin: /api/overview; CSV: /api/overview?format=csv (all matching rows).
  */
 import type { Hono } from 'hono'
 import { html } from 'hono/html'
-import {
-  OVERVIEW_SORTS, allCoverage, coverageFor, demandFor, filterChoices, overviewCount, overviewIds, overviewRows, overviewRowsByIds, stateCounts,
-  type OverviewDbRow, type OverviewQuery, type OverviewSort,
-} from '../../db/dashboard.ts'
+import { overviewRowsByIds, roleAndTeamChoices, type OverviewDbRow } from '../../db/dashboard.ts'
 import { latestRuns, type JobRun } from '../../db/runs.ts'
 import { csv, intParam, minGroup, wantsCsv, withQuery, type Ctx, type Deps, type Env, type NextRun } from '../deps.ts'
 import * as f from '../format.ts'
 import { notice, page, stateMark, type Html } from '../layout.ts'
 import { needNotes, parseJson, scoreParts, type ScorePartView } from '../payloads.ts'
-import { coverageBySkill, figureFor, type CoverageFigure } from '../privacy.ts'
+import { figureFor, type CoverageFigure } from '../privacy.ts'
+import { OVERVIEW_SORTS, skillIndex, type OverviewFilter, type OverviewSort } from '../skill-index.ts'
 import { sparkline } from '../sparkline.ts'
 
 export const PAGE_SIZES = [25, 50, 100, 200] as const
 const CSV_MAX_ROWS = 100_000
+
+export interface OverviewQuery extends OverviewFilter {
+  sort: OverviewSort
+  dir: 'asc' | 'desc'
+  limit: number
+  offset: number
+}
+
+export interface FilterChoices {
+  roles: string[]
+  teams: string[]
+  types: string[]
+  states: string[]
+}
 
 export interface NeedRow {
   rank: number | null
@@ -51,7 +63,7 @@ export interface OverviewData {
   pages: number
   rows: NeedRow[]
   stateCounts: { state: string | null; count: number }[]
-  choices: ReturnType<typeof filterChoices>
+  choices: FilterChoices
   lastRun: JobRun | null
   latestRuns: JobRun[]
   nextRuns: NextRun[]
@@ -78,54 +90,28 @@ export function parseOverviewQuery(c: Ctx): OverviewQuery & { page: number; page
 
 function toNeed(r: OverviewDbRow, trend: (number | null)[], coverage: CoverageFigure | null): NeedRow {
   const pair = (a: number | null, b: number | null): [number | null, number | null] | null => (a === null && b === null ? null : [a, b])
+  const payload = parseJson(r.payload_json)
   return {
     rank: r.rank, id: r.id, label: r.label, type: r.type, state: r.state,
     annualGrowth: r.annual_growth, growthInterval: pair(r.growth_low, r.growth_high),
     halfLifeMonths: r.half_life_months, halfLifeInterval: pair(r.half_life_low, r.half_life_high),
     pAdjusted: r.p_adjusted, latestShare: r.latest_share, forecastShare12: r.forecast_share12, changeMonth: r.change_month,
-    coverage, score: r.score, parts: scoreParts(parseJson(r.payload_json)), notes: needNotes(parseJson(r.payload_json)), trend,
+    coverage, score: r.score, parts: scoreParts(payload), notes: needNotes(payload), trend,
   }
-}
-
-/**
- * Rows of the page (or all rows) in the requested order. Coverage is sorted here rather than in SQL,
- * on the figures as displayed, so the order never reveals a suppressed value.
- */
-function pageRows(deps: Deps, q: OverviewQuery): { total: number; rows: OverviewDbRow[]; coverage: ReturnType<typeof coverageBySkill> | null } {
-  const { db } = deps
-  if (q.sort !== 'coverage') return { total: overviewCount(db, q), rows: overviewRows(db, { ...q, sort: q.sort }), coverage: null }
-  const ids = overviewIds(db, q)
-  const coverage = coverageBySkill(allCoverage(db), minGroup(deps))
-  const value = (id: string) => figureFor(coverage.get(id), q.role)?.coverage ?? null
-  const sign = q.dir === 'desc' ? -1 : 1
-  const order = ids.map((id, i) => ({ id, i, v: value(id) }))
-  order.sort((a, b) => (a.v === null ? (b.v === null ? a.i - b.i : 1) : b.v === null ? -1 : sign * (a.v - b.v) || a.i - b.i))
-  const slice = order.slice(q.offset, q.offset + q.limit).map((o) => o.id)
-  return { total: ids.length, rows: overviewRowsByIds(db, slice, q), coverage }
 }
 
 /** The overview's data: one page of rows (or all matching rows for CSV, without trends). */
 export function buildOverview(deps: Deps, q: OverviewQuery & { page: number; pageSize: number }, all = false): OverviewData {
   const { db } = deps
-  const query = all ? { ...q, limit: CSV_MAX_ROWS, offset: 0 } : q
-  const { total, rows, coverage: known } = pageRows(deps, query)
-  const ids = rows.map((r) => r.id)
-  const trends = new Map<string, Map<string, number>>()
-  const monthSet = new Set<string>()
-  if (!all) {
-    for (const p of demandFor(db, ids, 'external')) {
-      if (!trends.has(p.concept_id)) trends.set(p.concept_id, new Map())
-      trends.get(p.concept_id)!.set(p.month, p.total > 0 ? p.n / p.total : 0)
-      monthSet.add(p.month)
-    }
-  }
-  const monthsSorted = [...monthSet].sort()
-  const coverage = known ?? coverageBySkill(coverageFor(db, ids), minGroup(deps))
-  const needRows = rows.map((r) => {
-    const t = trends.get(r.id)
-    return toNeed(r, t ? monthsSorted.map((m) => t.get(m) ?? null) : [], figureFor(coverage.get(r.id), q.role))
-  })
-  const counts = stateCounts(db)
+  const index = skillIndex(db, minGroup(deps))
+  const { role, team, type, state, search } = q
+  const selection = index.select({ role, team, type, state, search }, q.sort, q.dir, all ? 0 : q.offset, all ? CSV_MAX_ROWS : q.limit)
+  const total = selection.total
+  const rows: OverviewDbRow[] = overviewRowsByIds(db, selection.ids, q.role)
+  const trends = all ? new Map<string, (number | null)[]>() : index.trends(rows.map((r) => r.id))
+  const coverage = index.coverageFigures()
+  const needRows = rows.map((r) => toNeed(r, trends.get(r.id) ?? [], figureFor(coverage.get(r.id), q.role)))
+  const counts = index.stateCounts()
   const runs = latestRuns(db)
   const lastRun = runs.reduce<JobRun | null>((a, r) => (a === null || r.id > a.id ? r : a), null)
   const notes: string[] = []
@@ -140,7 +126,7 @@ export function buildOverview(deps: Deps, q: OverviewQuery & { page: number; pag
     pages: Math.max(1, Math.ceil(total / q.pageSize)),
     rows: needRows,
     stateCounts: counts,
-    choices: filterChoices(db),
+    choices: { ...roleAndTeamChoices(db), types: index.types(), states: index.states() },
     lastRun,
     latestRuns: runs,
     nextRuns: deps.nextRuns(),
@@ -291,7 +277,7 @@ export function mountOverview(app: Hono<Env>, deps: Deps): void {
     return c.json(buildOverview(deps, q))
   })
   app.get('/api/states', (c) => {
-    const counts = stateCounts(deps.db).map((s) => ({ state: s.state ?? 'not fitted', count: s.count }))
+    const counts = skillIndex(deps.db, minGroup(deps)).stateCounts().map((s) => ({ state: s.state ?? 'not fitted', count: s.count }))
     return wantsCsv(c) ? csv(c, 'skill-states', counts, ['state', 'count']) : c.json(counts)
   })
 }
