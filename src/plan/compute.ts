@@ -9,7 +9,8 @@ import type { Db } from '../db/connection.ts'
 import * as store from '../db/plan.ts'
 import { countCoOccurrence } from './adjacency.ts'
 import { flagCourse, type AdjacentRising, type CourseFlag, type CourseSkillInput } from './course-flags.ts'
-import { buildLabelIndex, mapTitle, resolveSkillRef } from './course-skills.ts'
+import { matcherFromDb } from '../taxonomy/store.ts'
+import { buildLabelIndex, mapTitle, resolveSkillRef, type LabelIndex } from './course-skills.ts'
 import { RISING_STATES, readSkillCurve, type SkillCurve } from './curve-model.ts'
 import { rankNeeds, scoreNeed, type NeedInput, type PullInput, type RankedNeed } from './needs.ts'
 import { buildPathways, findCandidates, type CandidateGroup, type Pathway } from './pathways.ts'
@@ -76,6 +77,26 @@ function pullInputs(db: Db, pullMonths: number): Map<string, PullInput> & { wind
     else p.earlierMentions += r.n
   }
   return out
+}
+
+/**
+ * Maps an untagged course's title to concepts: with the taxonomy's own matcher (its case and evidence
+ * rules, inflections) when the stored taxonomy builds one, else by whole-word label matching.
+ */
+function titleMapper(db: Db, index: LabelIndex): { method: string; map: (title: string) => { id: string; label: string }[] } {
+  try {
+    const matcher = matcherFromDb(db)
+    return {
+      method: 'the taxonomy matcher',
+      map: (title) =>
+        matcher
+          .map({ text: title })
+          .mentions.map((m) => ({ id: m.conceptId, label: m.spans[0]?.text ?? m.prefLabel }))
+          .sort((a, b) => (a.id < b.id ? -1 : a.id > b.id ? 1 : 0)),
+    }
+  } catch {
+    return { method: 'whole-word label matching (the taxonomy matcher could not be built)', map: (title) => mapTitle(index, title) }
+  }
 }
 
 /** Computes every planning output from the current tables. */
@@ -190,6 +211,7 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
 
   // courses
   const index = buildLabelIndex(labels.keys(), store.readLabels(db))
+  const titles = titleMapper(db, index)
   const courseSkillRows = store.readCourseSkills(db)
   const adjacent = new Map<string, AdjacentRising[]>(pathways.map((p) => [p.skillId, p.targets.map((t) => ({ id: t.id, label: t.label, score: t.score, support: t.support }))]))
   const courseFlags: CourseFlag[] = []
@@ -207,7 +229,7 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
         else if (!inputs.some((i) => i.id === hit.id)) inputs.push({ ref: t.skill_ref, id: hit.id, label: label(hit.id), inferred: false, curve: curves.get(hit.id) ?? null })
       }
     } else {
-      for (const m of mapTitle(index, course.title)) {
+      for (const m of titles.map(course.title)) {
         resolution.inferred.push({ ref: m.label, skillId: m.id })
         inputs.push({ ref: m.label, id: m.id, label: label(m.id), inferred: true, curve: curves.get(m.id) ?? null })
       }
@@ -287,7 +309,7 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
       reskilling: cfg.reskilling,
       adjacency: { ...cfg.adjacency, postings: co.documents },
       seed: cfg.seed,
-      courseSkillMapping: 'tags resolved by concept id or label; untagged courses mapped from their titles by whole-word label matching (inferred)',
+      courseSkillMapping: `tags resolved by concept id or label; untagged courses mapped from their titles (inferred) by ${titles.method}`,
     },
   }
 }

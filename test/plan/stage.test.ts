@@ -63,6 +63,8 @@ describe('plan stage on a small synthetic organisation', () => {
     expect(of('c-jquery')).toEqual([['HTML', 'html', 0], ['jquery', 'jquery', 0]])
     expect(of('c-unknown')).toEqual([['no-such-skill', null, 0]])
     expect(of('c-untagged')).toEqual([['jQuery', 'jquery', 1]])
+    const run = readPlanOutputs<{ assumptions: { courseSkillMapping: string } }>(db, 'plan-run')[0]!.payload
+    expect(run.assumptions.courseSkillMapping).toMatch(/by the taxonomy matcher$/)
     // a second run keeps exactly one inferred row
     runPlan(db, testConfig())
     expect(readCourseSkills(db).filter((r) => r.course_id === 'c-untagged')).toHaveLength(1)
