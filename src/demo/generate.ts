@@ -16,7 +16,7 @@ import { CHANNELS, generatePostings, type Channel } from './postings.ts'
 import { REQUEST_LAG_MONTHS, generateRequests } from './requests.ts'
 import { INVENTED_TERMS } from './skills.ts'
 import { generateAssessments, generatePeople } from './workforce.ts'
-import { FeedWriter, JsonlWriter, jobPostingObject, type FeedFile } from './writers.ts'
+import { FeedWriter, JsonlWriter, jobPostingJson, type FeedFile } from './writers.ts'
 
 /** Bumped whenever the generator's output for the same parameters changes. */
 export const DEMO_VERSION = 1
@@ -89,7 +89,7 @@ export function generateDemo(dataDir: string, params: DemoParams, log: (m: strin
       const feed = feeds.get(p.channel.id)
       if (feed) feed.add(p)
       // one aggregator exports plain-text descriptions with date-times, the other HTML with dates only
-      else jsonl.get(p.channel.id)!.write(jobPostingObject(p, { html: p.channel.id === 'commons', dateOnly: p.channel.id === 'commons' }))
+      else jsonl.get(p.channel.id)!.writeLine(jobPostingJson(p, { html: p.channel.id === 'commons', dateOnly: p.channel.id === 'commons' }))
     })
   } finally {
     for (const w of jsonl.values()) w.close()

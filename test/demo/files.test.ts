@@ -11,7 +11,10 @@ import Parser from 'rss-parser'
 import { afterAll, describe, expect, it } from 'vitest'
 import { parse } from 'csv-parse/sync'
 import { generateDemo } from '../../src/demo/generate.ts'
+import { demoMonths } from '../../src/demo/calendar.ts'
 import { ROLES } from '../../src/demo/org.ts'
+import { generatePostings } from '../../src/demo/postings.ts'
+import { jobPostingJson, jobPostingObject } from '../../src/demo/writers.ts'
 import { mountFeeds } from '../../src/server/feeds.ts'
 
 const dataDir = fs.mkdtempSync(path.join(os.tmpdir(), 'tides-demo-files-'))
@@ -68,6 +71,18 @@ describe('demo feed files', () => {
 })
 
 describe('demo JSON Lines and CSV files', () => {
+  it('builds the JSON text of a posting with the same content as its JobPosting object', () => {
+    let n = 0
+    generatePostings({ seed: 8, months: demoMonths('2025-06-15', 12), perMonth: 40 }, (p) => {
+      for (const opts of [{ html: true, dateOnly: true }, { html: false, dateOnly: false }]) {
+        expect(JSON.parse(jobPostingJson(p, opts))).toEqual(jobPostingObject(p, opts))
+        expect(jobPostingJson(p, opts)).toBe(JSON.stringify(jobPostingObject(p, opts)))
+      }
+      n++
+    })
+    expect(n).toBeGreaterThan(400)
+  })
+
   it('hold one JobPosting per line with the fields the postings input kind needs', () => {
     const ids = new Set<string>()
     let withSkills = 0
