@@ -9,7 +9,7 @@ import type { Config } from './config.ts'
 import type { Db } from './db/connection.ts'
 import { ripple, withPipelineLock } from './pipeline.ts'
 import { startSchedules, type Scheduler } from './schedule.ts'
-import { createApp, type AppOptions } from './server/app.ts'
+import { createApp, warmUp, type AppOptions } from './server/app.ts'
 
 export interface Running {
   url: string
@@ -64,6 +64,13 @@ export async function serve(db: Db, config: Config, opts: ServeOptions): Promise
   const address = server.address() as AddressInfo
   const url = `http://${host.includes(':') ? `[${host}]` : host}:${address.port}/`
   if (opts.schedules) scheduler = startSchedules(db, config, JOBS, opts.log)
+  setImmediate(() => {
+    try {
+      warmUp(db, config)
+    } catch (err) {
+      opts.log(`dashboard warm-up failed: ${err instanceof Error ? err.message : String(err)}`)
+    }
+  })
   let resolveClosed!: () => void
   const closed = new Promise<void>((r) => (resolveClosed = r))
   const close = async () => {

@@ -214,6 +214,11 @@ export function conceptById(db: Db, id: string): ConceptRow | undefined {
   return stmt(db, 'SELECT id, pref_label, type, origin FROM concepts WHERE id = ?').get(id) as ConceptRow | undefined
 }
 
+/** Concepts whose prefLabel is `label` (ignoring case). */
+export function conceptsByLabel(db: Db, label: string): ConceptRow[] {
+  return stmt(db, 'SELECT id, pref_label, type, origin FROM concepts WHERE pref_label = ? COLLATE NOCASE ORDER BY id LIMIT 2').all(label) as ConceptRow[]
+}
+
 export function conceptLabels(db: Db, id: string): { label: string; kind: string }[] {
   return stmt(db, "SELECT label, kind FROM labels WHERE concept_id = ? AND kind != 'pref' ORDER BY kind, label").all(id) as { label: string; kind: string }[]
 }
@@ -418,9 +423,19 @@ export function candidateCounts(db: Db): Record<string, number> {
   return Object.fromEntries(rows.map((r) => [r.status, r.n]))
 }
 
-/** Concepts for the "altLabel of" choice, by label. */
-export function conceptChoices(db: Db, limit = 5000): { id: string; label: string }[] {
-  return stmt(db, 'SELECT id, pref_label AS label FROM concepts ORDER BY pref_label COLLATE NOCASE LIMIT ?').all(limit) as { id: string; label: string }[]
+/**
+ * Concepts for the "altLabel of" choice: those whose id or prefLabel contains `text` (all when
+ * empty), prefix matches first, then by label.
+ */
+export function conceptChoices(db: Db, text = '', limit = 200): { id: string; label: string }[] {
+  const like = `%${text.replace(/[\\%_]/g, (m) => `\\${m}`)}%`
+  const prefix = `${text.replace(/[\\%_]/g, (m) => `\\${m}`)}%`
+  return stmt(
+    db,
+    `SELECT id, pref_label AS label FROM concepts
+     WHERE pref_label LIKE ? ESCAPE '\\' OR id LIKE ? ESCAPE '\\'
+     ORDER BY (pref_label LIKE ? ESCAPE '\\' OR id LIKE ? ESCAPE '\\') DESC, pref_label COLLATE NOCASE, id LIMIT ?`,
+  ).all(like, like, prefix, prefix, limit) as { id: string; label: string }[]
 }
 
 // ---------------------------------------------------------------- sources, runs and events

@@ -8,7 +8,7 @@ const JSON_ROUTES = [
   '/api/overview', '/api/states', '/api/skills/kubernetes', '/api/skills/kubernetes/series', '/api/skills/kubernetes/coverage',
   '/api/skills/kubernetes/adjacent', '/api/skills/kubernetes/courses', '/api/skills/kubernetes/postings', '/api/courses', '/api/reskilling',
   '/api/reskilling/chart', '/api/reskilling/pathways', '/api/reskilling/candidates', '/api/reskilling/forecast', '/api/taxonomy',
-  '/api/taxonomy/progress', '/api/sources', '/api/runs', '/api/events', '/healthz',
+  '/api/taxonomy/progress', '/api/concepts?q=kube', '/api/sources', '/api/runs', '/api/events', '/healthz',
 ]
 
 const CSV_ROUTES = [
@@ -123,6 +123,14 @@ describe('JSON and CSV API', () => {
     expect(forecast.slice(24).every((v) => v !== null)).toBe(true)
     for (let i = 24; i < 36; i++) expect(lo80[i]!).toBeLessThan(hi95[i]!)
     expect(d.words.join(' ')).toMatch(/grows by about \+35\.0% a year \(95% interval \+25\.0% to \+45\.0%\)/)
+  })
+
+  it('suggests skills for the altLabel field by id or label, prefix matches first, wildcards literal', async () => {
+    const get = async (qs: string) => (await (await t.app.request(`/api/concepts?${qs}`)).json()) as { id: string; label: string }[]
+    expect(await get('q=kube')).toEqual([{ id: 'kubernetes', label: 'Kubernetes' }])
+    expect((await get('q=man'))[0]!.id).toBe('stakeholder-management')
+    expect(await get('q=%25')).toEqual([])
+    expect((await get('limit=3')).length).toBe(3)
   })
 
   it('the overview CSV has every matching row, not one page', async () => {

@@ -212,6 +212,12 @@ describe('deciding on candidate terms', () => {
     expect(t.db.prepare("SELECT 1 AS x FROM labels WHERE concept_id = 'kubernetes' AND label = 'kube' AND kind = 'alt'").get()).toEqual({ x: 1 })
     expect((await postJson(t.app, '/api/taxonomy/decide', { term: 'synergy', action: 'dismiss' }, bearer())).status).toBe(200)
     expect(status(t, 'synergy')).toBe('dismissed')
+    // a prefLabel (any case) names the skill as well as its id
+    const other = makeApp()
+    expect((await postJson(other.app, '/api/taxonomy/decide', { term: 'kube', action: 'alt', concept: 'kubernetes ' }, bearer())).status).toBe(200)
+    const third = makeApp()
+    expect((await postJson(third.app, '/api/taxonomy/decide', { term: 'kube', action: 'alt', concept: 'KUBERNETES' }, bearer())).status).toBe(200)
+    expect(third.db.prepare("SELECT concept_id FROM labels WHERE label = 'kube'").get()).toEqual({ concept_id: 'kubernetes' })
     const counts = ((await (await t.app.request('/api/taxonomy')).json()) as { counts: Record<string, number> }).counts
     expect(counts).toEqual({ open: 1, accepted: 1, dismissed: 1 })
   })

@@ -9,9 +9,9 @@
 import type { Hono, MiddlewareHandler } from 'hono'
 import { html } from 'hono/html'
 import {
-  candidateByTerm, candidateCounts, candidates, conceptById, conceptChoices, consumerCursor, firstRunSince, latestEventOf, type CandidateRow,
+  candidateByTerm, candidateCounts, candidates, conceptById, conceptChoices, conceptsByLabel, consumerCursor, firstRunSince, latestEventOf, type CandidateRow,
 } from '../../db/dashboard.ts'
-import { csv, wantsCsv, withQuery, type Ctx, type Deps, type Env } from '../deps.ts'
+import { csv, intParam, wantsCsv, withQuery, type Ctx, type Deps, type Env } from '../deps.ts'
 import * as f from '../format.ts'
 import { csrfField, csvRows, dataTable, notice, page, type Column, type Html } from '../layout.ts'
 import { isRecord, parseJson } from '../payloads.ts'
@@ -133,7 +133,7 @@ function decideForms(c: Ctx, r: CandidateView): Html {
 <label for="t-${slug}">type</label> <select id="t-${slug}" name="type"><option>hard</option><option>soft</option></select>
 <button type="submit" data-action="new">Accept as new skill</button></form>
 <form method="post" action="/taxonomy/decide">${csrfField(session)}<input type="hidden" name="term" value="${r.term}"><input type="hidden" name="action" value="alt">
-<label for="c-${slug}">altLabel of</label> <input id="c-${slug}" name="concept" list="concept-ids" required placeholder="skill id">
+<label for="c-${slug}">altLabel of</label> <input id="c-${slug}" name="concept" list="concept-ids" required placeholder="skill id or label" autocomplete="off" data-suggest="/api/concepts">
 <button type="submit" data-action="alt">Add as altLabel</button></form>
 <form method="post" action="/taxonomy/decide">${csrfField(session)}<input type="hidden" name="term" value="${r.term}"><input type="hidden" name="action" value="dismiss">
 <button type="submit" data-action="dismiss">Dismiss</button></form></div>`
@@ -155,7 +155,7 @@ export function renderTaxonomy(c: Ctx, d: TaxonomyData, concepts: { id: string; 
 <nav class="tabs" aria-label="Candidate status">${tabs.map((t) => html`<a href="/taxonomy?status=${t}"${t === d.status ? html` aria-current="page"` : ''}>${t}</a> `)}</nav>
 <datalist id="concept-ids">${concepts.map((x) => html`<option value="${x.id}">${x.label}</option>`)}</datalist>
 ${dataTable({ id: 'candidates', caption: `Candidate terms (${d.status})`, columns, rows: d.candidates, csv: withQuery(c, { format: 'csv' }, '/api/taxonomy'), empty: 'No candidate terms with this status.' })}`
-  return page({ title: 'Term review', active: 'taxonomy', session: c.get('session'), path: c.req.path, body, scripts: ['progress.js', 'forms.js'], api: withQuery(c, {}, '/api/taxonomy') })
+  return page({ title: 'Term review', active: 'taxonomy', session: c.get('session'), path: c.req.path, body, scripts: ['progress.js', 'forms.js', 'concepts.js'], api: withQuery(c, {}, '/api/taxonomy') })
 }
 
 /** Carries out one decision through the taxonomy stage's functions. */
@@ -173,9 +173,15 @@ export function decide(deps: Deps, input: Record<string, unknown>, actor: string
     const label = typeof input['label'] === 'string' && input['label'].trim() ? input['label'].trim() : term
     a.acceptAsConcept(deps.db, term, { label, type, ...(typeof input['id'] === 'string' && input['id'] ? { id: input['id'] } : {}) }, actor)
   } else if (action === 'alt') {
-    const concept = typeof input['concept'] === 'string' ? input['concept'].trim() : ''
-    if (!concept) return { status: 400, message: 'concept: choose the skill this term is another name for' }
-    if (!conceptById(deps.db, concept)) return { status: 400, message: `concept: no skill with id "${concept}"` }
+    const given = typeof input['concept'] === 'string' ? input['concept'].trim() : ''
+    if (!given) return { status: 400, message: 'concept: choose the skill this term is another name for' }
+    // an id, or else a prefLabel that names exactly one skill
+    const byLabel = conceptById(deps.db, given) ? [] : conceptsByLabel(deps.db, given)
+    if (!conceptById(deps.db, given) && byLabel.length !== 1) {
+      return { status: 400, message: byLabel.length > 1 ? `concept: "${given}" names several skills; give the id` : `concept: no skill with id or label "${given}"` }
+    }
+    const concept = byLabel[0]?.id ?? given
+    input['concept'] = concept
     if (!a.acceptAsAltLabel) return { status: 501, message: 'accepting terms is not built in this version' }
     a.acceptAsAltLabel(deps.db, term, concept, actor)
   } else if (action === 'dismiss') {
@@ -203,6 +209,10 @@ export function mountTaxonomy(app: Hono<Env>, deps: Deps, guard: MiddlewareHandl
     return wantsCsv(c) ? csv(c, 'candidate-terms', csvRows(d.candidates, COLUMNS), COLUMNS.map((x) => x.key)) : c.json(d)
   })
   app.get('/api/taxonomy/progress', (c) => c.json(buildProgress(deps)))
+  app.get('/api/concepts', (c) => {
+    const rows = conceptChoices(deps.db, (c.req.query('q') ?? '').slice(0, 200), intParam(c.req.query('limit'), 50, 1, 500))
+    return wantsCsv(c) ? csv(c, 'skills', rows, ['id', 'label']) : c.json(rows)
+  })
   const handler = async (c: Ctx) => {
     const outcome = decide(deps, await readWrite(c), c.get('actor'))
     if (c.req.path.startsWith('/api/')) return c.json(outcome.status === 200 ? { ok: true, message: outcome.message } : { error: outcome.message }, outcome.status)
