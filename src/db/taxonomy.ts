@@ -8,6 +8,7 @@ import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
 import { getSetting, setSetting } from './connection.ts'
 import type { Concept, SkillType } from '../taxonomy/types.ts'
+import type { MentionRow } from '../taxonomy/rows.ts'
 
 const cache = new WeakMap<Db, Map<string, Statement>>()
 function stmt(db: Db, sql: string): Statement {
@@ -146,12 +147,7 @@ export function documentsAfter(db: Db, afterId: number, limit: number): Document
   return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents WHERE duplicate_of IS NULL AND id > ? ORDER BY id LIMIT ?').all(afterId, limit) as DocumentToMap[]
 }
 
-export interface MentionRow {
-  conceptId: string
-  count: number
-  firstOffset: number | null
-  via: 'text' | 'skills' | 'rollup'
-}
+export type { MentionRow } from '../taxonomy/rows.ts'
 
 /** Replaces a document's mentions and records the taxonomy version it was mapped with. */
 export function saveMapping(db: Db, documentId: number, version: number, rows: readonly MentionRow[]): void {

@@ -39,6 +39,9 @@ export interface ConceptMention {
   count: number
   /** offset of the first match in the text field, else in the skills field */
   firstOffset: number
+  /** `text` when matched in the text at least once, else `skills` (the schema.org field) */
+  via: 'text' | 'skills'
+  /** every match (empty when mapping with `spans: false`) */
   spans: MatchSpan[]
 }
 
@@ -66,6 +69,13 @@ export interface DocumentMapping {
   rollups: RollupMention[]
   /** candidate matches that a rule turned down (only with `explain`) */
   rejected?: RejectedMatch[]
+}
+
+export interface MapOptions {
+  /** also return what the rules turned down */
+  explain?: boolean
+  /** build the span objects (default true); presence, counts and first offsets come either way */
+  spans?: boolean
 }
 
 export interface MapInput {
@@ -115,6 +125,7 @@ export class Matcher {
   private readonly candLen = new Int32Array(MAX_CANDIDATES * 2)
   private readonly candLabel = new Int32Array(MAX_CANDIDATES * 2)
   private readonly candStem = new Uint8Array(MAX_CANDIDATES * 2)
+  private withSpans = true
 
   private constructor(taxonomy: Taxonomy, data: MatcherData) {
     this.taxonomy = taxonomy
@@ -137,23 +148,24 @@ export class Matcher {
   }
 
   /** Maps one document: its text and, when present, its schema.org `skills` value. */
-  map(input: MapInput, options: { explain?: boolean } = {}): DocumentMapping {
+  map(input: MapInput, options: MapOptions = {}): DocumentMapping {
     const agg = new Map<number, ConceptMention>()
     const rejected: RejectedMatch[] | undefined = options.explain ? [] : undefined
+    this.withSpans = options.spans !== false
     this.matchField({ text: input.text ?? '', field: 'text', listMode: false }, agg, rejected)
     if (input.skills !== undefined && input.skills !== null) {
       const { entries, codes } = skillEntries(input.skills)
       if (entries.length > 0) this.matchField({ text: entries.join('\n'), field: 'skills', listMode: true }, agg, rejected)
       for (const code of codes) {
         const ci = this.d.conceptIndex.get(code)
-        if (ci !== undefined && !agg.has(ci)) agg.set(ci, this.mention(ci, -1))
+        if (ci !== undefined && !agg.has(ci)) agg.set(ci, this.mention(ci, -1, 'skills'))
       }
     }
     return this.finish(agg, rejected)
   }
 
   /** Shorthand for `map({ text })`. */
-  mapText(text: string, options: { explain?: boolean } = {}): DocumentMapping {
+  mapText(text: string, options: MapOptions = {}): DocumentMapping {
     return this.map({ text }, options)
   }
 
@@ -264,18 +276,22 @@ export class Matcher {
       }
       let mention = agg.get(ci)
       if (!mention) {
-        mention = this.mention(ci, f.field === 'text' ? start : -1)
+        mention = this.mention(ci, start, f.field)
         agg.set(ci, mention)
       }
-      if (mention.firstOffset < 0) mention.firstOffset = start
       mention.count++
-      mention.spans.push({ start, end, text: norm.slice(start, end), label: d.labelDisplay[label]!, field: f.field, via: m.viaStem[i] ? 'stem' : 'exact' })
+      if (this.withSpans) mention.spans.push({ start, end, text: norm.slice(start, end), label: d.labelDisplay[label]!, field: f.field, via: m.viaStem[i] ? 'stem' : 'exact' })
     }
   }
 
-  private mention(ci: number, firstOffset: number): ConceptMention {
+  private mention(ci: number, firstOffset: number, via: 'text' | 'skills'): ConceptMention {
     const c = this.d.concepts[ci]!
-    return { conceptId: c.id, prefLabel: c.prefLabel, type: c.type, rollup: false, count: 0, firstOffset, spans: [] }
+    return { conceptId: c.id, prefLabel: c.prefLabel, type: c.type, rollup: false, count: 0, firstOffset, via, spans: [] }
+  }
+
+  /** Index of a concept in the taxonomy's concept list (for compact encodings), or -1. */
+  conceptIndexOf(id: string): number {
+    return this.d.conceptIndex.get(id) ?? -1
   }
 
   private finish(agg: Map<number, ConceptMention>, rejected: RejectedMatch[] | undefined): DocumentMapping {

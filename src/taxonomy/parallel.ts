@@ -7,7 +7,8 @@
 import os from 'node:os'
 import { Worker } from 'node:worker_threads'
 import { commonWordsFor } from './matcher-build.ts'
-import type { DocumentMapping, MapInput } from './matcher.ts'
+import type { MapInput } from './matcher.ts'
+import { decodeRows, type MentionRow } from './rows.ts'
 import type { Concept, Taxonomy } from './types.ts'
 
 export interface MapperSource {
@@ -25,7 +26,8 @@ export interface WorkerRequest {
 
 export interface WorkerResponse {
   id: number
-  results?: DocumentMapping[]
+  /** the batch's mention rows (see rows.ts encodeRows) */
+  rows?: Int32Array
   error?: string
 }
 
@@ -47,11 +49,13 @@ interface Slot {
 
 export class MapperPool {
   private readonly slots: Slot[] = []
-  private readonly waiting = new Map<number, { resolve: (r: DocumentMapping[]) => void; reject: (e: Error) => void; slot: Slot }>()
-  private readonly queue: { req: WorkerRequest; resolve: (r: DocumentMapping[]) => void; reject: (e: Error) => void }[] = []
+  private readonly waiting = new Map<number, { resolve: (r: MentionRow[][]) => void; reject: (e: Error) => void; slot: Slot }>()
+  private readonly queue: { req: WorkerRequest; resolve: (r: MentionRow[][]) => void; reject: (e: Error) => void }[] = []
+  private readonly conceptIds: string[]
   private nextId = 0
 
   private constructor(source: MapperSource, threads: number) {
+    this.conceptIds = source.concepts.map((c) => c.id)
     // The worker runs the TypeScript sources too. Hooks given by `--import` in a worker's execArgv
     // do not reach its entry module on Node 20, so a small bootstrap registers tsx in the worker
     // first and then imports the worker module.
@@ -80,7 +84,7 @@ export class MapperPool {
         this.waiting.delete(msg.id)
         w.slot.busy = false
         if (msg.error !== undefined) w.reject(new Error(`mapping worker: ${msg.error}`))
-        else w.resolve(msg.results ?? [])
+        else w.resolve(decodeRows(msg.rows ?? new Int32Array(1), this.conceptIds))
         this.pump()
       })
       worker.on('error', (err) => {
@@ -101,8 +105,8 @@ export class MapperPool {
     return this.slots.length
   }
 
-  /** Maps one batch on the next free worker. */
-  map(inputs: MapInput[]): Promise<DocumentMapping[]> {
+  /** Maps one batch on the next free worker; resolves to each document's mention rows. */
+  mapRows(inputs: MapInput[]): Promise<MentionRow[][]> {
     return new Promise((resolve, reject) => {
       this.queue.push({ req: { id: this.nextId++, inputs }, resolve, reject })
       this.pump()

@@ -18,13 +18,13 @@ import {
   taxonomyVersion,
   unmappedAfter,
   type DocumentToMap,
-  type MentionRow,
 } from '../db/taxonomy.ts'
 import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
 import type { Config } from '../config.ts'
 import { findCandidateTerms, type CandidateResult } from './candidates.ts'
-import type { DocumentMapping, MapInput, Matcher } from './matcher.ts'
+import type { MapInput, Matcher } from './matcher.ts'
+import { mentionRows, type MentionRow } from './rows.ts'
 import { defaultThreads, MapperPool, mapperSource } from './parallel.ts'
 import { ensureTaxonomy, matcherFromDb, storedTaxonomy } from './store.ts'
 
@@ -41,17 +41,6 @@ export function documentInput(d: Pick<DocumentToMap, 'title' | 'body' | 'skills_
     }
   }
   return { text: d.title ? `${d.title}\n${d.body}` : d.body, ...(skills !== undefined ? { skills } : {}) }
-}
-
-/** The mention rows of one document's mapping (presence per concept; rollups marked). */
-export function mentionRows(mapping: DocumentMapping): MentionRow[] {
-  const rows: MentionRow[] = mapping.mentions.map((m) => {
-    const inText = m.spans.some((s) => s.field === 'text')
-    const first = m.spans.find((s) => s.field === 'text')
-    return { conceptId: m.conceptId, count: m.count, firstOffset: first ? first.start : null, via: inText ? 'text' : 'skills' }
-  })
-  for (const r of mapping.rollups) rows.push({ conceptId: r.conceptId, count: r.via.length, firstOffset: null, via: 'rollup' })
-  return rows
 }
 
 export interface MapRunCounts {
@@ -84,13 +73,13 @@ export async function mapUnmapped(db: Db, config: Config, log: (m: string) => vo
     let after = 0
     // with workers, read ahead so that every worker has a batch while the main thread writes
     const ahead = pool ? pool.size : 1
-    const inflight: { docs: DocumentToMap[]; results: Promise<DocumentMapping[]> }[] = []
+    const inflight: { docs: DocumentToMap[]; results: Promise<MentionRow[][]> }[] = []
     const fetchNext = (): boolean => {
       const docs = unmappedAfter(db, after, BATCH)
       if (docs.length === 0) return false
       after = docs[docs.length - 1]!.id
       const inputs = docs.map(documentInput)
-      inflight.push({ docs, results: pool ? pool.map(inputs) : Promise.resolve(inputs.map((i) => matcher!.map(i))) })
+      inflight.push({ docs, results: pool ? pool.mapRows(inputs) : Promise.resolve(inputs.map((i) => mentionRows(matcher!.map(i, { spans: false })))) })
       return true
     }
     while (inflight.length < ahead && fetchNext());
@@ -100,7 +89,7 @@ export async function mapUnmapped(db: Db, config: Config, log: (m: string) => vo
       const last = counts.mapped + batch.docs.length >= total
       db.transaction(() => {
         batch.docs.forEach((d, i) => {
-          const rows = mentionRows(results[i]!)
+          const rows = results[i]!
           saveMapping(db, d.id, version, rows)
           for (const r of rows) {
             if (r.via === 'rollup') counts.rollups++
