@@ -8,7 +8,7 @@
 import fs from 'node:fs'
 import path from 'node:path'
 import { toCsv } from '../util/csv.ts'
-import { demoMonths } from './calendar.ts'
+import { demoMonths, parseAsOf } from './calendar.ts'
 import { generateCourses } from './courses.ts'
 import { ORGANISATION, ROLES } from './org.ts'
 import { PLANTED_SKILLS } from './planted.ts'
@@ -17,6 +17,11 @@ import { REQUEST_LAG_MONTHS, generateRequests } from './requests.ts'
 import { INVENTED_TERMS } from './skills.ts'
 import { generateAssessments, generatePeople } from './workforce.ts'
 import { FeedWriter, JsonlWriter, jobPostingJson, type FeedFile } from './writers.ts'
+
+/** Demo parameters that cannot be used, or demo files that did not import; the message says which. */
+export class DemoError extends Error {
+  override name = 'DemoError'
+}
 
 /** Bumped whenever the generator's output for the same parameters changes. */
 export const DEMO_VERSION = 1
@@ -61,13 +66,10 @@ const FEED_FILE = new RegExp(`^(${CHANNELS.map((c) => c.id).join('|')})(-archive
 
 /**
  * Generates all demo files under `dataDir`.
- * @throws Error for impossible parameters (non-positive counts, a bad as-of date)
+ * @throws DemoError for impossible parameters (non-positive counts, a bad as-of date)
  */
 export function generateDemo(dataDir: string, params: DemoParams, log: (m: string) => void = () => {}): DemoManifest {
-  for (const key of ['months', 'perMonth', 'people', 'feedPageSize'] as const) {
-    if (!Number.isInteger(params[key]) || params[key] < 1) throw new Error(`demo ${key} must be a positive whole number, got ${params[key]}`)
-  }
-  if (params.months < 12) throw new Error(`demo months must be at least 12 (fewer cannot show a trend), got ${params.months}`)
+  checkParams(params)
   const started = performance.now()
   const demoDir = path.join(dataDir, 'demo')
   const feedDir = path.join(dataDir, 'feeds')
@@ -153,6 +155,26 @@ export function generateDemo(dataDir: string, params: DemoParams, log: (m: strin
       `(${((performance.now() - started) / 1000).toFixed(1)} s)`,
   )
   return manifest
+}
+
+/**
+ * Checks demo parameters.
+ * @throws DemoError naming the first bad one
+ */
+export function checkParams(params: DemoParams): void {
+  if (!Number.isSafeInteger(params.seed) || params.seed < 0) throw new DemoError(`demo seed must be a whole number >= 0, got ${params.seed}`)
+  for (const key of ['months', 'perMonth', 'people', 'feedPageSize'] as const) {
+    if (!Number.isInteger(params[key]) || params[key] < 1) throw new DemoError(`demo ${key} must be a positive whole number, got ${params[key]}`)
+  }
+  if (params.months < 12) throw new DemoError(`demo months must be at least 12 (fewer cannot show a trend), got ${params.months}`)
+  if (params.months > 240) throw new DemoError(`demo months must be at most 240, got ${params.months}`)
+  if (params.perMonth > 100_000) throw new DemoError(`demo perMonth must be at most 100000, got ${params.perMonth}`)
+  if (params.people > 1_000_000) throw new DemoError(`demo people must be at most 1000000, got ${params.people}`)
+  try {
+    parseAsOf(params.asOf)
+  } catch (err) {
+    throw new DemoError((err as Error).message)
+  }
 }
 
 /** Reads the manifest of the demo files in `dataDir`, or null when there is none (or it is unreadable). */

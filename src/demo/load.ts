@@ -11,8 +11,10 @@ import type { Config, SourceConfig } from '../config.ts'
 import { getSetting, setSetting, type Db } from '../db/connection.ts'
 import { runPipeline } from '../pipeline.ts'
 import { formatProblem } from '../util/csv.ts'
-import { parseAsOf, todayUtc } from './calendar.ts'
-import { DEFAULT_PARAMS, DEMO_TABLES, generateDemo, manifestFilesExist, readManifest, type DemoManifest, type DemoParams } from './generate.ts'
+import { todayUtc } from './calendar.ts'
+import { DEFAULT_PARAMS, DEMO_TABLES, DemoError, checkParams, generateDemo, manifestFilesExist, readManifest, type DemoManifest, type DemoParams } from './generate.ts'
+
+export { DemoError } from './generate.ts'
 
 export interface DemoOptions {
   seed?: number
@@ -50,8 +52,7 @@ export function resolveParams(db: Db, opts: Pick<DemoOptions, 'seed' | 'months' 
     }
   }
   const asOf = opts.asOf ?? stored.asOf ?? todayUtc()
-  parseAsOf(asOf)
-  return {
+  const params: DemoParams = {
     seed: opts.seed ?? stored.seed ?? DEFAULT_PARAMS.seed,
     months: opts.months ?? stored.months ?? DEFAULT_PARAMS.months,
     perMonth: opts.perMonth ?? stored.perMonth ?? DEFAULT_PARAMS.perMonth,
@@ -59,6 +60,8 @@ export function resolveParams(db: Db, opts: Pick<DemoOptions, 'seed' | 'months' 
     people: opts.people ?? stored.people ?? DEFAULT_PARAMS.people,
     feedPageSize: stored.feedPageSize ?? DEFAULT_PARAMS.feedPageSize,
   }
+  checkParams(params)
+  return params
 }
 
 function sameParams(a: DemoParams, b: DemoParams): boolean {
@@ -105,12 +108,12 @@ export async function importDemoTables(db: Db, config: Config, manifest: DemoMan
   const counts: Record<string, number> = {}
   for (const kind of DEMO_TABLES) {
     const importer = IMPORTERS[kind]
-    if (!importer) throw new Error(`the ${kind} importer is not built; the demo cannot load its ${kind}`)
+    if (!importer) throw new DemoError(`the ${kind} importer is not built; the demo cannot load its ${kind}`)
     const file = path.join(config.dataDir, manifest.tables[kind])
     const result = await importer(db, config, file, { skipBad: false, log })
     if (result.refused) {
       const first = result.problems.slice(0, 5).map(formatProblem).join('; ')
-      throw new Error(`demo ${kind} did not import (${result.problems.length} problems): ${first}`)
+      throw new DemoError(`demo ${kind} did not import (${result.problems.length} problems): ${first}`)
     }
     counts[kind] = result.imported
   }
@@ -121,6 +124,7 @@ export async function importDemoTables(db: Db, config: Config, manifest: DemoMan
  * Builds the demo: generates its files (unless the same ones are already there), registers its
  * sources, imports its CSV kinds (unless already imported), records the seed, and when `run` is set
  * runs the whole pipeline.
+ * @throws DemoError for unusable parameters or demo files that did not import
  */
 export async function runDemo(db: Db, config: Config, opts: DemoOptions): Promise<void> {
   const log = opts.log

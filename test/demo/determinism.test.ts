@@ -11,8 +11,8 @@ import path from 'node:path'
 import { afterAll, describe, expect, it } from 'vitest'
 import { parseConfig } from '../../src/config.ts'
 import { contentHash, getSetting, openDb } from '../../src/db/connection.ts'
-import { DEMO_TABLES, generateDemo, type DemoManifest, type DemoParams } from '../../src/demo/generate.ts'
-import { importDemoTables, runDemo } from '../../src/demo/load.ts'
+import { DEMO_TABLES, DemoError, generateDemo, type DemoManifest, type DemoParams } from '../../src/demo/generate.ts'
+import { importDemoTables, resolveParams, runDemo } from '../../src/demo/load.ts'
 
 const PARAMS: DemoParams = { seed: 5, months: 36, perMonth: 60, asOf: '2025-06-15', people: 300, feedPageSize: 300 }
 const dirs: string[] = []
@@ -91,9 +91,30 @@ describe('demo determinism', () => {
   })
 
   it('refuses impossible parameters with a message naming them', () => {
+    expect(() => generateDemo(tmpDir(), { ...PARAMS, perMonth: 0 })).toThrow(DemoError)
     expect(() => generateDemo(tmpDir(), { ...PARAMS, perMonth: 0 })).toThrow(/perMonth must be a positive whole number/)
     expect(() => generateDemo(tmpDir(), { ...PARAMS, months: 6 })).toThrow(/months must be at least 12/)
     expect(() => generateDemo(tmpDir(), { ...PARAMS, asOf: '2025-02-30' })).toThrow(/not a calendar date/)
+    expect(() => generateDemo(tmpDir(), { ...PARAMS, asOf: 'June 2025' })).toThrow(/not YYYY-MM-DD/)
+    const db = openDb(':memory:')
+    expect(() => resolveParams(db, { months: 3 })).toThrow(/months must be at least 12/)
+    expect(resolveParams(db, { seed: 9, asOf: '2024-01-31' })).toMatchObject({ seed: 9, months: 36, perMonth: 2000, asOf: '2024-01-31', people: 3000 })
+    db.close()
+  })
+
+  it('stops with the file, line and column when a demo file does not import', async () => {
+    const dir = tmpDir()
+    const m = generateDemo(dir, PARAMS)
+    const file = path.join(dir, m.tables.responses)
+    fs.appendFileSync(file, 'fh-00001,python-01,2,2025-01-01T00:00:00Z\r\n')
+    const db = openDb(':memory:')
+    try {
+      const err = await importDemoTables(db, parseConfig({ dataDir: dir }), m, () => {}).catch((e: unknown) => e)
+      expect(err).toBeInstanceOf(DemoError)
+      expect(String((err as Error).message)).toMatch(/responses did not import .*responses\.csv:\d+: column response/)
+    } finally {
+      db.close()
+    }
   })
 })
 
