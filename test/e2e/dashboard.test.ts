@@ -14,7 +14,7 @@ import { parseConfig, type Config } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
 import { serve, type Running } from '../../src/serve.ts'
 import { buildFixture } from '../server/fixture.ts'
-import { TOKEN, fakeTaxonomyActions } from '../server/helpers.ts'
+import { TOKEN } from '../server/helpers.ts'
 import { XSS_PAYLOADS } from '../server/xss-payloads.ts'
 
 const CHROMIUM = '/usr/bin/chromium'
@@ -29,6 +29,7 @@ let context: BrowserContext
 let page: Page
 const problems: string[] = []
 const dialogs: string[] = []
+const serverLog: string[] = []
 
 async function shot(name: string): Promise<void> {
   await page.screenshot({ path: path.join(OUT, `${name}.png`), fullPage: true })
@@ -43,7 +44,7 @@ beforeAll(async () => {
   // the demo loader needs the map and fit stages to produce curves; until every stage is built the
   // test runs on the deterministic fixture, which goes through the real plan stage
   buildFixture(db, { config, hostilePostings: HOSTILE })
-  server = await serve(db, config, { schedules: false, signals: false, log: () => {}, app: { actions: fakeTaxonomyActions() } })
+  server = await serve(db, config, { schedules: false, signals: false, log: (m) => serverLog.push(m) })
   context = await chromium.launchPersistentContext(path.join(tmp, 'profile'), {
     executablePath: CHROMIUM,
     headless: true,
@@ -132,7 +133,7 @@ describe('dashboard in Chromium', () => {
     expect(dialogs).toEqual([])
   })
 
-  it('signs in and accepts a candidate term, then shows the ripple waiting', async () => {
+  it('signs in, accepts a candidate term, and follows the re-map it starts', async () => {
     await page.goto(`${server.url}login?next=/taxonomy`)
     await page.fill('#token', TOKEN)
     await Promise.all([page.waitForURL(/\/taxonomy$/), page.click('form.login button[type="submit"]')])
@@ -141,7 +142,11 @@ describe('dashboard in Chromium', () => {
     await Promise.all([page.waitForURL(/decided=1/), row.locator('button[data-action="new"]').click()])
     expect(await page.locator('.notice-ok').textContent()).toContain('Decision saved')
     expect(await page.locator('table#candidates tbody tr', { hasText: 'agent orchestration' }).count()).toBe(0)
-    expect(await page.locator('#progress li[data-step="re-map"]').textContent()).toMatch(/waiting|running|done/)
+    // the server runs the map stage after the change (the taxonomy.changed event); the page polls
+    // the progress JSON and shows the step done without a reload
+    const remap = page.locator('#progress li[data-step="re-map"] .step-status')
+    await expect.poll(() => remap.textContent(), { timeout: 60_000, interval: 500 }).toMatch(/done/)
+    expect(serverLog.some((m) => /after a dashboard change: map /.test(m))).toBe(true)
     const accepted = (await (await page.request.get(`${server.url}api/taxonomy?status=accepted`)).json()) as { candidates: { term: string }[] }
     expect(accepted.candidates.map((c) => c.term)).toEqual(['agent orchestration'])
     await shot('05-term-accepted')

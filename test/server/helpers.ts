@@ -26,7 +26,7 @@ export interface TestApp {
   afterWrites: number
 }
 
-/** Stand-ins that change candidate_terms and emit taxonomy.changed the way the taxonomy stage does. */
+/** Stand-ins that change candidate_terms and emit taxonomy.changed the way the taxonomy stage does (for tests of the wiring alone). */
 export function fakeTaxonomyActions(): Actions {
   const decide = (db: Db, term: string, status: string, decision: unknown) =>
     db.transaction(() => {
@@ -77,7 +77,7 @@ export function makeApp(opts: { token?: string | null; fixture?: FixtureOptions 
   const config = parseConfig({ ...(opts.config ?? {}), server })
   const db = opts.fixture === false ? openDb(':memory:') : fixtureDb(opts.fixture || {}, config)
   const t: TestApp = { db, config, app: undefined as never, afterWrites: 0 }
-  t.app = createApp(db, config, { actions: opts.actions ?? fakeTaxonomyActions(), afterWrite: () => t.afterWrites++, log: () => {} })
+  t.app = createApp(db, config, { actions: opts.actions ?? defaultActions(), afterWrite: () => t.afterWrites++, log: () => {} })
   return t
 }
 

@@ -228,6 +228,7 @@ describe('deciding on candidate terms', () => {
     [{ term: 'kube', action: 'alt' }, 400],
     [{ term: 'kube', action: 'alt', concept: 'no-such-skill' }, 400],
     [{ term: 'kube', action: 'new', type: 'medium' }, 400],
+    [{ term: 'kube', action: 'new', label: 'K8s' }, 400], // the taxonomy stage refuses a label another skill has
   ])('refuses %j with %i', async (body, code) => {
     const t = makeApp()
     expect((await postJson(t.app, '/api/taxonomy/decide', body, bearer())).status).toBe(code)

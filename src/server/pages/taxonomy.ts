@@ -52,12 +52,18 @@ export interface TaxonomyData {
 }
 
 /** Reads the trend as numbers, or as `[{month, df|count|n}]`. */
+/**
+ * Reads the trend as numbers, or as `[{month, df, docs}]` (the taxonomy stage's form: documents
+ * with the term of all documents that month, read as a share), or `[{month, share|count|n}]`.
+ */
 export function readTrend(json: string): (number | null)[] {
   const t = parseJson(json)
   if (!Array.isArray(t)) return []
   return t.map((x) => {
     if (typeof x === 'number' && Number.isFinite(x)) return x
-    if (isRecord(x)) for (const k of ['share', 'df', 'count', 'n', 'value']) if (typeof x[k] === 'number') return x[k] as number
+    if (!isRecord(x)) return null
+    if (typeof x['df'] === 'number' && typeof x['docs'] === 'number') return x['docs'] > 0 ? x['df'] / x['docs'] : null
+    for (const k of ['share', 'df', 'count', 'n', 'value']) if (typeof x[k] === 'number') return x[k] as number
     return null
   })
 }
@@ -69,7 +75,7 @@ export function readExamples(json: string): string[] {
   return e
     .map((x) => {
       if (typeof x === 'string') return x
-      if (isRecord(x)) return [x['title'], x['snippet'] ?? x['text'] ?? x['context']].filter((v) => typeof v === 'string').join(': ')
+      if (isRecord(x)) return [x['title'] ?? x['month'], x['snippet'] ?? x['text'] ?? x['context']].filter((v) => typeof v === 'string').join(': ')
       return ''
     })
     .filter(Boolean)
@@ -165,13 +171,23 @@ export function decide(deps: Deps, input: Record<string, unknown>, actor: string
   const cand = term ? candidateByTerm(deps.db, term) : undefined
   if (!cand) return { status: 404, message: `no candidate term "${term}"` }
   if (cand.status !== 'open') return { status: 409, message: `“${term}” was already ${cand.status}` }
+  try {
+    return carryOut(deps, term, action, input, actor)
+  } catch (err) {
+    if (err instanceof Error && err.name === 'DecisionError') return { status: 400, message: err.message }
+    throw err
+  }
+}
+
+function carryOut(deps: Deps, term: string, action: unknown, input: Record<string, unknown>, actor: string): WriteOutcome {
   const a = deps.actions
+  let outcome: unknown
   if (action === 'new') {
     const type = input['type'] === 'soft' ? 'soft' : input['type'] === 'hard' || input['type'] === undefined ? 'hard' : null
     if (!type) return { status: 400, message: 'type: hard or soft' }
     if (!a.acceptAsConcept) return { status: 501, message: 'accepting terms is not built in this version' }
     const label = typeof input['label'] === 'string' && input['label'].trim() ? input['label'].trim() : term
-    a.acceptAsConcept(deps.db, term, { label, type, ...(typeof input['id'] === 'string' && input['id'] ? { id: input['id'] } : {}) }, actor)
+    outcome = a.acceptAsConcept(deps.db, term, { label, type, ...(typeof input['id'] === 'string' && input['id'] ? { id: input['id'] } : {}) }, actor)
   } else if (action === 'alt') {
     const given = typeof input['concept'] === 'string' ? input['concept'].trim() : ''
     if (!given) return { status: 400, message: 'concept: choose the skill this term is another name for' }
@@ -183,16 +199,18 @@ export function decide(deps: Deps, input: Record<string, unknown>, actor: string
     const concept = byLabel[0]?.id ?? given
     input['concept'] = concept
     if (!a.acceptAsAltLabel) return { status: 501, message: 'accepting terms is not built in this version' }
-    a.acceptAsAltLabel(deps.db, term, concept, actor)
+    outcome = a.acceptAsAltLabel(deps.db, term, concept, actor)
   } else if (action === 'dismiss') {
     if (!a.dismissCandidate) return { status: 501, message: 'dismissing terms is not built in this version' }
-    a.dismissCandidate(deps.db, term, actor)
+    outcome = a.dismissCandidate(deps.db, term, actor)
   } else {
     return { status: 400, message: 'action: new, alt or dismiss' }
   }
   deps.afterWrite()
-  const verb = action === 'dismiss' ? 'dismissed' : action === 'alt' ? `added as altLabel of ${String(input['concept'])}` : 'accepted as a new skill'
-  return { status: 200, message: `“${term}” ${verb}; re-mapping follows` }
+  const affected = isRecord(outcome) && typeof outcome['affected'] === 'number' ? outcome['affected'] : null
+  if (action === 'dismiss') return { status: 200, message: `“${term}” dismissed; it will not be proposed again` }
+  const verb = action === 'alt' ? `added as altLabel of ${String(input['concept'])}` : 'accepted as a new skill'
+  return { status: 200, message: `“${term}” ${verb}; ${affected === null ? 'documents are' : `${affected} document${affected === 1 ? ' is' : 's are'}`} re-mapped next, then curves refitted` }
 }
 
 export function mountTaxonomy(app: Hono<Env>, deps: Deps, guard: MiddlewareHandler<Env>): void {
