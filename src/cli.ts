@@ -81,15 +81,21 @@ export const COMMANDS: Record<string, Command> = {
   },
   demo: {
     summary: 'generate the fictional demo scenario (Fernhollow Cooperative) and load it',
-    usage: 'tides demo [--seed N] [--months N] [--per-month N] [--no-run]',
-    options: { seed: { type: 'string' }, months: { type: 'string' }, 'per-month': { type: 'string' }, 'no-run': { type: 'boolean' } },
+    usage: 'tides demo [--seed N] [--months N] [--per-month N] [--as-of YYYY-MM-DD] [--no-run]',
+    options: { seed: { type: 'string' }, months: { type: 'string' }, 'per-month': { type: 'string' }, 'as-of': { type: 'string' }, 'no-run': { type: 'boolean' } },
     async run(ctx, values) {
-      const { runDemo } = await import('./demo/load.ts')
+      const { runDemo, DemoError } = await import('./demo/load.ts')
       const { db, config } = ctx.open()
       const seed = values['seed'] === undefined ? undefined : intArg('--seed', values['seed'])
       const months = values['months'] === undefined ? undefined : intArg('--months', values['months'])
       const perMonth = values['per-month'] === undefined ? undefined : intArg('--per-month', values['per-month'])
-      await runDemo(db, config, { seed, months, perMonth, run: !values['no-run'], log: (m) => ctx.io.err(m + '\n') })
+      const asOf = values['as-of'] as string | undefined
+      try {
+        await runDemo(db, config, { seed, months, perMonth, asOf, run: !values['no-run'], log: (m) => ctx.io.err(m + '\n') })
+      } catch (err) {
+        if (err instanceof DemoError) throw new CliError(err.message)
+        throw err
+      }
     },
   },
   import: {
