@@ -5,6 +5,9 @@
  * reposts on the same board, exact copies on another board, and copies with a small edit). Postings go
  * to a sink as they are made (the writers stream them to files); the return value is the ground truth
  * the tests and end-to-end checks compare the pipeline with.
+ *
+ * The last month ends at the as-of date but carries a whole month's volume, dated within its open days,
+ * so that the newest month of the live-looking dashboard is as informative as the others.
  */
 import type { DemoMonth } from './calendar.ts'
 import { HIRING_SEASON, randomMoment } from './calendar.ts'
