@@ -40,6 +40,8 @@ export interface MatcherData {
   labelConcept: Int32Array
   /** per label entry, bit k set when the label has a comma or list separator before token k */
   labelLists: Int32Array
+  /** letters and digits in each label entry (its size, for rules about short labels) */
+  labelLetters: Int32Array
   labelDisplay: string[]
   /** written token variants per label entry (labels differing only in case share an entry) */
   labelWritten: string[][][]
@@ -230,6 +232,7 @@ export function compileMatcher(taxonomy: Taxonomy, rules: RuleSet = emptyRules()
     stem: stemTrie.freeze(stemVocab.size),
     labelConcept: Int32Array.from(labelConcept),
     labelLists: Int32Array.from(labelLists),
+    labelLetters: Int32Array.from(labelWritten.map((v) => v[0]!.join('').replace(/[^\p{L}\p{N}]/gu, '').length)),
     labelDisplay,
     labelWritten,
     labelPolicy,

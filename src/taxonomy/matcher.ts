@@ -99,7 +99,7 @@ class MatchList {
   label: Int32Array = new Int32Array(64)
   from: Int32Array = new Int32Array(64)
   to: Int32Array = new Int32Array(64)
-  state: Uint8Array = new Uint8Array(64) // 0 confirmed, 1 pending, 2 rejected
+  state: Uint8Array = new Uint8Array(64) // 0 confirmed, 1 pending, 2 rejected, 3 pending on near evidence only (case differs), 4 rejected (case)
   viaStem: Uint8Array = new Uint8Array(64)
 
   push(label: number, from: number, to: number, state: number, viaStem: boolean): void {
@@ -271,7 +271,7 @@ export class Matcher {
       const end = buf.end[m.to[i]! - 1]!
       const ci = d.labelConcept[label]!
       if (m.state[i] !== 0) {
-        rejected?.push({ conceptId: d.concepts[ci]!.id, label: d.labelDisplay[label]!, start, end, text: norm.slice(start, end), field: f.field, reason: 'no evidence' })
+        rejected?.push({ conceptId: d.concepts[ci]!.id, label: d.labelDisplay[label]!, start, end, text: norm.slice(start, end), field: f.field, reason: m.state[i] === 4 ? 'case' : 'no evidence' })
         continue
       }
       let mention = agg.get(ci)
@@ -380,6 +380,7 @@ export class Matcher {
       }
       // longest first; exact before stem at equal length
       let chosen = -1
+      let caseFallback = false
       let firstReason: RejectedMatch['reason'] | undefined
       let firstLabel = -1
       let firstLen = 0
@@ -399,8 +400,21 @@ export class Matcher {
           chosen = best
           break
         }
+        // a label written in another case can still be the skill when a technical neighbour says so
+        // ("rust programming", "dax measures"); it then needs near evidence whatever its rule says.
+        // Not for labels of one or two letters ("it" is no "IT", "go" no "Go").
+        if (reason === 'case' && d.labelPolicy[candLabel[best]!]!.near && d.labelLetters[candLabel[best]!]! >= 3) {
+          chosen = best
+          caseFallback = true
+          break
+        }
         if (firstReason === undefined) { firstReason = reason; firstLabel = candLabel[best]!; firstLen = candLen[best]! }
-        candLen[best] = -1
+        // a veto on this span also rules out the same concept's inflected match of it
+        const vetoedConcept = d.labelConcept[candLabel[best]!]!
+        const vetoedLen = candLen[best]!
+        for (let c = 0; c < nc; c++) {
+          if (candLen[c] === vetoedLen && d.labelConcept[candLabel[c]!] === vetoedConcept) candLen[c] = -1
+        }
       }
       if (chosen < 0) {
         if (rejected && firstLabel >= 0) this.reject(rejected, f, i, i + firstLen, firstLabel, firstReason!)
@@ -412,6 +426,7 @@ export class Matcher {
       const p = d.labelPolicy[label]
       let state = 0
       if (p && !listMode && (p.when === 1 || (p.when === 2 && (flags[i]! & F_SENTENCE) !== 0))) state = 1
+      if (caseFallback) state = 3
       m.push(label, i, i + len, state, candStem[chosen] === 1)
       i += len
     }
@@ -485,7 +500,8 @@ export class Matcher {
     const buf = this.buf
     for (let pass = 0; pass < 2; pass++) {
       for (let a = 0; a < m.count; a++) {
-        if (m.state[a] !== 1) continue
+        if (m.state[a] !== 1 && m.state[a] !== 3) continue
+        const nearOnly = m.state[a] === 3
         const p = d.labelPolicy[m.label[a]!]!
         const from = m.from[a]!
         const to = m.to[a]!
@@ -503,7 +519,7 @@ export class Matcher {
             if (p.nearIds.has(buf.id[k]!)) ok = true
           }
         }
-        if (!ok && p.skills) {
+        if (!ok && p.skills && !nearOnly) {
           // a line or clause that is just this skill (a list item), or another hard skill in the same sentence
           if ((buf.flags[from]! & F_SENTENCE) !== 0 && (to >= buf.count || (buf.flags[to]! & F_SENTENCE) !== 0)) ok = true
           const ci = d.labelConcept[m.label[a]!]!
@@ -520,7 +536,10 @@ export class Matcher {
         if (ok) m.state[a] = 0
       }
     }
-    for (let a = 0; a < m.count; a++) if (m.state[a] === 1) m.state[a] = 2
+    for (let a = 0; a < m.count; a++) {
+      if (m.state[a] === 1) m.state[a] = 2
+      else if (m.state[a] === 3) m.state[a] = 4
+    }
   }
 }
 
