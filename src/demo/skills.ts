@@ -58,7 +58,7 @@ const PLANTED_EXTRA: Record<string, Extra> = {
   python: { phrases: ['Python', 'Python 3'], roles: ['swe', 'da', 'ds', 'cloud', 'sre', 'qa', 'sec'], internal: 1 },
   sql: { phrases: ['SQL', 'SQL queries'], roles: ['da', 'ds', 'ba', 'swe', 'fin', 'qa'], internal: 0.8 },
   java: { phrases: ['Java', 'Core Java', 'Java SE'], roles: ['swe', 'qa', 'lead'], internal: 0.6 },
-  linux: { phrases: ['Linux', 'Linux administration', 'Linux systems'], roles: ['cloud', 'sre', 'sec', 'swe'], internal: 0.6 },
+  linux: { phrases: ['Linux', 'Linux administration', 'Linux server administration'], roles: ['cloud', 'sre', 'sec', 'swe'], internal: 0.6 },
   go: { phrases: ['Go', 'Golang'], solo: 'Golang', roles: ['swe', 'cloud', 'sre'], internal: 0.6 },
   'microsoft-excel': { phrases: ['Excel', 'Microsoft Excel', 'advanced Excel', 'MS Excel'], solo: 'Microsoft Excel', roles: ['da', 'ba', 'fin', 'sales', 'hr', 'projm', 'pm', 'cs'], internal: 1 },
   communication: { phrases: ['communication skills', 'written and verbal communication', 'effective communication'], roles: 'all', internal: 0.5 },
