@@ -81,6 +81,9 @@
       if (anchor != null) { forecast[first - 1] = lo80[first - 1] = hi80[first - 1] = lo95[first - 1] = hi95[first - 1] = anchor }
     }
     var hasInternal = count(d.internal) > 0
+    var index = d.index || d.months.map(function () { return null })
+    // the index only adds information when it differs from the postings share (more than one source)
+    var indexDiffers = index.some(function (v, i) { return v != null && (d.external[i] == null || Math.abs(v - d.external[i]) > 1e-9 * Math.max(1, v)) })
     var dots = function (colour, filled) {
       return { show: true, size: 6, stroke: colour, fill: filled ? colour : '#fff', width: 1.5 }
     }
@@ -88,6 +91,7 @@
       {},
       { label: 'External share', stroke: COLOURS.external, paths: function () { return null }, points: dots(COLOURS.external, true), value: function (u, v) { return v == null ? '–' : (v * 100).toFixed(2) + '%' } },
       { label: 'Internal share', stroke: COLOURS.internal, scale: 'internal', show: hasInternal, paths: function () { return null }, points: dots(COLOURS.internal, false), value: function (u, v) { return v == null ? '–' : (v * 100).toFixed(2) + '%' } },
+      { label: 'Demand index', stroke: COLOURS.fitted, show: indexDiffers, paths: function () { return null }, points: { show: true, size: 4, stroke: COLOURS.fitted, fill: COLOURS.fitted }, value: function (u, v) { return v == null ? '–' : (v * 100).toFixed(2) + '%' } },
       { label: 'Fitted', stroke: COLOURS.fitted, width: 2, points: { show: false } },
       { label: 'Forecast', stroke: COLOURS.forecast, width: 2, dash: [8, 5], points: { show: false } },
       { label: '80% high', stroke: 'transparent', points: { show: false } },
@@ -101,8 +105,8 @@
       scales: { x: { time: true }, y: { range: function (u, min, max) { return [0, max > 0 ? max * 1.1 : 0.01] } }, internal: { range: function (u, min, max) { return [0, max > 0 ? max * 1.1 : 0.01] } } },
       series: series,
       bands: [
-        { series: [7, 8], fill: COLOURS.band95 },
-        { series: [5, 6], fill: COLOURS.band80 },
+        { series: [8, 9], fill: COLOURS.band95 },
+        { series: [6, 7], fill: COLOURS.band80 },
       ],
       axes: [
         {},
@@ -111,7 +115,7 @@
       ],
       plugins: [markPlugin(d.changeMonth ? monthTs(d.changeMonth) : null, 'change')],
     }
-    var plot = new uPlot(opts, [x, d.external, d.internal, d.fitted, forecast, hi80, lo80, hi95, lo95], el)
+    var plot = new uPlot(opts, [x, d.external, d.internal, index, d.fitted, forecast, hi80, lo80, hi95, lo95], el)
     el.dataset.drawn = String(count(d.external) + count(d.internal))
     resizeWith(el, plot)
   }

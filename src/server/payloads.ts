@@ -135,18 +135,22 @@ export interface CurveDetails {
   forecast: ForecastBand | null
   tests: TestResult[]
   model: string | null
+  /** the combined demand index (sources weighted, on the share scale) the curve is fitted to */
   combined: MonthSeries | null
+  /** why the curves stage chose the state, in its words */
+  stateReason: string | null
 }
 
 export function readCurveDetails(json: string | null | undefined): CurveDetails {
   const d = parseJson(json)
-  if (!isRecord(d)) return { fitted: null, forecast: null, tests: [], model: null, combined: null }
+  if (!isRecord(d)) return { fitted: null, forecast: null, tests: [], model: null, combined: null, stateReason: null }
   return {
     fitted: readMonthSeries(pick(d, 'fitted', 'fit', 'fittedCurve')),
     forecast: readForecast(pick(d, 'forecast', 'forecastBands')),
     tests: readTests(pick(d, 'tests', 'testResults')),
     model: typeof d['model'] === 'string' ? d['model'] : null,
     combined: readMonthSeries(pick(d, 'combined', 'index', 'series')),
+    stateReason: typeof d['stateReason'] === 'string' ? d['stateReason'] : null,
   }
 }
 

@@ -115,7 +115,15 @@ export function buildFixture(db: Db, opts: FixtureOptions = {}): { months: strin
         s.id, s.state, s.growth, s.growth - 0.1, s.growth + 0.1, halfLife, halfLife ? halfLife * 0.7 : null, halfLife ? halfLife * 1.5 : null,
         0.001, s.state === 'steady' ? 0.4 : 0.004, shares[shares.length - 1]!, forecast[11]!.mean, 'damped trend',
         s.id === 'cobol' ? months[10]! : null, s.state === 'emerging' ? months[6]! : null,
-        JSON.stringify({ model: 'log-linear', fitted: { months, values: fitted }, forecast, tests: [{ name: 'Mann-Kendall', statistic: 3.1, p: 0.002 }] }),
+        JSON.stringify({
+          model: 'log-linear',
+          fitted: { months, values: fitted },
+          // the combined index of postings and requests (as the curves stage stores it) differs a little from the postings share
+          combined: { months, values: shares.map((v) => v * 0.94) },
+          forecast,
+          tests: [{ name: 'Mann-Kendall', statistic: 3.1, p: 0.002, pAdjusted: 0.004, text: 'the combined index rises month over month more often than chance allows' }],
+          stateReason: `planted ${s.state} shape`,
+        }),
         now,
       )
     })

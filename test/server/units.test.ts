@@ -53,7 +53,7 @@ describe('payload readers', () => {
     expect(rows).toEqual(cols)
   })
   it('survive malformed JSON', () => {
-    expect(readCurveDetails('{not json')).toEqual({ fitted: null, forecast: null, tests: [], model: null, combined: null })
+    expect(readCurveDetails('{not json')).toEqual({ fitted: null, forecast: null, tests: [], model: null, combined: null, stateReason: null })
     expect(readCurveDetails('[1,2]').tests).toEqual([])
     expect(scoreParts('x')).toEqual({})
     expect(readTrend('{"a":1}')).toEqual([])

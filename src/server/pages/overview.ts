@@ -246,7 +246,7 @@ ${filters(data)}
 ${data.rows.length === 0
   ? html`<p class="empty">No skills match these filters.</p>`
   : html`<table id="needs" class="needs">
-<caption>Skills ranked by need (score = weighted parts); trend is the monthly share of postings</caption>
+<caption>Skills ranked by need (score = weighted parts)${data.query.role ? html`; ranks and scores within the role “${data.query.role}”` : ''}; trend is the monthly share of postings</caption>
 <thead>${header(c, data)}</thead>
 <tbody>${data.rows.map(
       (r) => html`<tr>

@@ -22,6 +22,8 @@ export interface SkillChart {
   months: string[]
   external: (number | null)[]
   internal: (number | null)[]
+  /** the combined demand index the curve is fitted to (null where not observed) */
+  index: (number | null)[]
   fitted: (number | null)[]
   forecast: (number | null)[]
   lo80: (number | null)[]
@@ -60,6 +62,8 @@ function buildChart(deps: Deps, id: string, details: ReturnType<typeof readCurve
   for (const p of points) (p.series === 'external' ? ext : int).set(p.month, { n: p.n, total: p.total })
   const fitted = new Map<string, number | null>()
   details.fitted?.months.forEach((m, i) => fitted.set(m, details.fitted!.values[i] ?? null))
+  const combined = new Map<string, number | null>()
+  details.combined?.months.forEach((m, i) => combined.set(m, details.combined!.values[i] ?? null))
   const fc = details.forecast
   const fcIndex = new Map<string, number>()
   fc?.months.forEach((m, i) => fcIndex.set(m, i))
@@ -76,6 +80,7 @@ function buildChart(deps: Deps, id: string, details: ReturnType<typeof readCurve
     months,
     external: months.map((m) => share(ext, m)),
     internal: months.map((m) => share(int, m)),
+    index: months.map((m) => combined.get(m) ?? null),
     fitted: months.map((m) => fitted.get(m) ?? null),
     forecast: months.map((m) => at(fc?.mean, m)),
     lo80: months.map((m) => at(fc?.lo80, m)),
@@ -118,7 +123,7 @@ export function buildSkill(deps: Deps, id: string): SkillData | null {
     broader: broaderOf(db, id),
     curve,
     need: need ? { rank: need.rank, score: need.score, parts: scoreParts(parseJson(need.payload_json)), notes: needNotes(parseJson(need.payload_json)) } : null,
-    words: curve ? describeCurve(curve, deps.config.curves.q) : [],
+    words: curve ? [...describeCurve(curve, deps.config.curves.q), ...(details.stateReason ? [`Why this state: ${details.stateReason}`] : [])] : [],
     tests: details.tests,
     chart: buildChart(deps, id, details, curveRow?.change_month ?? null),
     coverage: coverage.total ? [...coverage.byRole, coverage.total] : coverage.byRole,
@@ -150,6 +155,7 @@ const SERIES_COLUMNS: Column<{ month: string; i: number; c: SkillChart }>[] = [
   { key: 'externalTotal', label: 'Postings', numeric: true, value: (r) => r.c.externalTotal[r.i] },
   { key: 'internal', label: 'Internal share', numeric: true, value: (r) => r.c.internal[r.i], cell: (r) => f.share(r.c.internal[r.i]) },
   { key: 'internalTotal', label: 'Requests', numeric: true, value: (r) => r.c.internalTotal[r.i] },
+  { key: 'index', label: 'Demand index', numeric: true, value: (r) => r.c.index[r.i], cell: (r) => f.share(r.c.index[r.i]) },
   { key: 'fitted', label: 'Fitted', numeric: true, value: (r) => r.c.fitted[r.i], cell: (r) => f.share(r.c.fitted[r.i]) },
   { key: 'forecast', label: 'Forecast', numeric: true, value: (r) => r.c.forecast[r.i], cell: (r) => f.share(r.c.forecast[r.i]) },
   { key: 'lo80', label: '80% low', numeric: true, value: (r) => r.c.lo80[r.i], cell: (r) => f.share(r.c.lo80[r.i]) },
@@ -228,7 +234,7 @@ function chartSection(d: SkillData): Html {
   return html`<section aria-labelledby="chart-h"><h2 id="chart-h">Monthly share of demand</h2>
 <figure class="chart">
 <div id="demand-chart" class="chart-box" data-src="${base}/series" role="img" aria-label="Chart of ${d.label}: monthly share of postings and requests, fitted curve and forecast with 80% and 95% bands. The same numbers are in the table below."></div>
-<figcaption>Dots: share of external postings (filled) and internal requests (hollow) that mention the skill. Line: fitted curve. Dashed: forecast, shaded 80% (darker) and 95% (lighter) bands.${d.chart.changeMonth ? ` Vertical mark: change in ${f.month(d.chart.changeMonth)}.` : ''}</figcaption>
+<figcaption>Dots: share of external postings (filled, left axis) and of internal requests (hollow, right axis) that mention the skill; small dark dots: the demand index the curve is fitted to, when it differs from the postings share${d.curve?.model ? ` (${d.curve.model})` : ''}. Line: fitted curve. Dashed: forecast, shaded 80% (darker) and 95% (lighter) bands.${d.chart.changeMonth ? ` Vertical mark: change after ${f.month(d.chart.changeMonth)}.` : ''}</figcaption>
 </figure>
 <details><summary>The chart's numbers as a table</summary>
 ${dataTable({ id: 'series', caption: 'Monthly series', columns: t.columns, rows: t.rows, csv: `${base}/series?format=csv`, empty: 'No monthly demand recorded yet: run `tides run map`.' })}
@@ -249,7 +255,7 @@ ${figures(d)}
 ${chartSection(d)}
 <section aria-labelledby="words-h"><h2 id="words-h">What the tests say</h2>
 ${d.words.length ? html`<ul class="words">${d.words.map((w) => html`<li>${w}</li>`)}</ul>` : html`<p class="empty">No fit yet.</p>`}
-${d.tests.length ? html`<ul class="tests">${d.tests.map((t) => html`<li><strong>${t.name}</strong>: ${t.text ?? ''} ${t.statistic !== null ? `statistic ${f.num(t.statistic, 3)}, ` : ''}p ${f.pValue(t.p)}${t.pAdjusted !== null ? `, adjusted ${f.pValue(t.pAdjusted)}` : ''}</li>`)}</ul>` : ''}
+${d.tests.length ? html`<ul class="tests">${d.tests.map((t) => html`<li><strong>${t.name}</strong>: ${t.text ? `${t.text}; ` : ''}${t.statistic !== null ? `statistic ${f.num(t.statistic, 3)}, ` : ''}p ${f.pValue(t.p)}${t.pAdjusted !== null ? `, adjusted ${f.pValue(t.pAdjusted)}` : ''}</li>`)}</ul>` : ''}
 </section>
 <section aria-labelledby="cov-h"><h2 id="cov-h">Coverage by role</h2>
 ${table('coverage', 'Coverage by role (aggregate; small groups hidden)', 'No roles require this skill, or abilities are not estimated yet: run `tides run ability`.')}</section>
