@@ -20,8 +20,10 @@ const changeSchema = z
   .object({
     /** months on each side of a breakpoint, at least */
     minSegment: z.number().int().min(3).default(6),
-    /** level of the (search-corrected) test for a change in slope */
-    alpha: z.number().gt(0).lt(1).default(0.01),
+    /** level of the (search-corrected) test for a change in slope; Mann–Kendall must also confirm it */
+    alpha: z.number().gt(0).lt(1).default(0.05),
+    /** breakpoints are searched among the latest this-many months (recent changes are what matter now) */
+    windowMonths: z.number().int().min(6).default(24),
   })
   .strict()
 

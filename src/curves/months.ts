@@ -16,10 +16,18 @@ const MONTH_PATTERN = /^(\d{4})-(0[1-9]|1[0-2])$/
  * ```
  */
 export function monthIndex(month: string): number {
+  // a run parses the same few dozen month strings for every skill
+  const cached = indexCache.get(month)
+  if (cached !== undefined) return cached
   const match = MONTH_PATTERN.exec(month)
   if (!match) throw new RangeError(`month must be YYYY-MM, got "${month}"`)
-  return Number(match[1]) * 12 + Number(match[2]) - 1
+  const index = Number(match[1]) * 12 + Number(match[2]) - 1
+  if (indexCache.size > 10_000) indexCache.clear()
+  indexCache.set(month, index)
+  return index
 }
+
+const indexCache = new Map<string, number>()
 
 /**
  * 'YYYY-MM' string of a month index.

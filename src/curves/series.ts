@@ -36,6 +36,8 @@ export interface GridSource {
   mentions: number
   /** normalised weight in the combined index (0 when the source is not used) */
   weight: number
+  /** pooled share over the window, Σn / ΣN: the source's level, used to index it */
+  level: number
 }
 
 export interface SkillGrid {
@@ -45,8 +47,16 @@ export interface SkillGrid {
   firstMonth: number
   length: number
   sources: GridSource[]
-  /** combined demand index: weighted mean of the used sources' shares; NaN unless all used sources are observed */
+  /** combined demand index on the share scale (see buildGrid); NaN unless all used sources are observed */
   combined: Float64Array
+  /** S̄ = Σ w_s s̄_s, the index's level */
+  combinedLevel: number
+  /**
+   * information-weighted index on the same scale: S̄ Σ_s n_s(t) / Σ_s N_s(t) s̄_s, observed mentions
+   * over the mentions expected at each source's usual level; each source counts by its expected
+   * mentions, as in the regression. NaN only when no source has documents that month.
+   */
+  pooled: Float64Array
   /** mentions and documents summed over used sources (for bursts and emergence) */
   mentions: Float64Array
   documents: Float64Array
@@ -72,16 +82,20 @@ export interface GridOptions {
 /**
  * Put a skill's counts on a contiguous month grid and build the combined demand index.
  *
- * The combined index is the weighted mean of the sources' shares, I(t) = Σ w_s n_s/N_s / Σ w_s,
- * over the sources that take part (data in at least `minMonths` months; weights renormalised).
- * A month where a taking-part source has no documents is missing in the index; the regression still
- * uses every observed month of every source.
+ * The combined demand index is the weighted mean of the sources' indexed shares, rescaled to the
+ * share scale: I(t) = S̄ Σ_s w_s s_s(t)/s̄_s with s̄_s the source's pooled share over the window and
+ * S̄ = Σ_s w_s s̄_s. Indexing first makes the weights mean what they say (internal requests, whose
+ * shares are a fraction of the postings' shares, still carry their weight of the movement); with one
+ * source, I(t) is simply its share. Sources take part with data in at least `minMonths` months
+ * (weights renormalised). A month where a taking-part source has no documents is missing in the
+ * index; each source's regression still uses all of its observed months.
  *
  * @throws SeriesInputError for malformed months, repeated months, lengths that do not match, negative
  *   or fractional counts, or n > N
  * @example
  * ```ts
  * buildGrid({ id: 'sql', months: ['2024-01', '2024-02'], external: { n: [3, 4], N: [100, 100] } }, options).combined // => [0.03, 0.04]
+ * // with internal requests at a fifth of the level, weights 0.7/0.3 weigh their movements, not their levels
  * ```
  */
 export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillGrid {
@@ -134,7 +148,9 @@ export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillG
         mentionTotal += n[t]!
       } else share[t] = Number.NaN
     }
-    rawSources.push({ name, n, N, share, observedMonths, mentions: mentionTotal, weight: options.weights[name] })
+    let documentTotal = 0
+    for (let t = 0; t < length; t++) documentTotal += N[t]!
+    rawSources.push({ name, n, N, share, observedMonths, mentions: mentionTotal, weight: options.weights[name], level: documentTotal > 0 ? mentionTotal / documentTotal : 0 })
   }
   const dropped: SkillGrid['dropped'] = []
   const sources = rawSources.filter((source) => {
@@ -143,26 +159,58 @@ export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillG
       if (source.observedMonths > 0) dropped.push({ name: source.name, reason: `${source.observedMonths} observed months, fewer than ${options.minMonths}` })
       return false
     }
+    // a series of zeros has no level to index against (and no trend to weigh)
+    if (source.mentions === 0) {
+      dropped.push({ name: source.name, reason: 'no mentions in the window' })
+      return false
+    }
     return true
   })
   const weightSum = sources.reduce((sum, source) => sum + source.weight, 0)
   for (const source of sources) source.weight /= weightSum
+  const combinedLevel = sources.reduce((sum, source) => sum + source.weight * source.level, 0)
   const combined = new Float64Array(length)
+  const pooled = new Float64Array(length)
   const mentions = new Float64Array(length)
   const documents = new Float64Array(length)
   for (let t = 0; t < length; t++) {
     let value = sources.length ? 0 : Number.NaN
+    let expected = 0
     for (const source of sources) {
-      value += source.weight * source.share[t]!
+      value += (source.weight * source.share[t]! * combinedLevel) / source.level
       mentions[t]! += source.n[t]!
       documents[t]! += source.N[t]!
+      expected += source.N[t]! * source.level
     }
     combined[t] = value
+    pooled[t] = expected > 0 ? (combinedLevel * mentions[t]!) / expected : Number.NaN
   }
-  return { id: input.id, label: input.label ?? input.id, firstMonth: first, length, sources, combined, mentions, documents, dropped }
+  return { id: input.id, label: input.label ?? input.id, firstMonth: first, length, sources, combined, combinedLevel, pooled, mentions, documents, dropped }
 }
 
 /** 'YYYY-MM' of a grid position. */
 export function gridMonth(grid: SkillGrid, position: number): string {
   return monthLabel(grid.firstMonth + position)
+}
+
+const labelCache = new Map<string, readonly string[]>()
+
+/**
+ * The grid's month labels, shared between all skills with the same window (a run fits thousands of
+ * skills over the same months; one array serves them all). Do not modify the returned array.
+ *
+ * @example
+ * ```ts
+ * gridMonths(grid)[0] // => first month of the window, e.g. '2023-01'
+ * ```
+ */
+export function gridMonths(grid: SkillGrid): readonly string[] {
+  const key = `${grid.firstMonth}:${grid.length}`
+  let labels = labelCache.get(key)
+  if (!labels) {
+    if (labelCache.size > 64) labelCache.clear()
+    labels = Object.freeze(Array.from({ length: grid.length }, (_, t) => monthLabel(grid.firstMonth + t)))
+    labelCache.set(key, labels)
+  }
+  return labels
 }

@@ -180,7 +180,14 @@ export function fitDampedHolt(values: ArrayLike<number>, options: DampedHoltOpti
     const fraction = phiHigh > phiLow ? Math.min(0.99, Math.max(0.01, (startPhi - phiLow) / (phiHigh - phiLow))) : 0.5
     start.push(logit(fraction))
   }
-  const optimum = nelderMead((point) => sseAt(decode(point)).sse, start, {
+  // the optimiser's tolerance is absolute near zero, so compare SSEs relative to the series' own
+  // spread: shares of a few parts per thousand must be fitted as carefully as counts in thousands
+  let mean = 0
+  for (let t = 0; t < values.length; t++) if (!Number.isNaN(values[t]!)) mean += values[t]! / observed
+  let spread = 0
+  for (let t = 0; t < values.length; t++) if (!Number.isNaN(values[t]!)) spread += (values[t]! - mean) ** 2
+  const scale = spread > 0 ? spread : mean * mean > 0 ? mean * mean : 1
+  const optimum = nelderMead((point) => sseAt(decode(point)).sse / scale, start, {
     step: 1,
     // SSE to 1e-6 and parameters to about 0.0025 are plenty for forecasting; tighter settings cost
     // twice the evaluations for no visible change in the forecasts

@@ -37,7 +37,7 @@ const MAX_PRESENT_BEFORE = 0.2
  * emergenceIndex([0, 0, 0, 0, 0, 0, 0.004, 0.006, 0.009], [0, 0, 0, 0, 0, 0, 8, 12, 18]) // => 6
  * ```
  */
-export function emergenceIndex(shares: readonly number[], mentions: readonly number[], options: EmergenceOptions = {}): number | null {
+export function emergenceIndex(shares: ArrayLike<number>, mentions: ArrayLike<number>, options: EmergenceOptions = {}): number | null {
   const floor = options.floor ?? 0.002
   const sustain = options.sustain ?? 3
   const quiet = options.quiet ?? 6

@@ -45,8 +45,8 @@ export interface BatchedBurstResult {
  * ```
  */
 export function batchedBursts(
-  mentions: readonly number[],
-  totals: readonly number[],
+  mentions: ArrayLike<number>,
+  totals: ArrayLike<number>,
   options: BatchedBurstOptions = {},
 ): BatchedBurstResult {
   const s = options.s ?? 2

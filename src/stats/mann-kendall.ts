@@ -22,7 +22,7 @@ export interface MannKendallResult {
 }
 
 /** Σ t(t−1)(2t+5), Σ t(t−1)(t−2) and Σ t(t−1) over groups of tied values. */
-function tieSums(values: readonly number[]): [number, number, number] {
+function tieSums(values: ArrayLike<number>): [number, number, number] {
   const sorted = Float64Array.from(values).sort()
   let sumA = 0
   let sumB = 0
@@ -63,7 +63,7 @@ function tieSums(values: readonly number[]): [number, number, number] {
  * mannKendall([56, 53, 51, 55, 52, 60, 62, 59, 61, 63]).z // => 2.1466252583997982
  * ```
  */
-export function mannKendall(values: readonly number[], times?: readonly number[]): MannKendallResult {
+export function mannKendall(values: ArrayLike<number>, times?: ArrayLike<number>): MannKendallResult {
   const n = values.length
   if (times && times.length !== n) throw new RangeError(`mannKendall requires one time per value, got ${times.length} and ${n}`)
   for (let i = 0; i < n; i++) {

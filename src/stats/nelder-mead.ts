@@ -45,7 +45,7 @@ export function nelderMead(
   const pointTolerance = options.pointTolerance ?? 1e-6
   const maxEvaluations = options.maxEvaluations ?? 200 * dimension
   let evaluations = 0
-  const evaluate = (point: number[]): number => {
+  const evaluate = (point: readonly number[]): number => {
     evaluations++
     const value = objective(point)
     return Number.isNaN(value) ? Infinity : value
@@ -59,6 +59,23 @@ export function nelderMead(
   }
   const values = simplex.map(evaluate)
   const order = simplex.map((_, i) => i)
+  // scratch points reused every iteration (the objective is cheap; allocation would dominate)
+  const centroid = new Array<number>(dimension).fill(0)
+  let reflected = new Array<number>(dimension).fill(0)
+  let expanded = new Array<number>(dimension).fill(0)
+  let contracted = new Array<number>(dimension).fill(0)
+  const along = (target: number[], worst: number, factor: number): number[] => {
+    const vertex = simplex[worst]!
+    for (let j = 0; j < dimension; j++) target[j] = centroid[j]! + factor * (vertex[j]! - centroid[j]!)
+    return target
+  }
+  // the replaced vertex's array becomes the next scratch point
+  const replace = (worst: number, point: number[], value: number): number[] => {
+    const old = simplex[worst]!
+    simplex[worst] = point
+    values[worst] = value
+    return old
+  }
   let converged = false
   while (evaluations < maxEvaluations) {
     order.sort((a, b) => values[a]! - values[b]!)
@@ -74,44 +91,41 @@ export function nelderMead(
         break
       }
     }
-    const centroid = new Array<number>(dimension).fill(0)
-    for (const index of order.slice(0, dimension)) for (let j = 0; j < dimension; j++) centroid[j]! += simplex[index]![j]! / dimension
-    const along = (factor: number): number[] => centroid.map((c, j) => c + factor * (simplex[worst]![j]! - c))
-    const reflected = along(-1)
+    centroid.fill(0)
+    for (let r = 0; r < dimension; r++) {
+      const vertex = simplex[order[r]!]!
+      for (let j = 0; j < dimension; j++) centroid[j]! += vertex[j]! / dimension
+    }
+    along(reflected, worst, -1)
     const reflectedValue = evaluate(reflected)
     if (reflectedValue < values[best]!) {
-      const expanded = along(-2)
+      along(expanded, worst, -2)
       const expandedValue = evaluate(expanded)
-      if (expandedValue < reflectedValue) {
-        simplex[worst] = expanded
-        values[worst] = expandedValue
-      } else {
-        simplex[worst] = reflected
-        values[worst] = reflectedValue
-      }
+      if (expandedValue < reflectedValue) expanded = replace(worst, expanded, expandedValue)
+      else reflected = replace(worst, reflected, reflectedValue)
       continue
     }
     if (reflectedValue < values[secondWorst]!) {
-      simplex[worst] = reflected
-      values[worst] = reflectedValue
+      reflected = replace(worst, reflected, reflectedValue)
       continue
     }
     // contraction: outside if the reflection improved on the worst, inside otherwise
     const outside = reflectedValue < values[worst]!
-    const contracted = along(outside ? -0.5 : 0.5)
+    along(contracted, worst, outside ? -0.5 : 0.5)
     const contractedValue = evaluate(contracted)
     if (contractedValue < (outside ? reflectedValue : values[worst]!)) {
-      simplex[worst] = contracted
-      values[worst] = contractedValue
+      contracted = replace(worst, contracted, contractedValue)
       continue
     }
     // shrink towards the best vertex
-    for (const index of order.slice(1)) {
-      simplex[index] = simplex[index]!.map((value, j) => simplex[best]![j]! + 0.5 * (value - simplex[best]![j]!))
-      values[index] = evaluate(simplex[index]!)
+    const bestVertex = simplex[best]!
+    for (let r = 1; r <= dimension; r++) {
+      const vertex = simplex[order[r]!]!
+      for (let j = 0; j < dimension; j++) vertex[j] = bestVertex[j]! + 0.5 * (vertex[j]! - bestVertex[j]!)
+      values[order[r]!] = evaluate(vertex)
     }
   }
   let bestIndex = 0
   for (let i = 1; i <= dimension; i++) if (values[i]! < values[bestIndex]!) bestIndex = i
-  return { point: simplex[bestIndex]!, value: values[bestIndex]!, evaluations, converged }
+  return { point: simplex[bestIndex]!.slice(), value: values[bestIndex]!, evaluations, converged }
 }

@@ -79,17 +79,28 @@ function logFactorial(y: number): number {
   return Number.isInteger(y) && y < LOG_FACTORIAL_TABLE_SIZE ? logFactorialTable[y]! : logGamma(y + 1)
 }
 
-function devianceOf(counts: Float64Array, fitted: Float64Array, weights: Float64Array): number {
-  let deviance = 0
-  for (let i = 0; i < fitted.length; i++) {
+/**
+ * Σ w (y ln y − y), the part of the deviance that does not depend on the fit, so that each IRLS
+ * step needs no logarithm: D = 2 [Σ w (y ln y − y) − Σ w (y η − μ)] with η = ln μ.
+ */
+function devianceConstant(counts: Float64Array, weights: Float64Array): number {
+  let constant = 0
+  for (let i = 0; i < counts.length; i++) {
     const y = counts[i]!
-    const mu = fitted[i]!
+    if (y > 0) constant += weights[i]! * (y * Math.log(y) - y)
+  }
+  return constant
+}
+
+function devianceOf(counts: Float64Array, fitted: Float64Array, linearPredictor: Float64Array, weights: Float64Array, constant: number): number {
+  let fitPart = 0
+  for (let i = 0; i < fitted.length; i++) {
     const weight = weights[i]!
     if (weight === 0) continue
-    // y ln(y/μ) → 0 as y → 0, so zero counts need no logarithm
-    deviance += weight * ((y > 0 ? y * Math.log(y / mu) : 0) - (y - mu))
+    fitPart += weight * (counts[i]! * linearPredictor[i]! - fitted[i]!)
   }
-  return 2 * deviance
+  // rounding can leave a tiny negative value for a perfect fit
+  return Math.max(0, 2 * (constant - fitPart))
 }
 
 /**
@@ -146,6 +157,7 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
   const workingResponse = new Float64Array(rows)
   const rDiagonal = new Float64Array(cols)
   const candidate = new Float64Array(cols)
+  const previous = new Float64Array(cols)
 
   const setPredictor = (beta: ArrayLike<number>): void => {
     for (let i = 0; i < rows; i++) {
@@ -166,7 +178,8 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
       linearPredictor[i] = Math.log(fitted[i]!)
     }
   }
-  let deviance = devianceOf(counts, fitted, priorWeights)
+  const constant = devianceConstant(counts, priorWeights)
+  let deviance = devianceOf(counts, fitted, linearPredictor, priorWeights, constant)
   let converged = false
   let iterations = 0
   for (iterations = 1; iterations <= maxIterations; iterations++) {
@@ -180,11 +193,11 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
     qrDecomposeInPlace(workingDesign, rows, cols, rDiagonal)
     qrSolveInPlace(workingDesign, rows, cols, rDiagonal, workingResponse, candidate)
     const previousDeviance = deviance
-    const previous = Float64Array.from(coefficients)
+    previous.set(coefficients)
     let accepted = false
     for (let halving = 0; halving <= 20; halving++) {
       setPredictor(candidate)
-      deviance = devianceOf(counts, fitted, priorWeights)
+      deviance = devianceOf(counts, fitted, linearPredictor, priorWeights, constant)
       // the first iteration from the μ = y + 0.1 start has no coefficients to compare with
       if (Number.isFinite(deviance) && (iterations === 1 && !input.start ? true : deviance <= previousDeviance * (1 + 1e-10) + 1e-12)) {
         accepted = true
@@ -218,7 +231,7 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
     for (let j = 0; j < cols; j++) workingDesign[j * rows + i] = rootWeight * design[j * rows + i]!
     const y = counts[i]!
     pearsonChiSquare += (prior * (y - mu) * (y - mu)) / mu
-    if (prior > 0) logLikelihood += prior * ((y > 0 ? y * Math.log(mu) : 0) - mu - logFactorial(y))
+    if (prior > 0) logLikelihood += prior * (y * linearPredictor[i]! - mu - logFactorial(y))
   }
   qrDecomposeInPlace(workingDesign, rows, cols, rDiagonal)
   const unscaledCovariance = qrUnscaledCovariance({ rows, cols, packed: workingDesign, rDiagonal })
@@ -315,114 +328,4 @@ export function summarizeContrast(
 export function quasiAic(logLikelihood: number, parameterCount: number, dispersion: number): number {
   const cHat = Math.max(1, dispersion)
   return (-2 * logLikelihood) / cHat + 2 * (parameterCount + 1)
-}
-
-export interface PoissonRefitInput {
-  design: Float64Array
-  rows: number
-  cols: number
-  counts: ArrayLike<number>
-  offset: ArrayLike<number>
-  /** rows to use (1) or leave out (0); default all */
-  rowMask?: Uint8Array
-  /** columns to estimate (1); others are held at 0; default all */
-  columnMask?: Uint8Array
-  /** starting coefficients, typically the full-data fit */
-  start: ArrayLike<number>
-  /** Newton (IRLS) steps, default 3 */
-  steps?: number
-}
-
-/**
- * Fast warm-started refit of a Poisson log-linear model on a subset of rows (and columns), for
- * rolling-origin evaluation where the same model is refitted many times on slightly shorter data.
- * Takes a few Newton steps (Fisher scoring = Newton for the canonical log link) from `start`,
- * solving the small normal equations XᵀWX δ = Xᵀ(y − μ) by Cholesky, with step halving on the
- * deviance. Each step is O(n p²). Returns the coefficients; no standard errors. Use poissonGlm
- * (Householder QR) for any fit whose inference is reported.
- *
- * Reference: https://en.wikipedia.org/wiki/Generalized_linear_model#Fitting
- * @throws GlmFitError when the normal equations are singular on the chosen rows
- * @example
- * ```ts
- * poissonNewtonRefit({ design, rows, cols, counts, offset, rowMask, start: full.coefficients })
- * ```
- */
-export function poissonNewtonRefit(input: PoissonRefitInput): Float64Array {
-  const { design, rows, cols, counts, offset, rowMask, columnMask } = input
-  const steps = input.steps ?? 3
-  const active: number[] = []
-  for (let j = 0; j < cols; j++) if (!columnMask || columnMask[j]) active.push(j)
-  const p = active.length
-  const beta = new Float64Array(cols)
-  for (const j of active) beta[j] = input.start[j]!
-  const gradient = new Float64Array(p)
-  const hessian = new Float64Array(p * p)
-  const eta = new Float64Array(rows)
-  const objectiveAt = (coefficients: Float64Array): number => {
-    let objective = 0
-    for (let i = 0; i < rows; i++) {
-      if (rowMask && !rowMask[i]) continue
-      let value = offset[i]!
-      for (const j of active) value += design[j * rows + i]! * coefficients[j]!
-      eta[i] = value
-      objective += Math.exp(value) - counts[i]! * value
-    }
-    return objective
-  }
-  let objective = objectiveAt(beta)
-  const trial = new Float64Array(cols)
-  for (let step = 0; step < steps; step++) {
-    gradient.fill(0)
-    hessian.fill(0)
-    for (let i = 0; i < rows; i++) {
-      if (rowMask && !rowMask[i]) continue
-      const mu = Math.exp(eta[i]!)
-      const residual = counts[i]! - mu
-      for (let a = 0; a < p; a++) {
-        const xa = design[active[a]! * rows + i]!
-        if (xa === 0) continue
-        gradient[a]! += xa * residual
-        for (let b = 0; b <= a; b++) hessian[a * p + b]! += mu * xa * design[active[b]! * rows + i]!
-      }
-    }
-    // Cholesky in place (lower triangle)
-    for (let a = 0; a < p; a++) {
-      for (let b = 0; b <= a; b++) {
-        let sum = hessian[a * p + b]!
-        for (let k = 0; k < b; k++) sum -= hessian[a * p + k]! * hessian[b * p + k]!
-        if (a === b) {
-          if (!(sum > 0)) throw new GlmFitError('poissonNewtonRefit found singular normal equations on the chosen rows')
-          hessian[a * p + a] = Math.sqrt(sum)
-        } else hessian[a * p + b] = sum / hessian[b * p + b]!
-      }
-    }
-    const delta = Float64Array.from(gradient)
-    for (let a = 0; a < p; a++) {
-      for (let k = 0; k < a; k++) delta[a]! -= hessian[a * p + k]! * delta[k]!
-      delta[a]! /= hessian[a * p + a]!
-    }
-    for (let a = p - 1; a >= 0; a--) {
-      for (let k = a + 1; k < p; k++) delta[a]! -= hessian[k * p + a]! * delta[k]!
-      delta[a]! /= hessian[a * p + a]!
-    }
-    let factor = 1
-    let next = Infinity
-    for (let halving = 0; halving < 20; halving++) {
-      trial.set(beta)
-      for (let a = 0; a < p; a++) trial[active[a]!]! += factor * delta[a]!
-      next = objectiveAt(trial)
-      if (next <= objective + 1e-12 * Math.abs(objective)) break
-      factor *= 0.5
-    }
-    if (!(next <= objective + 1e-12 * Math.abs(objective))) {
-      objectiveAt(beta)
-      break
-    }
-    beta.set(trial)
-    const change = objective - next
-    objective = next
-    if (change < 1e-10 * (Math.abs(objective) + 1)) break
-  }
-  return beta
 }

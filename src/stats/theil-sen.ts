@@ -22,20 +22,77 @@ export interface TheilSenResult {
   upperRank: number
 }
 
-function median(sorted: Float64Array): number {
-  const middle = sorted.length >> 1
-  return sorted.length % 2 === 1 ? sorted[middle]! : 0.5 * (sorted[middle - 1]! + sorted[middle]!)
+/**
+ * k-th smallest value (0-based) of values[0..length), rearranging them in place (Hoare's quickselect
+ * with median-of-three pivots): O(n) on average, so three order statistics of the ~n²/2 pairwise
+ * slopes cost less than sorting them.
+ */
+function selectKth(values: Float64Array, length: number, k: number, from = 0, to = length - 1): number {
+  let left = from
+  let right = to
+  while (right > left) {
+    const middle = (left + right) >> 1
+    // median of three to the middle
+    if (values[middle]! < values[left]!) swap(values, middle, left)
+    if (values[right]! < values[left]!) swap(values, right, left)
+    if (values[right]! < values[middle]!) swap(values, right, middle)
+    const pivot = values[middle]!
+    let i = left
+    let j = right
+    while (i <= j) {
+      while (values[i]! < pivot) i++
+      while (values[j]! > pivot) j--
+      if (i <= j) {
+        swap(values, i, j)
+        i++
+        j--
+      }
+    }
+    if (k <= j) right = j
+    else if (k >= i) left = i
+    else return values[k]!
+  }
+  return values[k]!
 }
 
-/** Value at a fractional 1-based rank, by linear interpolation between neighbouring order statistics. */
-function atRank(sorted: Float64Array, rank: number): number {
+function swap(values: Float64Array, a: number, b: number): void {
+  const kept = values[a]!
+  values[a] = values[b]!
+  values[b] = kept
+}
+
+/** Smallest value of values[from..to]. */
+function minimumOf(values: Float64Array, from: number, to: number): number {
+  let smallest = values[from]!
+  for (let i = from + 1; i <= to; i++) if (values[i]! < smallest) smallest = values[i]!
+  return smallest
+}
+
+/**
+ * Value at a fractional 1-based rank of values[0..length), by linear interpolation between
+ * neighbouring order statistics; after selecting order statistic k, every value above index k is at
+ * least as large, so the next one is the minimum of that part.
+ */
+function atRank(values: Float64Array, length: number, rank: number, from: number, to: number): number {
   if (rank < 1) return -Infinity
-  if (rank > sorted.length) return Infinity
+  if (rank > length) return Infinity
   const below = Math.floor(rank)
   const fraction = rank - below
-  const low = sorted[below - 1]!
-  return fraction === 0 || below >= sorted.length ? low : low + fraction * (sorted[below]! - low)
+  const low = selectKth(values, length, below - 1, from, to)
+  return fraction === 0 || below >= length ? low : low + fraction * (minimumOf(values, below, to) - low)
 }
+
+function medianOf(values: Float64Array, length: number): number {
+  const middle = length >> 1
+  const upper = selectKth(values, length, middle)
+  if (length % 2 === 1) return upper
+  // everything below index `middle` is at most `upper`; the lower middle is their maximum
+  let lower = values[0]!
+  for (let i = 1; i < middle; i++) if (values[i]! > lower) lower = values[i]!
+  return 0.5 * (lower + upper)
+}
+
+let slopeScratch = new Float64Array(1024)
 
 /**
  * Theil–Sen slope estimate with the Gilbert (1987) confidence interval.
@@ -48,11 +105,12 @@ function atRank(sorted: Float64Array, rank: number): number {
  *
  * Reference: Gilbert (1987), Statistical Methods for Environmental Pollution Monitoring, §16.5
  * (https://www.osti.gov/biblio/7037501); https://en.wikipedia.org/wiki/Theil%E2%80%93Sen_estimator
- * Cost: O(n² log n) (all pairs, sorted).
+ * Cost: O(n²) (all pairs; order statistics by quickselect).
  *
  * @param x times
  * @param y values
- * @param options level of the interval (default 0.95)
+ * @param options level of the interval (default 0.95); the Mann–Kendall Var(S) of (x, y) when the
+ *   caller has it already
  * @throws RangeError with fewer than two distinct x values or mismatched lengths
  * @example
  * ```ts
@@ -60,12 +118,18 @@ function atRank(sorted: Float64Array, rank: number): number {
  * theilSen([1, 2, 3, 4, 10, 12, 18], [9, 15, 19, 20, 45, 55, 78]).slope // => 4
  * ```
  */
-export function theilSen(x: readonly number[], y: readonly number[], options: { level?: number } = {}): TheilSenResult {
+export function theilSen(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  options: { level?: number; mannKendallVariance?: number } = {},
+): TheilSenResult {
   const level = options.level ?? 0.95
   if (!(level > 0 && level < 1)) throw new RangeError(`theilSen requires a level in (0, 1), got ${level}`)
   const n = x.length
   if (y.length !== n) throw new RangeError(`theilSen requires equal lengths, got ${n} and ${y.length}`)
-  const slopes = new Float64Array((n * (n - 1)) / 2)
+  const pairs = (n * (n - 1)) / 2
+  if (slopeScratch.length < pairs) slopeScratch = new Float64Array(pairs)
+  const slopes = slopeScratch
   let count = 0
   for (let i = 0; i < n - 1; i++) {
     for (let j = i + 1; j < n; j++) {
@@ -74,18 +138,19 @@ export function theilSen(x: readonly number[], y: readonly number[], options: { 
     }
   }
   if (count === 0) throw new RangeError('theilSen requires at least two distinct x values')
-  const sorted = slopes.subarray(0, count).sort()
-  const slope = median(sorted)
-  const intercept = median(Float64Array.from(y).sort()) - slope * median(Float64Array.from(x).sort())
-  const variance = mannKendall(y, x).variance
+  const slope = medianOf(slopes, count)
+  const intercept = medianOf(Float64Array.from(y), n) - slope * medianOf(Float64Array.from(x), n)
+  const variance = options.mannKendallVariance ?? mannKendall(Array.from(y), Array.from(x)).variance
   const critical = normalQuantile(0.5 + level / 2) * Math.sqrt(variance)
   const lowerRank = (count - critical) / 2
   const upperRank = (count + critical) / 2 + 1
   return {
     slope,
     intercept,
-    lower: atRank(sorted, lowerRank),
-    upper: atRank(sorted, upperRank),
+    // the median selection left the slopes partitioned: the lower bound lies in the lower half and
+    // the upper bound in the upper half, so each search covers only its half
+    lower: atRank(slopes, count, lowerRank, 0, Math.min(count - 1, count >> 1)),
+    upper: atRank(slopes, count, upperRank, Math.max(0, (count >> 1) - 1), count - 1),
     level,
     pairCount: count,
     lowerRank,

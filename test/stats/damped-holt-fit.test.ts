@@ -90,3 +90,17 @@ describe('fitDampedHolt', () => {
     expect(() => fitDampedHolt([1, 2, 3, 4, 5, 6, 7, 8], { phiBounds: [0.9, 0.8] })).toThrow(/phi bounds/)
   })
 })
+
+describe('fitDampedHolt scale', () => {
+  it('fits a series of small shares exactly as the same series scaled up', () => {
+    const random = seededRandom(31)
+    const counts = Array.from({ length: 36 }, (_, t) => 60 * Math.exp(-0.02 * t) + 4 * random.normal())
+    const shares = counts.map((c) => c / 2000)
+    const big = fitDampedHolt(counts)
+    const small = fitDampedHolt(shares)
+    expect(small.alpha).toBeCloseTo(big.alpha, 6)
+    expect(small.beta).toBeCloseTo(big.beta, 6)
+    expect(small.phi).toBeCloseTo(big.phi, 6)
+    expect(small.run.level * 2000).toBeCloseTo(big.run.level, 6)
+  })
+})

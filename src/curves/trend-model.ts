@@ -1,0 +1,271 @@
+/**
+ * @module curves/trend-model
+ * The demand trend regression of one skill: a quasi-Poisson log-linear model of the monthly mention
+ * counts of every used source (external postings, internal requests) stacked together, with
+ * log(all documents) as offset, one intercept per source (their shares differ in level), one common
+ * time slope, optional month-of-year terms and an optional change in slope at a breakpoint τ:
+ *
+ *   log E[n_s(t)] = log N_s(t) + a_s + β (t − t̄) + γ (t − τ)₊ + Σ_k [c_k sin(2πk m/12) + d_k cos(2πk m/12)]
+ *
+ * exp(β) is the monthly factor of the skill's share of documents. The sources share the trend and
+ * each counts by its own information, so a thin internal series cannot drown a clear external
+ * signal; the configured weights shape the combined index (see series.ts), whose fitted value is
+ * S̄ Σ_s w_s ŝ_s(t)/s̄_s and therefore moves exactly with exp(β t). Months with N = 0 are left out
+ * (missing); zero counts stay in (no logarithm of n is taken).
+ */
+import { poissonGlm, summarizeContrast } from '../stats/poisson-glm.ts'
+import type { CoefficientSummary, PoissonGlmFit } from '../stats/poisson-glm.ts'
+import { monthOfYear } from './months.ts'
+import type { SkillGrid } from './series.ts'
+
+/** The observed (source, month) cells of a skill, stacked month by month. */
+export interface StackedObservations {
+  rows: number
+  sourceCount: number
+  /** index into grid.sources */
+  source: Int32Array
+  /** grid position (month), non-decreasing */
+  position: Float64Array
+  counts: Float64Array
+  /** log N */
+  logTotal: Float64Array
+  /** month of year 0..11 */
+  monthOfYear: Int32Array
+  /** mean position, the centre of the time column */
+  centre: number
+}
+
+export interface TrendSpec {
+  /** number of Fourier pairs for the month of year (0 = none) */
+  harmonics: number
+  /** grid position after which the slope changes, or null */
+  breakpoint: number | null
+}
+
+export interface TrendFit {
+  spec: TrendSpec
+  glm: PoissonGlmFit
+  /** column names, for the details */
+  columns: string[]
+  /** column of the time slope, of the hinge (t − τ)₊ (or −1) */
+  slopeColumn: number
+  hingeColumn: number
+  observations: StackedObservations
+}
+
+/**
+ * Stack a skill's observed cells, source by source within each month.
+ *
+ * @example
+ * ```ts
+ * stackObservations(grid).rows // => number of observed (source, month) cells
+ * ```
+ */
+export function stackObservations(grid: SkillGrid): StackedObservations {
+  const cells: [number, number][] = []
+  for (let t = 0; t < grid.length; t++) {
+    grid.sources.forEach((source, s) => {
+      if (source.N[t]! > 0) cells.push([s, t])
+    })
+  }
+  const rows = cells.length
+  const source = new Int32Array(rows)
+  const position = new Float64Array(rows)
+  const counts = new Float64Array(rows)
+  const logTotal = new Float64Array(rows)
+  const months = new Int32Array(rows)
+  let centre = 0
+  cells.forEach(([s, t], i) => {
+    const series = grid.sources[s]!
+    source[i] = s
+    position[i] = t
+    counts[i] = series.n[t]!
+    logTotal[i] = Math.log(series.N[t]!)
+    months[i] = monthOfYear(grid.firstMonth + t)
+    centre += t / rows
+  })
+  return { rows, sourceCount: grid.sources.length, source, position, counts, logTotal, monthOfYear: months, centre }
+}
+
+/**
+ * The observations from grid position `from` on (the months since a skill emerged), re-centred.
+ *
+ * @example
+ * ```ts
+ * observationsFrom(stackObservations(grid), 20).rows // => cells in months 20 and later
+ * ```
+ */
+export function observationsFrom(observations: StackedObservations, from: number): StackedObservations {
+  let first = 0
+  while (first < observations.rows && observations.position[first]! < from) first++
+  const position = observations.position.slice(first)
+  let centre = 0
+  for (let i = 0; i < position.length; i++) centre += position[i]! / position.length
+  return {
+    rows: observations.rows - first,
+    sourceCount: observations.sourceCount,
+    source: observations.source.slice(first),
+    position,
+    counts: observations.counts.slice(first),
+    logTotal: observations.logTotal.slice(first),
+    monthOfYear: observations.monthOfYear.slice(first),
+    centre,
+  }
+}
+
+/**
+ * The design row of one cell: source intercepts, centred month, hinge, harmonics.
+ *
+ * @example
+ * ```ts
+ * designRow({ harmonics: 0, breakpoint: 10 }, 2, 1, 12, 0, 6) // => [0, 1, 6, 2]
+ * ```
+ */
+export function designRow(spec: TrendSpec, sourceCount: number, sourceIndex: number, position: number, month: number, centre: number): number[] {
+  const row = new Array<number>(sourceCount).fill(0)
+  row[sourceIndex] = 1
+  row.push(position - centre)
+  if (spec.breakpoint !== null) row.push(Math.max(0, position - spec.breakpoint))
+  for (let k = 1; k <= spec.harmonics; k++) {
+    const angle = (2 * Math.PI * k * month) / 12
+    row.push(Math.sin(angle), Math.cos(angle))
+  }
+  return row
+}
+
+/** sin and cos of 2πk m/12 for k = 1..5 and m = 0..11, row k−1 (the design's month-of-year terms). */
+const HARMONIC_TABLE = Array.from({ length: 5 }, (_, k) =>
+  Array.from({ length: 12 }, (_, m) => [Math.sin((2 * Math.PI * (k + 1) * m) / 12), Math.cos((2 * Math.PI * (k + 1) * m) / 12)] as const),
+)
+
+/** Column-major design matrix and column names for a spec (the same values as designRow, row by row). */
+export function buildDesign(observations: StackedObservations, spec: TrendSpec): { design: Float64Array; cols: number; columns: string[] } {
+  const columns: string[] = []
+  for (let s = 0; s < observations.sourceCount; s++) columns.push(`intercept${s}`)
+  columns.push('month')
+  if (spec.breakpoint !== null) columns.push('monthAfterBreak')
+  for (let k = 1; k <= spec.harmonics; k++) columns.push(`sin${k}`, `cos${k}`)
+  const cols = columns.length
+  const rows = observations.rows
+  const design = new Float64Array(rows * cols)
+  const slope = observations.sourceCount
+  for (let i = 0; i < rows; i++) {
+    const position = observations.position[i]!
+    design[observations.source[i]! * rows + i] = 1
+    design[slope * rows + i] = position - observations.centre
+    let j = slope + 1
+    if (spec.breakpoint !== null) design[j++ * rows + i] = Math.max(0, position - spec.breakpoint)
+    const month = observations.monthOfYear[i]!
+    for (let k = 1; k <= spec.harmonics; k++) {
+      const [sin, cos] = k <= 5 ? HARMONIC_TABLE[k - 1]![month]! : [Math.sin((2 * Math.PI * k * month) / 12), Math.cos((2 * Math.PI * k * month) / 12)]
+      design[j++ * rows + i] = sin
+      design[j++ * rows + i] = cos
+    }
+  }
+  return { design, cols, columns }
+}
+
+/**
+ * Fit the trend regression for a spec by IRLS (Householder QR).
+ *
+ * @throws RankDeficientError when the spec cannot be estimated from these months (e.g. month-of-year
+ *   terms with too few distinct months)
+ * @example
+ * ```ts
+ * fitTrend(stackObservations(grid), { harmonics: 0, breakpoint: null }).glm.coefficients
+ * ```
+ */
+export function fitTrend(observations: StackedObservations, spec: TrendSpec, start?: ArrayLike<number>): TrendFit {
+  const { design, cols, columns } = buildDesign(observations, spec)
+  const glm = poissonGlm({ design, rows: observations.rows, cols, counts: observations.counts, offset: observations.logTotal, start })
+  const slopeColumn = observations.sourceCount
+  return { spec, glm, columns, slopeColumn, hingeColumn: spec.breakpoint !== null ? slopeColumn + 1 : -1, observations }
+}
+
+/**
+ * The current slope per month: after the breakpoint when there is one (β + γ), else β; quasi-Poisson
+ * Wald summary with a t reference on the residual degrees of freedom.
+ */
+export function currentSlope(fit: TrendFit, level: number): CoefficientSummary {
+  const contrast = new Array<number>(fit.columns.length).fill(0)
+  contrast[fit.slopeColumn] = 1
+  if (fit.hingeColumn >= 0) contrast[fit.hingeColumn] = 1
+  return summarizeContrast(fit.glm, contrast, { quasi: true, level })
+}
+
+/**
+ * Fitted combined index at every grid position (no variances): the curve drawn on the skill page.
+ *
+ * @example
+ * ```ts
+ * fittedIndex(fit, grid)[grid.length - 1] // => fitted index in the latest month
+ * ```
+ */
+export function fittedIndex(fit: TrendFit, grid: SkillGrid): Float64Array {
+  const values = new Float64Array(grid.length)
+  const cols = fit.columns.length
+  const beta = fit.glm.coefficients
+  for (let t = 0; t < grid.length; t++) {
+    const month = monthOfYear(grid.firstMonth + t)
+    // the common part (trend, hinge, season) is the same for every source
+    let common = beta[fit.slopeColumn]! * (t - fit.observations.centre)
+    if (fit.hingeColumn >= 0) common += beta[fit.hingeColumn]! * Math.max(0, t - fit.spec.breakpoint!)
+    for (let k = 1, j = fit.slopeColumn + (fit.hingeColumn >= 0 ? 2 : 1); k <= fit.spec.harmonics && j < cols; k++, j += 2) {
+      const angle = (2 * Math.PI * k * month) / 12
+      common += beta[j]! * Math.sin(angle) + beta[j + 1]! * Math.cos(angle)
+    }
+    let sum = 0
+    grid.sources.forEach((source, s) => {
+      sum += (source.weight * Math.exp(beta[s]! + common)) / source.level
+    })
+    values[t] = grid.combinedLevel * sum
+  }
+  return values
+}
+
+export interface CombinedValue {
+  /** fitted combined index on the share scale */
+  share: number
+  /** variance of its logarithm from the coefficients (delta method, quasi-Poisson scale) */
+  logVariance: number
+  /** each source's fitted share */
+  sourceShares: number[]
+}
+
+/**
+ * Fitted combined index at a grid position (past or future): I = S̄ Σ_s w_s ŝ_s/s̄_s with
+ * ŝ_s = exp(x_s'θ), and Var(log I) = φ gᵀ(XᵀWX)⁻¹g with g = Σ_s π_s x_s, π_s the sources' parts.
+ *
+ * @example
+ * ```ts
+ * combinedAt(fit, grid, grid.length + 11).share // => index 12 months after the last month
+ * ```
+ */
+export function combinedAt(fit: TrendFit, grid: SkillGrid, position: number): CombinedValue {
+  const cols = fit.columns.length
+  const month = monthOfYear(grid.firstMonth + position)
+  const gradient = new Array<number>(cols).fill(0)
+  const rows: number[][] = []
+  const terms: number[] = []
+  const sourceShares: number[] = []
+  grid.sources.forEach((source, s) => {
+    const row = designRow(fit.spec, fit.observations.sourceCount, s, position, month, fit.observations.centre)
+    let eta = 0
+    for (let j = 0; j < cols; j++) eta += row[j]! * fit.glm.coefficients[j]!
+    const share = Math.exp(eta)
+    sourceShares.push(share)
+    terms.push((source.weight * share) / source.level)
+    rows.push(row)
+  })
+  const sum = terms.reduce((a, b) => a + b, 0)
+  terms.forEach((term, s) => {
+    const part = term / sum
+    for (let j = 0; j < cols; j++) gradient[j]! += part * rows[s]![j]!
+  })
+  let variance = 0
+  for (let i = 0; i < cols; i++) {
+    for (let j = 0; j < cols; j++) variance += gradient[i]! * gradient[j]! * fit.glm.unscaledCovariance[i * cols + j]!
+  }
+  const dispersion = Number.isFinite(fit.glm.dispersion) ? fit.glm.dispersion : 1
+  return { share: grid.combinedLevel * sum, logVariance: Math.max(0, variance * dispersion), sourceShares }
+}
