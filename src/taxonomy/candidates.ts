@@ -6,13 +6,16 @@
  *
  * 1. Each document is tokenised as the matcher does; tokens covered by any taxonomy label are
  *    taken out, and phrases never cross a comma, a sentence or clause end.
- * 2. Phrases must look like noun phrases: no stop word or digit-only token at either end, the last
+ * 2. Phrases must look like noun phrases: no stop word or digit-only token at either end (inside
+ *    only "of", "and", "as"), the last
  *    token a noun by its most frequent tag in the English lexicon of natural's tagger (or unknown
  *    to it, as new tool names are), the first not mainly a verb, adverb, pronoun or function word.
  * 3. Per phrase, the documents containing it in the recent window (default the last 6 months) and
- *    before are compared by Dunning's log-likelihood ratio (G²); p-values are adjusted across all
+ *    in the months before it (default back to 24 months in all) are compared by Dunning's log-likelihood ratio (G²); p-values are adjusted across all
  *    phrases tested (Benjamini–Hochberg). A phrase needs `minRecentDocs` recent documents, a rate
  *    at least `minRatio` times the earlier one, and an adjusted p below `alpha`.
+ *    Of nested phrases, the longer is kept when its support is nearly the same, the shorter when
+ *    the longer is only one of its contexts ("exposure to X").
  * 4. A second pass collects the survivors' monthly document frequency and example snippets.
  */
 import { createRequire } from 'node:module'
@@ -40,6 +43,7 @@ export const CANDIDATE_STOPWORDS: ReadonlySet<string> = new Set([
   'training', 'course', 'request', 'requests', 'thanks', 'hello', 'hi', 'hands',
 ])
 
+const MIDDLE_WORDS = new Set(['of', 'and', 'as', '&'])
 const NOUN_TAGS = new Set(['NN', 'NNS', 'NNP', 'NNPS', 'VBG', 'CD', 'FW'])
 const BAD_START = new Set(['VB', 'VBD', 'VBZ', 'VBP', 'RB', 'RBR', 'RBS', 'PRP', 'PRP$', 'WP', 'WDT', 'WRB', 'MD', 'DT', 'IN', 'CC', 'TO', 'UH'])
 
@@ -54,6 +58,8 @@ export interface CandidateOptions {
   recentMonths?: number
   /** the latest month; default: the latest month among the documents */
   latestMonth?: string
+  /** months looked at in all, counted back from the latest (default 24; recent + earlier) */
+  windowMonths?: number
   /** documents with the phrase needed in the recent window (default 5) */
   minRecentDocs?: number
   /** recent rate over earlier rate needed (default 2; earlier rate smoothed by half a document) */
@@ -122,6 +128,8 @@ export function documentPhrases(matcher: Matcher, text: string): { text: string;
       if (len > 1 && (t.flags & (F_BREAK | F_LIST)) !== 0) break
       phrase = len === 1 ? t.folded : `${phrase} ${t.folded}`
       const first = tokens[i]!.folded
+      // a stop word may sit inside a phrase only as a connector ("infrastructure as code")
+      if (len === 3 && CANDIDATE_STOPWORDS.has(tokens[i + 1]!.folded) && !MIDDLE_WORDS.has(tokens[i + 1]!.folded)) break
       if (CANDIDATE_STOPWORDS.has(first) || CANDIDATE_STOPWORDS.has(t.folded)) continue
       if (!phrases.has(phrase)) phrases.set(phrase, tokens[i]!.start)
     }
@@ -162,6 +170,7 @@ export function findCandidateTerms(docs: () => Iterable<CandidateDoc>, matcher: 
   if (!latest) return { candidates: [], recentFrom: '', latestMonth: '', recentDocs: 0, earlierDocs: 0, tested: 0 }
   const recentFromIndex = monthIndex(latest) - recentMonths + 1
   const recentFrom = monthOf(recentFromIndex)
+  const windowFrom = monthOf(monthIndex(latest) - Math.max(options.windowMonths ?? 24, recentMonths + 1) + 1)
 
   // pass 1: document frequencies, recent and earlier
   const recentDf = new Map<string, number>()
@@ -169,7 +178,7 @@ export function findCandidateTerms(docs: () => Iterable<CandidateDoc>, matcher: 
   let recentDocs = 0
   let earlierDocs = 0
   for (const d of docs()) {
-    if (d.month > latest) continue
+    if (d.month > latest || d.month < windowFrom) continue
     const recent = d.month >= recentFrom
     if (recent) recentDocs++
     else earlierDocs++
@@ -201,17 +210,25 @@ export function findCandidateTerms(docs: () => Iterable<CandidateDoc>, matcher: 
   kept.sort((x, y) => y.g2 - x.g2 || y.term.split(' ').length - x.term.split(' ').length || x.term.localeCompare(y.term))
   const chosen: typeof kept = []
   for (const t of kept) {
-    const subsumed = chosen.some((c) => c.term !== t.term && ` ${c.term} `.includes(` ${t.term} `) && c.a >= 0.8 * t.a)
-    if (!subsumed) chosen.push(t)
+    // inside a longer kept phrase with nearly the same support: the longer one is the term
+    const inside = chosen.some((c) => c.term !== t.term && ` ${c.term} `.includes(` ${t.term} `) && c.a >= 0.8 * t.a)
+    // around a kept phrase with far less support: only one of its contexts ("exposure to X")
+    const around = chosen.some((c) => c.term !== t.term && ` ${t.term} `.includes(` ${c.term} `) && t.a < 0.5 * c.a)
+    if (!inside && !around) chosen.push(t)
     if (chosen.length >= maxTerms) break
   }
 
   // pass 2: monthly document frequency and examples for the chosen terms
   const chosenSet = new Map(chosen.map((c) => [c.term, { months: new Map<string, number>(), examples: [] as { month: string; snippet: string }[] }]))
   const docsPerMonth = new Map<string, number>()
+  // only documents that contain a chosen term's first word can contain the term: find them with
+  // one regular expression before tokenising
+  const firstWords = [...new Set(chosen.map((c) => c.term.split(' ')[0]!))].map((w) => w.replace(/[.*+?^${}()|[\]\\/]/g, '\\$&'))
+  const prefilter = firstWords.length ? new RegExp(firstWords.join('|'), 'i') : null
   for (const d of docs()) {
-    if (d.month > latest) continue
+    if (d.month > latest || d.month < windowFrom) continue
     docsPerMonth.set(d.month, (docsPerMonth.get(d.month) ?? 0) + 1)
+    if (!prefilter || !prefilter.test(d.text)) continue
     const { text, phrases } = documentPhrases(matcher, d.text)
     for (const [term, offset] of phrases) {
       const entry = chosenSet.get(term)

@@ -20,6 +20,8 @@ export const taxonomyConfigSchema = z
         enabled: z.boolean().default(true),
         /** months in the recent window compared with the months before */
         recentMonths: z.number().int().min(1).max(60).default(6),
+        /** months looked at in all (recent window and the earlier months it is compared with) */
+        windowMonths: z.number().int().min(2).max(240).default(24),
         /** documents in the recent window that must contain a phrase */
         minRecentDocs: z.number().int().min(1).default(5),
         /** recent rate over earlier rate needed */

@@ -212,7 +212,8 @@ export class Matcher {
 
   /**
    * Tokens of a text with a flag per token telling whether any label of the taxonomy covers it
-   * (whatever the rules decide), for candidate-term discovery. Token texts are folded.
+   * (whatever the rules decide), for candidate-term discovery. Token texts are lower-cased ('' for
+   * covered tokens).
    */
   labelCoverage(text: string): { text: string; tokens: { start: number; end: number; folded: string; flags: number; covered: boolean }[] } {
     const norm = NON_ASCII.test(text) ? text.normalize('NFKC') : text
@@ -253,7 +254,8 @@ export class Matcher {
     for (let i = 0; i < n; i++) {
       const start = buf.start[i]!
       const end = buf.end[i]!
-      tokens.push({ start, end, folded: foldString(norm.slice(start, end)), flags: buf.flags[i]!, covered: covered[i] === 1 })
+      // covered tokens never start a phrase: skip building their text
+      tokens.push({ start, end, folded: covered[i] === 1 ? '' : norm.slice(start, end).toLowerCase(), flags: buf.flags[i]!, covered: covered[i] === 1 })
     }
     return { text: norm, tokens }
   }

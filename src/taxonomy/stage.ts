@@ -116,7 +116,7 @@ export function refreshCandidates(db: Db, config: Config, matcher: Matcher = mat
       for (const d of iterateDocumentTexts(db)) yield { month: d.month, text: d.title ? `${d.title}\n${d.body}` : d.body }
     })(),
     matcher,
-    { recentMonths: c.recentMonths, minRecentDocs: c.minRecentDocs, minRatio: c.minRatio, alpha: c.alpha, maxTerms: c.maxTerms, exclude: dismissedTerms(db) },
+    { recentMonths: c.recentMonths, windowMonths: c.windowMonths, minRecentDocs: c.minRecentDocs, minRatio: c.minRatio, alpha: c.alpha, maxTerms: c.maxTerms, exclude: dismissedTerms(db) },
   )
   db.transaction(() =>
     replaceOpenCandidates(
