@@ -21,6 +21,8 @@ import { parse } from 'csv-parse/sync'
 const here = path.dirname(fileURLToPath(import.meta.url))
 export const WORK_DIR = path.join(here, '.work')
 export const SHIPPED_TAXONOMY = path.join(here, '..', 'taxonomy', 'skills.csv')
+/** part of every generated file name: bump it whenever the generator's output changes */
+export const CORPUS_VERSION = 2
 
 // ---------------------------------------------------------------------------------------------------
 // seeded random numbers
@@ -620,9 +622,9 @@ export function ensureCorpus(opts: { n: number; months: number; seed?: number; d
   const concepts = opts.concepts ?? 20_000
   const taxonomy = generateTaxonomy({ concepts, labels: opts.labels ?? 80_000, seed })
   const trends = plantedTrends(taxonomy, seed)
-  const taxonomyFile = path.join(dir, `taxonomy-${concepts}-s${seed}.csv`)
+  const taxonomyFile = path.join(dir, `taxonomy-${concepts}-s${seed}-v${CORPUS_VERSION}.csv`)
   if (!fs.existsSync(taxonomyFile)) writeTaxonomyCsv(taxonomyFile, taxonomy)
-  const postingsFile = path.join(dir, `postings-${opts.n}-m${opts.months}-s${seed}.jsonl`)
+  const postingsFile = path.join(dir, `postings-${opts.n}-m${opts.months}-s${seed}-v${CORPUS_VERSION}.jsonl`)
   const truthFile = postingsFile.replace(/\.jsonl$/, '.truth.json')
   if (fs.existsSync(postingsFile) && fs.existsSync(truthFile)) {
     return { taxonomyFile, postingsFile, truth: JSON.parse(fs.readFileSync(truthFile, 'utf8')) as CorpusTruth, taxonomy, trends }
