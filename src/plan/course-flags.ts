@@ -113,7 +113,7 @@ export function monthsToHalve(parts: readonly WeightedRate[], maxMonths: number)
 function halving(skills: readonly CourseSkillInput[], maxMonths: number): Halving {
   const withCurve = skills.filter((s) => s.curve && s.curve.evidenced)
   if (withCurve.length === 0) return { months: null, low: null, high: null }
-  const shares = withCurve.map((s) => Math.max(s.curve!.latestShare ?? 0, 0))
+  const shares = withCurve.map((s) => Math.max(s.curve!.baseShare ?? 0, 0))
   const sum = shares.reduce((a, b) => a + b, 0)
   // demand-weighted; if no skill has a share yet, each counts the same
   const weights = sum > 0 ? shares : shares.map(() => 1)

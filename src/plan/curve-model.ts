@@ -27,6 +27,11 @@ export interface SkillCurve {
   annualGrowth: number | null
   pAdjusted: number | null
   latestShare: number | null
+  /**
+   * the share the forecast starts from: the fitted share at the latest month when the curve records
+   * one (`details.fittedLatestShare`, on the forecast's own scale), else the latest share
+   */
+  baseShare: number | null
   forecastShare12: number | null
   halfLifeMonths: number | null
   halfLifeLow: number | null
@@ -118,6 +123,7 @@ export function readSkillCurve(row: CurveRecord): SkillCurve {
     annualGrowth: row.annual_growth,
     pAdjusted: row.p_adjusted,
     latestShare: row.latest_share,
+    baseShare: finite(details['fittedLatestShare']) && details['fittedLatestShare'] >= 0 ? details['fittedLatestShare'] : row.latest_share,
     forecastShare12: row.forecast_share12,
     halfLifeMonths: row.half_life_months,
     halfLifeLow: row.half_life_low,

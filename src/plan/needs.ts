@@ -5,8 +5,10 @@
  *
  *   score = w_momentum·momentum + w_gap·gap + w_exposure·exposure + w_pull·internalPull
  *
- * - **momentum** (−1..1): g = log2((F + f)/(L + f)) with L the latest demand share, F the forecast
- *   share in 12 months (both from the curves) and f the share floor (config `needs.shareFloor`), so a
+ * - **momentum** (−1..1): g = log2((F + f)/(L + f)) with F the forecast share in 12 months and L the
+ *   share the forecast starts from (the curve's fitted share at its latest month, on the forecast's
+ *   own scale; the raw latest share when no fitted value is recorded) and f the share floor
+ *   (config `needs.shareFloor`), so a
  *   skill starting from nothing stays finite. The ratio is squashed as g/(1 + |g|): a doubling scores
  *   0.5, a quadrupling 0.67, a halving −0.5, no change 0. When the curve's adjusted p-value is above
  *   `needs.alpha` (or unknown) it is multiplied by `needs.insignificantDiscount`.
@@ -90,11 +92,11 @@ function part(value: number | null, weight: number, inputs: ScorePart['inputs'])
 /** The momentum part from a curve (null without a usable curve). */
 export function momentumPart(curve: SkillCurve | null, cfg: NeedsSettings): ScorePart {
   const w = cfg.weights.momentum
-  if (!curve || !curve.evidenced || curve.latestShare === null || curve.forecastShare12 === null) {
+  if (!curve || !curve.evidenced || curve.baseShare === null || curve.forecastShare12 === null) {
     return part(null, w, { latestShare: curve?.latestShare ?? null, forecastShare12: curve?.forecastShare12 ?? null, state: curve?.state ?? null })
   }
   const f = cfg.needs.shareFloor
-  const latest = Math.max(curve.latestShare, 0)
+  const latest = Math.max(curve.baseShare, 0)
   const forecast = Math.max(curve.forecastShare12, 0)
   const growthLog2 = Math.log2((forecast + f) / (latest + f))
   const significant = curve.pAdjusted !== null && curve.pAdjusted <= cfg.needs.alpha
@@ -102,6 +104,7 @@ export function momentumPart(curve: SkillCurve | null, cfg: NeedsSettings): Scor
   return part(factor * squash(growthLog2), w, {
     state: curve.state,
     latestShare: curve.latestShare,
+    baseShare: curve.baseShare,
     forecastShare12: curve.forecastShare12,
     growthLog2,
     pAdjusted: curve.pAdjusted,

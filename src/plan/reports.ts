@@ -42,6 +42,7 @@ function needRow(n: RankedNeed): Record<string, unknown> {
     internalPull: round(n.parts.internalPull.value),
     state: n.parts.momentum.inputs['state'] ?? '',
     latestShare: round(n.parts.momentum.inputs['latestShare'] as number | null, 5),
+    baseShare: round((n.parts.momentum.inputs['baseShare'] as number | null | undefined) ?? null, 5),
     forecastShare12: round(n.parts.momentum.inputs['forecastShare12'] as number | null, 5),
     pAdjusted: round(n.parts.momentum.inputs['pAdjusted'] as number | null, 5),
     gapPeople: round(n.parts.gap.inputs['expectedGap'] as number | null, 2),
@@ -51,7 +52,7 @@ function needRow(n: RankedNeed): Record<string, unknown> {
   }
 }
 
-const NEED_COLUMNS = ['rank', 'id', 'label', 'evidence', 'score', 'momentum', 'gap', 'exposure', 'internalPull', 'state', 'latestShare', 'forecastShare12', 'pAdjusted', 'gapPeople', 'unknownPeople', 'exposedHeadcount', 'notes']
+const NEED_COLUMNS = ['rank', 'id', 'label', 'evidence', 'score', 'momentum', 'gap', 'exposure', 'internalPull', 'state', 'latestShare', 'baseShare', 'forecastShare12', 'pAdjusted', 'gapPeople', 'unknownPeople', 'exposedHeadcount', 'notes']
 
 function needJson(n: RankedNeed): Record<string, unknown> {
   return { rank: n.rank, id: n.id, label: n.label, score: n.score, evidenced: n.evidenced, parts: n.parts, notes: n.notes }

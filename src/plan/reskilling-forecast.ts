@@ -68,7 +68,7 @@ export interface ForecastSettings {
 
 /** The demand ratio D(t)/D(0) along one path, for t = 3, 6, ... months. */
 export function demandPath(curve: SkillCurve, months: readonly number[], z: number, shareFloor: number): number[] {
-  const base = Math.max(curve.latestShare ?? 0, shareFloor)
+  const base = Math.max(curve.baseShare ?? 0, shareFloor)
   const logBase = Math.log(base)
   const bands = curve.bands
   if (bands.length > 0) {

@@ -1,14 +1,14 @@
 import { describe, it, expect } from 'vitest'
 import fc from 'fast-check'
 import type { CoverageRecord } from '../../src/db/plan.ts'
-import type { SkillCurve } from '../../src/plan/curve-model.ts'
+import { readSkillCurve, type SkillCurve } from '../../src/plan/curve-model.ts'
 import { rankNeeds, scoreNeed, squash, type NeedInput, type NeedScore } from '../../src/plan/needs.ts'
 import { testConfig } from './fixtures.ts'
 
 const cfg = testConfig().plan
 
 function curve(over: Partial<SkillCurve> = {}): SkillCurve {
-  return {
+  const c: SkillCurve = {
     id: 's',
     state: 'rising',
     evidenced: true,
@@ -25,8 +25,10 @@ function curve(over: Partial<SkillCurve> = {}): SkillCurve {
     bands: [],
     bandLevel: 0.95,
     lastMonth: null,
+    baseShare: null,
     ...over,
   }
+  return { ...c, baseShare: over.baseShare ?? c.latestShare }
 }
 
 function cov(role: string, headcount: number, assessed: number, meeting: number): CoverageRecord {
@@ -78,6 +80,16 @@ describe('needs score parts', () => {
   it('a halving scores -0.5 momentum, steady 0', () => {
     expect(scoreNeed(input({ curve: curve({ latestShare: 0.039, forecastShare12: 0.019 }) }), cfg).parts.momentum.value).toBeCloseTo(-0.5, 12)
     expect(scoreNeed(input({ curve: curve({ latestShare: 0.1, forecastShare12: 0.1 }) }), cfg).parts.momentum.value).toBe(0)
+  })
+
+  it('momentum starts from the fitted latest share when the curve records one', () => {
+    // raw latest share 0.019 (postings only), fitted share on the forecast's scale 0.039, forecast 0.079:
+    // log2((0.079 + 0.001)/(0.039 + 0.001)) = 1 -> 0.5 (from the raw share it would be log2(4) -> 0.667)
+    const row = { concept_id: 's', state: 'rising', annual_growth: 1, growth_low: null, growth_high: null, half_life_months: null, half_life_low: null, half_life_high: null, p_value: 0.001, p_adjusted: 0.01, latest_share: 0.019, forecast_share12: 0.079, details_json: JSON.stringify({ fittedLatestShare: 0.039 }), fitted_at: '' }
+    const s = scoreNeed(input({ curve: readSkillCurve(row) }), cfg)
+    expect(s.parts.momentum.value).toBeCloseTo(0.5, 12)
+    expect(s.parts.momentum.inputs).toMatchObject({ latestShare: 0.019, baseShare: 0.039 })
+    expect(readSkillCurve({ ...row, details_json: '{}' }).baseShare).toBe(0.019)
   })
 
   it('weights come from config', () => {

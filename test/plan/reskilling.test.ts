@@ -74,7 +74,7 @@ describe('seeded random numbers', () => {
 })
 
 function curve(over: Partial<SkillCurve> = {}): SkillCurve {
-  return {
+  const c: SkillCurve = {
     id: 'ts',
     state: 'rising',
     evidenced: true,
@@ -91,8 +91,10 @@ function curve(over: Partial<SkillCurve> = {}): SkillCurve {
     bands: [],
     bandLevel: 0.95,
     lastMonth: null,
+    baseShare: null,
     ...over,
   }
+  return { ...c, baseShare: over.baseShare ?? c.latestShare }
 }
 
 describe('demand paths', () => {

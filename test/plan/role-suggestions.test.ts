@@ -54,7 +54,7 @@ describe('role matching', () => {
 })
 
 function rising(id: string): SkillCurve {
-  return { id, state: 'rising', evidenced: true, annualGrowth: 0.3, pAdjusted: 0.01, latestShare: 0.05, forecastShare12: 0.065, halfLifeMonths: null, halfLifeLow: null, halfLifeHigh: null, rate: Math.log(1.3) / 12, rateLow: null, rateHigh: null, bands: [], bandLevel: 0.95, lastMonth: null }
+  return { id, state: 'rising', evidenced: true, annualGrowth: 0.3, pAdjusted: 0.01, latestShare: 0.05, baseShare: 0.05, forecastShare12: 0.065, halfLifeMonths: null, halfLifeLow: null, halfLifeHigh: null, rate: Math.log(1.3) / 12, rateLow: null, rateHigh: null, bands: [], bandLevel: 0.95, lastMonth: null }
 }
 
 describe('suggested requirements', () => {
