@@ -20,7 +20,7 @@ interface Asset {
 
 export const DASHBOARD_DIR = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../dashboard')
 
-const TYPES: Record<string, string> = { '.css': 'text/css; charset=utf-8', '.js': 'text/javascript; charset=utf-8' }
+const TYPES: Record<string, string> = { '.css': 'text/css; charset=utf-8', '.js': 'text/javascript; charset=utf-8', '.svg': 'image/svg+xml' }
 
 function load(file: string): Asset {
   const body = fs.readFileSync(file)
@@ -38,7 +38,7 @@ export function vendorFiles(): Record<string, string> {
 export function loadAssets(dir = DASHBOARD_DIR): Map<string, Asset> {
   const assets = new Map<string, Asset>()
   for (const name of fs.readdirSync(dir)) {
-    if (/^[\w.-]+\.(css|js)$/.test(name)) assets.set(name, load(path.join(dir, name)))
+    if (/^[\w.-]+\.(css|js|svg)$/.test(name)) assets.set(name, load(path.join(dir, name)))
   }
   for (const [name, file] of Object.entries(vendorFiles())) assets.set(`vendor/${name}`, load(file))
   return assets

@@ -40,6 +40,7 @@ export function page(o: PageOptions): Html {
 <meta charset="utf-8">
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>${o.title} · skill-tides</title>
+<link rel="icon" href="/assets/icon.svg" type="image/svg+xml">
 ${o.charts ? html`<link rel="stylesheet" href="/assets/vendor/uPlot.min.css">` : ''}
 <link rel="stylesheet" href="/assets/style.css">
 ${o.charts ? html`<script src="/assets/vendor/uPlot.iife.min.js" defer></script>` : ''}

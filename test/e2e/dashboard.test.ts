@@ -56,6 +56,9 @@ beforeAll(async () => {
   page.on('console', (m) => {
     if (m.type() === 'error' || m.type() === 'warning') problems.push(`${m.type()}: ${m.text()}`)
   })
+  page.on('response', (r) => {
+    if (r.status() >= 400) problems.push(`HTTP ${r.status()} for ${r.url()}`)
+  })
   page.on('pageerror', (e) => problems.push(`pageerror: ${e.message}`))
   page.on('dialog', (d) => {
     dialogs.push(d.message())
