@@ -277,6 +277,11 @@ export function analyseSkill(input: SkillSeriesInput, config: CurvesConfig, last
   const trend = regimeTrend ?? linear
   const changeAccepted = regimeKind === 'change'
   const slope = currentSlope(trend, config.level)
+  // The months after a change were chosen by looking at the data, so the slope's own p-value is too
+  // small. A skill flagged through a change must show both the change (search-corrected) and the
+  // new slope: the larger of the two p-values is a valid test of "changed and now moving"
+  // (intersection–union test), and that is the p-value the cross-skill adjustment sees.
+  if (changeAccepted) slope.pValue = Math.max(slope.pValue, change!.pValue)
   const rates = rateSummary(slope.estimate, slope.lower, slope.upper, 12)
   const mk = regimeKind === 'window' ? fullMannKendall : regimeMannKendall
 

@@ -177,7 +177,8 @@ export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillG
     let value = sources.length ? 0 : Number.NaN
     let expected = 0
     for (const source of sources) {
-      value += (source.weight * source.share[t]! * combinedLevel) / source.level
+      // S̄/s̄ first: with one source it is exactly 1 and the index is exactly the share
+      value += source.weight * source.share[t]! * (combinedLevel / source.level)
       mentions[t]! += source.n[t]!
       documents[t]! += source.N[t]!
       expected += source.N[t]! * source.level
