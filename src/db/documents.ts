@@ -111,14 +111,15 @@ export interface StoredSignature {
   id: number
   duplicate_of: number | null
   signature: Buffer | null
-  title: string
-  body: string
 }
 
-const INSERT_DOCUMENT = `INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, date_estimated,
-  text_hash, duplicate_of, dup_similarity, occupation, organisation, location, channel, team, skills_json, signature)
-  VALUES (@source_id, @external_id, @kind, @title, @body, @posted_at, @month, @date_estimated, @text_hash, @duplicate_of,
-  @dup_similarity, @occupation, @organisation, @location, @channel, @team, @skills_json, @signature)
+const DOCUMENT_COLUMNS = [
+  'source_id', 'external_id', 'kind', 'title', 'body', 'posted_at', 'month', 'date_estimated', 'text_hash', 'duplicate_of',
+  'dup_similarity', 'occupation', 'organisation', 'location', 'channel', 'team', 'skills_json', 'signature',
+] as const satisfies readonly (keyof DocumentRow)[]
+
+// positional parameters: binding by name costs a lookup per parameter per row
+const INSERT_DOCUMENT = `INSERT INTO documents (${DOCUMENT_COLUMNS.join(', ')}) VALUES (${DOCUMENT_COLUMNS.map(() => '?').join(', ')})
   ON CONFLICT (source_id, external_id) DO NOTHING`
 
 /**
@@ -130,6 +131,7 @@ export class DocumentStore {
   private readonly setDup: Statement
   private readonly insert: Statement
   private readonly signatureOf: Statement
+  private readonly textOf: Statement
   private readonly insertBandsStmt: Statement
   private readonly candidatesStmt: Statement
 
@@ -140,7 +142,8 @@ export class DocumentStore {
     this.byHash = db.prepare("SELECT id, duplicate_of FROM documents WHERE text_hash = ? AND kind = 'posting' AND id < ? ORDER BY id LIMIT 1")
     this.setDup = db.prepare('UPDATE documents SET duplicate_of = ?, dup_similarity = ?, signature = CASE WHEN ? THEN NULL ELSE signature END WHERE id = ?')
     this.insert = db.prepare(INSERT_DOCUMENT)
-    this.signatureOf = db.prepare('SELECT id, duplicate_of, signature, title, body FROM documents WHERE id = ?')
+    this.signatureOf = db.prepare('SELECT id, duplicate_of, signature FROM documents WHERE id = ?')
+    this.textOf = db.prepare('SELECT title, body FROM documents WHERE id = ?')
     const marks = Array.from({ length: bands }, () => '(?, ?)').join(', ')
     this.insertBandsStmt = db.prepare(`INSERT OR IGNORE INTO document_bands(key, document_id) VALUES ${marks}`)
     this.candidatesStmt = db.prepare(`SELECT document_id FROM document_bands WHERE key IN (${Array.from({ length: bands }, () => '?').join(', ')})`).pluck()
@@ -156,7 +159,10 @@ export class DocumentStore {
    * @returns the new id, or null when it was already stored
    */
   insertDocument(row: DocumentRow): number | null {
-    const info = this.insert.run(row)
+    const info = this.insert.run(
+      row.source_id, row.external_id, row.kind, row.title, row.body, row.posted_at, row.month, row.date_estimated, row.text_hash, row.duplicate_of,
+      row.dup_similarity, row.occupation, row.organisation, row.location, row.channel, row.team, row.skills_json, row.signature,
+    )
     return info.changes === 0 ? null : Number(info.lastInsertRowid)
   }
 
@@ -207,6 +213,10 @@ export class DocumentStore {
 
   signature(id: number): StoredSignature | undefined {
     return this.signatureOf.get(id) as StoredSignature | undefined
+  }
+
+  text(id: number): { title: string; body: string } | undefined {
+    return this.textOf.get(id) as { title: string; body: string } | undefined
   }
 }
 

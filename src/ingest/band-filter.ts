@@ -6,6 +6,8 @@
  * costs a few bit tests instead of index queries. It can answer "maybe" for a key that is absent (then the query runs and finds nothing) but
  * never "no" for a key that is present, so dedupe decisions are exactly those without it.
  *
+ * Band keys and text hashes share one bit array; they are told apart by mixing a different
+ * band number into each (text hashes use band -1).
  * With 16 bits per key and 4 probes the false-positive rate per key is (1 - e^(-4/16))^4 ≈ 0.24 %.
  * Cost: building reads every stored key once, O(n); each test or insert is O(1).
  *
@@ -40,14 +42,12 @@ export class BandFilter {
     return this.count > this.capacity
   }
 
-  private static h1(key: number): number {
-    const lo = key % 0x1_0000_0000
-    const hi = Math.floor(key / 0x1_0000_0000)
-    return fmix32(lo ^ Math.imul(hi + 1, 0x9e3779b9))
+  /** First probe hash of band key `h` of band `band` (text hashes use band -1). */
+  private static h1(band: number, h: number): number {
+    return fmix32(h ^ Math.imul(band + 2, 0x9e3779b9))
   }
 
-  add(key: number): void {
-    const a = BandFilter.h1(key)
+  private set(a: number): void {
     const b = fmix32(a ^ 0x5bd1e995) | 1
     for (let i = 0; i < PROBES; i++) {
       const bit = (a + Math.imul(i, b)) & this.mask
@@ -56,8 +56,7 @@ export class BandFilter {
     this.count++
   }
 
-  mightContain(key: number): boolean {
-    const a = BandFilter.h1(key)
+  private test(a: number): boolean {
     const b = fmix32(a ^ 0x5bd1e995) | 1
     for (let i = 0; i < PROBES; i++) {
       const bit = (a + Math.imul(i, b)) & this.mask
@@ -66,25 +65,41 @@ export class BandFilter {
     return true
   }
 
+  /** Adds band key `h` (32-bit, as computed) of band `band`. */
+  addBand(band: number, h: number): void {
+    this.set(BandFilter.h1(band, h))
+  }
+
+  hasBand(band: number, h: number): boolean {
+    return this.test(BandFilter.h1(band, h))
+  }
+
+  /** Adds a stored key (band * 2^32 + h). */
+  addStored(key: number): void {
+    const band = Math.floor(key / 0x1_0000_0000)
+    this.addBand(band, key - band * 0x1_0000_0000)
+  }
+
+  /** Adds a normalised-text hash (hex); its first 32 bits are the key. */
+  addText(hash: string): void {
+    this.set(BandFilter.h1(-1, parseInt(hash.slice(0, 8), 16)))
+  }
+
+  hasText(hash: string): boolean {
+    return this.test(BandFilter.h1(-1, parseInt(hash.slice(0, 8), 16)))
+  }
+
   /** Builds a filter holding every stored band key, sized for `extra` more. */
   static load(db: Db, extra: number): BandFilter {
     const f = new BandFilter(bandKeyCount(db) + postingCount(db) + extra)
-    for (const k of iterateBandKeys(db)) f.add(k)
-    for (const h of iteratePostingHashes(db)) f.add(textKey(h))
+    for (const k of iterateBandKeys(db)) f.addStored(k)
+    for (const h of iteratePostingHashes(db)) f.addText(h)
     return f
   }
 
   get size(): number {
     return this.count
   }
-}
-
-/**
- * A text hash as a filter key: its first 48 bits, offset by 2^48 so that it never equals a band key
- * (those are below 2^36: band < 16 times 2^32).
- */
-export function textKey(hash: string): number {
-  return 0x1_0000_0000_0000 + parseInt(hash.slice(0, 12), 16)
 }
 
 const cache = new WeakMap<Db, { filter: BandFilter; dataVersion: number }>()

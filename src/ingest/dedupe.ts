@@ -11,10 +11,10 @@
  * Decisions depend only on what is stored before, in arrival order, so a run killed and restarted
  * reaches the same decisions as one uninterrupted run.
  */
-import { DocumentStore, maxDocumentId } from '../db/documents.ts'
-import { type BandFilter, buildBandFilter, cachedBandFilter, textKey } from './band-filter.ts'
+import { type DocumentStore, maxDocumentId } from '../db/documents.ts'
+import { type BandFilter, buildBandFilter, cachedBandFilter } from './band-filter.ts'
 import type { DocumentInput } from './document.ts'
-import { bandKeys, estimateJaccard, exactJaccard, minhashSeeds, minhashSignature, shingleHashes, shingleSet, signatureFromBytes, toSortedSet } from './minhash.ts'
+import { bandKeys, estimateJaccard, fmix32, exactJaccard, minhashSeeds, minhashSignature, shingleHashes, shingleSet, signatureFromBytes, toSortedSet } from './minhash.ts'
 import { normalisedTextHash } from './text.ts'
 
 export interface DedupeParams {
@@ -48,24 +48,39 @@ export function indexSignature(p: DedupeParams): string {
   return `minhash-v1:k=${p.numHashes}:b=${p.bands}:w=${p.shingleSize}`
 }
 
-const CACHE_SIZE = 20_000
+/** Postings whose signature and shingles stay in memory (about 1 KB each). */
+const CACHE_SIZE = 30_000
+
+function pendingSlot(band: number, h: number): number {
+  return fmix32(h ^ Math.imul(band + 1, 0x27d4eb2f)) & 0x3fffffff
+}
+
+interface Known {
+  signature: Uint32Array
+  /** the root of its chain: itself, or the original it reposts */
+  root: number
+  /** shingle hashes in text order (sorted only for an exact comparison) */
+  shingles: Uint32Array | null
+}
 
 export class Deduper {
   private readonly seeds: Uint32Array
-  /** shingle sets of recently stored postings: reposts tend to follow their original closely */
-  private readonly recent = new Map<number, Uint32Array>()
+  /** recently stored postings: candidates are checked without a query while they are here */
+  private readonly known = new Map<number, Known>()
   /** candidates whose estimate is this far below the threshold are not worth an exact check */
   private readonly slack: number
-  /** in-memory filter over stored band keys, built once enough lookups make it pay */
+  /** in-memory filter over stored band keys and text hashes, built once enough lookups make it pay */
   private filter: BandFilter | null
   private lookups = 0
   private readonly buildAfter: number
-  /**
-   * band keys (stored form) and document ids of the open batch, written sorted when the batch
-   * ends; flat arrays, because only candidates the filter lets through scan them
-   */
+  /** band keys (stored form) of the open batch and their documents, written sorted when it ends */
   private pendingKeys: number[] = []
   private pendingIds: number[] = []
+  /**
+   * the same, for lookups: a 30-bit mix of band and key (a small integer, cheap as a Map key) to
+   * the document id, or ids when several share it; a collision only adds a candidate to verify
+   */
+  private pendingIndex = new Map<number, number | number[]>()
 
   constructor(
     private readonly store: DocumentStore,
@@ -95,94 +110,113 @@ export class Deduper {
    * same batch); `id` itself is already inserted.
    */
   decide(id: number, a: Analysis, kind: DocumentInput['kind']): Decision {
-    if (kind !== 'posting') return { duplicateOf: null, similarity: null, how: null }
+    const none: Decision = { duplicateOf: null, similarity: null, how: null }
+    if (kind !== 'posting') return none
     if (!this.filter && ++this.lookups >= this.buildAfter) this.rebuildFilter(200_000 * (this.params.bands + 1))
     const f = this.filter
-    const same = !f || f.mightContain(textKey(a.textHash)) ? this.store.sameText(a.textHash, id) : undefined
+    const same = !f || f.hasText(a.textHash) ? this.store.sameText(a.textHash, id) : undefined
     if (same) return { duplicateOf: same.duplicate_of ?? same.id, similarity: 1, how: 'exact' }
-    if (!a.signature || !a.keys) return { duplicateOf: null, similarity: null, how: null }
-    if (f && !a.keys.some((k, band) => f.mightContain(band * 0x1_0000_0000 + k))) return { duplicateOf: null, similarity: null, how: null }
+    const keys = a.keys
+    if (!a.signature || !keys) return none
+    if (f && !keys.some((h, band) => f.hasBand(band, h))) return none
     let best: { root: number; j: number } | null = null
     let mine: Uint32Array | null = null
-    for (const id of this.candidates(a.keys)) {
-      const row = this.store.signature(id)
-      if (!row || !row.signature) continue
-      const stored = signatureFromBytes(row.signature)
-      if (stored.length !== a.signature.length) continue
-      if (estimateJaccard(a.signature, stored) < this.params.threshold - this.slack) continue
+    for (const cid of this.candidates(keys)) {
+      const c = this.lookup(cid)
+      if (!c || c.signature.length !== a.signature.length) continue
+      if (estimateJaccard(a.signature, c.signature) < this.params.threshold - this.slack) continue
       mine ??= toSortedSet(a.shingles)
-      const j = exactJaccard(mine, this.shinglesOf(id, row))
+      const j = exactJaccard(mine, this.shinglesOf(cid, c))
       if (j < this.params.threshold) continue
-      const root = row.duplicate_of ?? row.id
-      if (!best || j > best.j || (j === best.j && root < best.root)) best = { root, j }
+      if (!best || j > best.j || (j === best.j && c.root < best.root)) best = { root: c.root, j }
     }
-    return best ? { duplicateOf: best.root, similarity: best.j, how: 'near' } : { duplicateOf: null, similarity: null, how: null }
+    return best ? { duplicateOf: best.root, similarity: best.j, how: 'near' } : none
   }
 
-  /** Records a stored posting in the filter and stores its band keys (inside the batch transaction). */
+  /**
+   * Records a stored posting (inside the batch transaction): its band keys wait in memory until
+   * flushBands(), and it joins the filter and the cache.
+   */
   stored(id: number, a: Analysis, decision: Decision): void {
     const f = this.filter
-    if (decision.how === 'exact' || !a.keys) {
-      if (f && decision.how !== 'exact') f.add(textKey(a.textHash))
+    // exact-text reposts add nothing: their hash and band keys equal their original's
+    if (decision.how === 'exact' || !a.keys || !a.signature) {
+      if (f && decision.how !== 'exact' && a.keys) f.addText(a.textHash)
       return
     }
-    // exact-text reposts add nothing: their hash and band keys equal their original's
-    for (let band = 0; band < a.keys.length; band++) {
-      const key = band * 0x1_0000_0000 + a.keys[band]!
-      this.pendingKeys.push(key)
+    const keys = a.keys
+    for (let band = 0; band < keys.length; band++) {
+      const h = keys[band]!
+      this.pendingKeys.push(band * 0x1_0000_0000 + h)
       this.pendingIds.push(id)
-      f?.add(key)
+      const slot = pendingSlot(band, h)
+      const there = this.pendingIndex.get(slot)
+      if (there === undefined) this.pendingIndex.set(slot, id)
+      else if (typeof there === 'number') this.pendingIndex.set(slot, [there, id])
+      else there.push(id)
+      f?.addBand(band, h)
     }
     if (f) {
-      f.add(textKey(a.textHash))
+      f.addText(a.textHash)
       if (f.full) this.rebuildFilter(f.size)
     }
+    this.known.set(id, { signature: a.signature, root: decision.duplicateOf ?? id, shingles: a.shingles })
+    if (this.known.size > CACHE_SIZE) this.known.delete(this.known.keys().next().value!)
   }
 
   /** Writes the open batch's band keys, sorted by key (call inside the batch transaction). */
   flushBands(): void {
-    const order = Array.from(this.pendingKeys.keys())
-    order.sort((x, y) => this.pendingKeys[x]! - this.pendingKeys[y]! || this.pendingIds[x]! - this.pendingIds[y]!)
-    this.store.insertBandRows(order.map((i) => [this.pendingKeys[i]!, this.pendingIds[i]!] as const))
+    const keys = this.pendingKeys
+    const ids = this.pendingIds
+    const order = Array.from(keys.keys())
+    order.sort((x, y) => keys[x]! - keys[y]! || ids[x]! - ids[y]!)
+    this.store.insertBandRows(order.map((i) => [keys[i]!, ids[i]!] as const))
+    this.clearPending()
+  }
+
+  /** Forgets what the rolled-back batch added (its ids will be reused). */
+  forget(): void {
+    this.known.clear()
+    this.clearPending()
+  }
+
+  private clearPending(): void {
     this.pendingKeys = []
     this.pendingIds = []
+    this.pendingIndex.clear()
   }
 
   /** Stored documents and documents of the open batch sharing a band key. */
   private candidates(keys: readonly number[]): number[] {
     const ids = this.store.candidates(keys)
-    if (this.pendingKeys.length === 0) return ids
+    if (this.pendingIndex.size === 0) return ids
     const all = new Set(ids)
-    const wanted = new Set(DocumentStore.storedKeys(keys))
-    for (let i = 0; i < this.pendingKeys.length; i++) if (wanted.has(this.pendingKeys[i]!)) all.add(this.pendingIds[i]!)
+    keys.forEach((h, band) => {
+      const there = this.pendingIndex.get(pendingSlot(band, h))
+      if (typeof there === 'number') all.add(there)
+      else if (there) for (const id of there) all.add(id)
+    })
     return [...all]
+  }
+
+  private lookup(id: number): Known | null {
+    const k = this.known.get(id)
+    if (k) return k
+    const row = this.store.signature(id)
+    if (!row || !row.signature) return null
+    return { signature: signatureFromBytes(row.signature), root: row.duplicate_of ?? row.id, shingles: null }
+  }
+
+  private shinglesOf(id: number, k: Known): Uint32Array {
+    if (k.shingles) return toSortedSet(k.shingles)
+    const row = this.store.text(id)!
+    return shingleSet(normalisedTextHash(dedupeText(row)).tokens, this.params.shingleSize)
   }
 
   private rebuildFilter(extra: number): void {
     // the table lacks the open batch's keys: add them, or the filter would deny them
     const f = buildBandFilter(this.store.db, extra)
-    for (const key of this.pendingKeys) f.add(key)
+    for (const key of this.pendingKeys) f.addStored(key)
     this.filter = f
-  }
-
-  /** Keeps the shingle set of a stored posting for later exact checks. */
-  remember(id: number, a: Analysis): void {
-    if (a.shingles.length === 0) return
-    // kept unsorted: most are never compared, and sorting all of them would cost more
-    this.recent.set(id, a.shingles)
-    if (this.recent.size > CACHE_SIZE) this.recent.delete(this.recent.keys().next().value!)
-  }
-
-  /** Forgets cached sets and pending keys (after a rolled-back batch, whose ids will be reused). */
-  forget(): void {
-    this.recent.clear()
-    this.pendingKeys = []
-    this.pendingIds = []
-  }
-
-  private shinglesOf(id: number, row: { title: string; body: string }): Uint32Array {
-    const cached = this.recent.get(id)
-    if (cached) return toSortedSet(cached)
-    return shingleSet(normalisedTextHash(dedupeText(row)).tokens, this.params.shingleSize)
   }
 }

@@ -114,7 +114,7 @@ export class BatchWriter {
     const cursor = this.cursor
     if (batch.length === 0 && cursor === undefined && !finalStep) return
     const delta = emptyCounts()
-    const stored: { id: number; a: ReturnType<Deduper['analyse']> }[] = []
+    const stored: number[] = []
     let from: string | null = null
     let to: string | null = null
     let firstId: number | null = null
@@ -152,7 +152,7 @@ export class BatchWriter {
         const d = this.deduper.decide(id, a, doc.kind)
         if (d.duplicateOf !== null) this.store.setDuplicate(id, d.duplicateOf, d.similarity!, d.how === 'exact')
         this.deduper.stored(id, a, d)
-        stored.push({ id, a })
+        stored.push(id)
         firstId ??= id
         lastId = id
         if (d.duplicateOf === null) delta.new++
@@ -188,7 +188,6 @@ export class BatchWriter {
       this.deduper.forget()
       throw err
     }
-    for (const s of stored) this.deduper.remember(s.id, s.a)
     this.pending = []
     this.cursor = undefined
     const total = addCounts(this.counts, delta)
