@@ -230,7 +230,8 @@ function pager(c: Ctx, data: OverviewData): Html {
 
 function summary(data: OverviewData): Html {
   return html`<section class="summary" aria-labelledby="states-h"><div><h2 id="states-h">Skills by state</h2>
-<ul class="state-counts">${data.stateCounts.map((s) => html`<li>${stateMark(s.state)} <strong>${s.count}</strong></li>`)}</ul></div>
+<ul class="state-counts">${data.stateCounts.map((s) => html`<li>${stateMark(s.state)} <strong>${s.count}</strong></li>`)}</ul>
+<p class="download"><a href="/api/states?format=csv" download>Download counts as CSV</a></p></div>
 <div class="runs-brief"><h2>Pipeline</h2>
 <p>Last run: ${data.lastRun ? html`${data.lastRun.stage}${data.lastRun.source_id ? ` (${data.lastRun.source_id})` : ''}, ${data.lastRun.status}, ${f.when(data.lastRun.ended_at ?? data.lastRun.started_at)}` : 'none yet'}. <a href="/sources">All runs</a></p>
 <div>Next scheduled: ${data.nextRuns.length ? html`<ul class="next-runs">${data.nextRuns.map((n) => html`<li>${n.name}: ${f.when(n.next)}</li>`)}</ul>` : 'no schedules running (start them with `tides serve`).'}</div></div>

@@ -241,6 +241,14 @@ ${dataTable({ id: 'series', caption: 'Monthly series', columns: t.columns, rows:
 </details></section>`
 }
 
+function needSection(n: NonNullable<SkillData['need']>): Html {
+  const parts = Object.entries(n.parts)
+  return html`<section aria-labelledby="need-h"><h2 id="need-h">Why it ranks ${n.rank ?? '–'}</h2>
+<p>Need score ${f.num(n.score, 3)} = the sum of its parts (value × weight):</p>
+<ul class="words">${parts.map(([k, v]) => html`<li><strong>${k}</strong>: ${f.num(v.value, 3)} × ${f.num(v.weight, 2)} = ${f.num(v.contribution, 3)}</li>`)}</ul>
+${n.notes.length ? html`<p class="muted">${n.notes.join('; ')}</p>` : ''}</section>`
+}
+
 export function renderSkill(c: Ctx, d: SkillData): Html {
   const base = `/api/skills/${encodeURIComponent(d.id)}`
   const table = (name: TableName, caption: string, empty: string) => {
@@ -253,6 +261,7 @@ export function renderSkill(c: Ctx, d: SkillData): Html {
 ${d.notes.map((n) => notice('warn', n))}
 ${figures(d)}
 ${chartSection(d)}
+${d.need ? needSection(d.need) : ''}
 <section aria-labelledby="words-h"><h2 id="words-h">What the tests say</h2>
 ${d.words.length ? html`<ul class="words">${d.words.map((w) => html`<li>${w}</li>`)}</ul>` : html`<p class="empty">No fit yet.</p>`}
 ${d.tests.length ? html`<ul class="tests">${d.tests.map((t) => html`<li><strong>${t.name}</strong>: ${t.text ? `${t.text}; ` : ''}${t.statistic !== null ? `statistic ${f.num(t.statistic, 3)}, ` : ''}p ${f.pValue(t.p)}${t.pAdjusted !== null ? `, adjusted ${f.pValue(t.pAdjusted)}` : ''}</li>`)}</ul>` : ''}
