@@ -78,8 +78,10 @@ export const planConfigSchema = z
         minShare: z.number().min(0).max(1).default(0.1),
         /** recent postings matched to the role needed before anything is suggested */
         minPostings: z.number().int().min(1).default(10),
-        /** one-sided level of the two-proportion test of an increase */
+        /** false discovery rate for the one-sided two-proportion tests of an increase (Benjamini–Hochberg) */
         alpha: z.number().gt(0).lt(1).default(0.05),
+        /** relative rise of the role's share that a globally rising skill needs to be suggested without a significant test */
+        minRise: z.number().min(0).default(0.25),
       })
       .strict()
       .prefault({}),

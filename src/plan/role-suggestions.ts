@@ -10,9 +10,13 @@
  * window of the same length just before (p0 = n0/N0) by a one-sided two-proportion z-test:
  *   z = (p1 − p0)/√(p̂(1 − p̂)(1/N1 + 1/N0)), p̂ = (n1 + n0)/(N1 + N0), p-value = 1 − Φ(z).
  * Reference: https://en.wikipedia.org/wiki/Two-proportion_Z-test
- * A skill is suggested when N1 ≥ minPostings, p1 ≥ minShare, p1 > p0, and either the increase is
- * significant (p-value < alpha) or the skill's own demand curve is emerging or rising.
+ * The p-values of every (role, skill) pair tested in a run are adjusted together by Benjamini–Hochberg
+ * (many roles × skills are tested at once). A skill is suggested when N1 ≥ minPostings, p1 ≥ minShare,
+ * p1 > p0, and either the increase is significant after adjustment (adjusted p ≤ alpha) or the
+ * skill's own demand curve is emerging or rising and its share in the role's postings rose by at
+ * least `suggestions.minRise` (relative).
  */
+import { benjaminiHochberg } from '../stats/benjamini-hochberg.ts'
 import { normalSurvival } from '../stats/normal-distribution.ts'
 import type { DocumentConcepts } from '../db/plan.ts'
 import type { PlanConfig } from './config.ts'
@@ -29,6 +33,8 @@ export interface RoleSuggestion {
   earlierMentions: number
   earlierShare: number | null
   pValue: number | null
+  /** Benjamini–Hochberg adjusted over every (role, skill) test of the run */
+  pAdjusted: number | null
   state: string | null
   reason: string
 }
@@ -83,7 +89,8 @@ export function suggestRequirements(input: SuggestionInput, cfg: Pick<PlanConfig
   const s = cfg.suggestions
   const recentStart = addMonths(input.latestMonth, -(s.recentMonths - 1))
   const earlierStart = addMonths(recentStart, -s.recentMonths)
-  const out: RoleSuggestion[] = []
+  // every test this run makes: a skill the role lacks, seen in the role's recent postings
+  const tests: Omit<RoleSuggestion, 'reason' | 'pAdjusted'>[] = []
   for (const role of input.roles) {
     const matches = roleMatcher(cfg.roleOccupations[role] ?? [role])
     const required = input.requirements.get(role) ?? new Set<string>()
@@ -100,41 +107,50 @@ export function suggestRequirements(input: SuggestionInput, cfg: Pick<PlanConfig
       for (const c of new Set(doc.concepts)) counts.set(c, (counts.get(c) ?? 0) + 1)
     }
     if (recentTotal < s.minPostings) continue
-    const found: RoleSuggestion[] = []
     for (const [skill, n1] of recent) {
       if (required.has(skill)) continue
-      const p1 = n1 / recentTotal
       const n0 = earlier.get(skill) ?? 0
-      const p0 = earlierTotal > 0 ? n0 / earlierTotal : null
-      if (p1 < s.minShare || (p0 !== null && p1 <= p0)) continue
-      const pValue = twoProportionP(n1, recentTotal, n0, earlierTotal)
-      const curve = input.curves.get(skill)
-      const risingCurve = curve !== undefined && curve.evidenced && RISING_STATES.includes(curve.state)
-      const significant = pValue !== null && pValue < s.alpha
-      if (!significant && !risingCurve) continue
-      const pct = (x: number) => `${(100 * x).toFixed(0)}%`
-      const reason = [
-        `${pct(p1)} of the last ${s.recentMonths} months' ${recentTotal} postings for this role ask for it`,
-        p0 === null ? 'no earlier postings to compare' : `against ${pct(p0)} of ${earlierTotal} the ${s.recentMonths} months before`,
-        significant ? `a significant increase (one-sided p ${pValue! < 0.001 ? '< 0.001' : pValue!.toFixed(3)})` : `its demand is ${curve!.state} across all postings`,
-      ].join('; ')
-      found.push({
+      tests.push({
         role,
         skillId: skill,
         label: input.labels.get(skill) ?? skill,
         recentPostings: recentTotal,
         recentMentions: n1,
-        recentShare: p1,
+        recentShare: n1 / recentTotal,
         earlierPostings: earlierTotal,
         earlierMentions: n0,
-        earlierShare: p0,
-        pValue,
-        state: curve?.state ?? null,
-        reason,
+        earlierShare: earlierTotal > 0 ? n0 / earlierTotal : null,
+        pValue: twoProportionP(n1, recentTotal, n0, earlierTotal),
+        state: input.curves.get(skill)?.state ?? null,
       })
     }
-    found.sort((a, b) => b.recentShare - (b.earlierShare ?? 0) - (a.recentShare - (a.earlierShare ?? 0)) || (a.skillId < b.skillId ? -1 : 1))
-    out.push(...found)
   }
-  return out
+  // many roles × skills are tested at once: control the false discovery rate across them
+  const adjusted = benjaminiHochberg(tests.map((t) => t.pValue ?? Number.NaN), s.alpha).adjusted
+  const out: RoleSuggestion[] = []
+  tests.forEach((t, i) => {
+    const p1 = t.recentShare
+    const p0 = t.earlierShare
+    if (p1 < s.minShare || (p0 !== null && p1 <= p0)) return
+    const pAdjusted = Number.isNaN(adjusted[i]!) ? null : adjusted[i]!
+    const curve = input.curves.get(t.skillId)
+    const significant = pAdjusted !== null && pAdjusted <= s.alpha
+    const risingCurve = curve !== undefined && curve.evidenced && RISING_STATES.includes(curve.state) && (p0 === null || p1 >= (1 + s.minRise) * p0)
+    if (!significant && !risingCurve) return
+    const pct = (x: number) => `${(100 * x).toFixed(0)}%`
+    const reason = [
+      `${pct(p1)} of the last ${s.recentMonths} months' ${t.recentPostings} postings for this role ask for it`,
+      p0 === null ? 'no earlier postings to compare' : `against ${pct(p0)} of ${t.earlierPostings} the ${s.recentMonths} months before`,
+      significant
+        ? `a significant increase (one-sided p ${fmtP(t.pValue!)}, ${fmtP(pAdjusted!)} after the false-discovery-rate adjustment)`
+        : `its demand is ${curve!.state} across all postings`,
+    ].join('; ')
+    out.push({ ...t, pAdjusted, reason })
+  })
+  const rise = (x: RoleSuggestion) => x.recentShare - (x.earlierShare ?? 0)
+  return out.sort((a, b) => (a.role < b.role ? -1 : a.role > b.role ? 1 : rise(b) - rise(a) || (a.skillId < b.skillId ? -1 : 1)))
+}
+
+function fmtP(p: number): string {
+  return p < 0.001 ? '< 0.001' : p.toFixed(3)
 }

@@ -60,7 +60,8 @@ function rising(id: string): SkillCurve {
 describe('suggested requirements', () => {
   // 24 months of postings for a data analyst occupation: 5 a month. Prompt engineering goes from none
   // to 3 of 5; Excel stays at 2 of 5; SQL appears once; dbt goes from 1 in 6 to 1 in 5 (not significant,
-  // but its curve is rising); python is already required. Web postings are not the role's.
+  // but its curve is rising); MLOps goes from 12 to 13 of 60 (rising curve, but +8% < minRise 25%);
+  // python is already required. Web postings are not the role's.
   const docs: DocumentConcepts[] = []
   let id = 0
   months('2024-01', 24).forEach((month, mi) => {
@@ -70,6 +71,7 @@ describe('suggested requirements', () => {
       if (recent && i < 3) concepts.push('prompt-engineering')
       if (i >= 3) concepts.push('excel')
       if (recent && mi === 20 && i === 0) concepts.push('sql')
+      if (i === 0 || (mi === 23 && i === 1)) concepts.push('mlops')
       if (recent ? i === 4 || (mi % 6 === 0 && i === 3) || i === 3 : mi % 5 === 0 || (mi % 3 === 0 && i === 2)) concepts.push('dbt')
       docs.push({ id: ++id, month, title: i === 4 ? 'Financial Analyst' : 'Reporting', occupation: i === 4 ? null : '15-2051', concepts })
     }
@@ -81,7 +83,7 @@ describe('suggested requirements', () => {
     requirements: new Map([['Data Analyst', new Set(['python'])]]),
     postings: docs,
     latestMonth: '2025-12',
-    curves: new Map([['dbt', rising('dbt')]]),
+    curves: new Map([['dbt', rising('dbt')], ['mlops', rising('mlops')]]),
     labels: new Map([['prompt-engineering', 'prompt engineering']]),
   }
 
@@ -91,10 +93,15 @@ describe('suggested requirements', () => {
     const prompt = out.find((s) => s.skillId === 'prompt-engineering')!
     expect(prompt).toMatchObject({ role: 'Data Analyst', label: 'prompt engineering', recentPostings: 60, recentMentions: 36, earlierPostings: 60, earlierMentions: 0, recentShare: 0.6, earlierShare: 0 })
     expect(prompt.pValue!).toBeLessThan(1e-6)
+    expect(prompt.pAdjusted!).toBeGreaterThanOrEqual(prompt.pValue!)
+    expect(prompt.pAdjusted!).toBeLessThan(1e-5)
     expect(prompt.reason).toMatch(/60% of the last 12 months' 60 postings/)
     const dbt = out.find((s) => s.skillId === 'dbt')!
     expect(dbt.pValue!).toBeGreaterThan(0.05)
     expect(dbt.reason).toMatch(/rising across all postings/)
+    // MLOps rose too little within the role; with no minimum rise it would be suggested
+    const loose = testConfig({ roleOccupations: { 'Data Analyst': ['15-2051', 'analyst'] }, suggestions: { minRise: 0 } }).plan
+    expect(suggestRequirements(input, loose).map((x) => x.skillId)).toContain('mlops')
   })
 
   it('the role’s own name is the default keyword; too few postings suggest nothing', () => {
