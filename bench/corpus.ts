@@ -22,7 +22,7 @@ const here = path.dirname(fileURLToPath(import.meta.url))
 export const WORK_DIR = path.join(here, '.work')
 export const SHIPPED_TAXONOMY = path.join(here, '..', 'taxonomy', 'skills.csv')
 /** part of every generated file name: bump it whenever the generator's output changes */
-export const CORPUS_VERSION = 2
+export const CORPUS_VERSION = 3
 
 // ---------------------------------------------------------------------------------------------------
 // seeded random numbers
@@ -499,8 +499,9 @@ export function generatePostings(opts: CorpusOptions, write: (chunk: Buffer) => 
     planted: trends.map((t) => ({ id: t.id, phrase: t.phrase, shape: t.shape, counts: new Array(months).fill(0) })),
   }
   const shares = trends.map((t) => monthNames.map((_, m) => trendShare(t, m, months)))
-  // recent postings that a repost may copy
-  const recent: { title: string; description: string; month: number; org: string; place: string; occ: string }[] = []
+  // recent postings of the current month that a repost may copy (reposts stay in their month)
+  let recent: { title: string; description: string; month: number; org: string; place: string; occ: string }[] = []
+  let recentMonth = -1
   // lines are encoded straight into one reused buffer (joining two-byte strings is slow)
   const CHUNK = 8 * 1024 * 1024
   const buffer = Buffer.allocUnsafe(CHUNK)
@@ -517,6 +518,10 @@ export function generatePostings(opts: CorpusOptions, write: (chunk: Buffer) => 
     const month = opts.onlyMonths ? opts.onlyMonths[i % opts.onlyMonths.length]! : Math.min(months - 1, Math.floor((i * months) / opts.n))
     const day = 1 + rng.int(28)
     const datePosted = `${monthNames[month]}-${String(day).padStart(2, '0')}`
+    if (month !== recentMonth) {
+      recent = []
+      recentMonth = month
+    }
     const roll = rng.next()
     let title: string
     let description: string
@@ -524,7 +529,7 @@ export function generatePostings(opts: CorpusOptions, write: (chunk: Buffer) => 
     let place: string
     let occ: string
     const source = recent.length > 0 && roll < repostRate + nearRate ? recent[rng.int(recent.length)]! : null
-    if (source && source.month === month) {
+    if (source) {
       title = source.title
       description = roll < repostRate ? source.description : source.description + '\nApplications close at the end of the month.'
       org = source.org
