@@ -95,8 +95,8 @@ export const PLAN_REPORTS: Record<string, Report> = {
     build(db, _config, opts): ReportOutput {
       const rows = limited(readPlanOutputs<RoleSuggestion>(db, 'role-suggestion').map((r) => r.payload), opts.limit)
       return {
-        rows: rows.map((s) => ({ role: s.role, id: s.skillId, label: s.label, recentShare: round(s.recentShare), earlierShare: round(s.earlierShare), recentPostings: s.recentPostings, pValue: round(s.pValue, 5), state: s.state ?? '', reason: s.reason })),
-        columns: ['role', 'id', 'label', 'recentShare', 'earlierShare', 'recentPostings', 'pValue', 'state', 'reason'],
+        rows: rows.map((s) => ({ role: s.role, id: s.skillId, label: s.label, recentShare: round(s.recentShare), earlierShare: round(s.earlierShare), recentPostings: s.recentPostings, pValue: round(s.pValue, 5), pAdjusted: round(s.pAdjusted, 5), state: s.state ?? '', reason: s.reason })),
+        columns: ['role', 'id', 'label', 'recentShare', 'earlierShare', 'recentPostings', 'pValue', 'pAdjusted', 'state', 'reason'],
         json: rows,
         footer: notRunFooter(db),
       }
