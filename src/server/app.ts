@@ -29,7 +29,7 @@ import { mountReskilling } from './pages/reskilling.ts'
 import { mountSkill } from './pages/skill.ts'
 import { mountSources } from './pages/sources.ts'
 import { mountTaxonomy } from './pages/taxonomy.ts'
-import { CSP, requireWriter, sessionMiddleware } from './security.ts'
+import { CSP, hostGuard, requireWriter, sessionMiddleware } from './security.ts'
 import { skillIndex } from './skill-index.ts'
 
 /** Request bodies above this size are refused with 413 (forms and JSON here are small). */
@@ -73,6 +73,7 @@ export function createApp(db: Db, config: Config, options: AppOptions = {}): Hon
   const app = new Hono<Env>()
 
   app.use('*', secureHeaders({ contentSecurityPolicy: CSP, referrerPolicy: 'no-referrer', strictTransportSecurity: false, xFrameOptions: 'DENY' }))
+  app.use('*', hostGuard(config.server.host))
   app.use('*', async (c, next) => {
     await next()
     if (!c.res.headers.has('Cache-Control')) c.res.headers.set('Cache-Control', 'no-store')

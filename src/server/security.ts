@@ -111,6 +111,23 @@ export function requireWriter(getToken: () => string | undefined): MiddlewareHan
   }
 }
 
+const LOOPBACK_HOSTS = new Set(['localhost', '127.0.0.1', '[::1]', '::1'])
+
+/**
+ * On a loopback-bound server, only requests addressed to a loopback name are answered (403 else):
+ * a web page whose own host name is made to resolve to 127.0.0.1 (DNS rebinding) would otherwise
+ * count as same-origin and could read the dashboard.
+ */
+export function hostGuard(boundHost: string): MiddlewareHandler<SecurityEnv> {
+  const loopback = LOOPBACK_HOSTS.has(boundHost)
+  return async (c, next) => {
+    if (loopback && !LOOPBACK_HOSTS.has(new URL(c.req.url).hostname)) {
+      return c.text('this server answers on its loopback address only (127.0.0.1 or localhost)', 403)
+    }
+    return next()
+  }
+}
+
 /** Content-Security-Policy: scripts, styles, images and fetches from this origin only; no inline script. */
 export const CSP = {
   defaultSrc: ["'none'"],

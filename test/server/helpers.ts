@@ -73,7 +73,8 @@ function fixtureDb(fixture: FixtureOptions, config: Config): Db {
 }
 
 export function makeApp(opts: { token?: string | null; fixture?: FixtureOptions | false; actions?: Actions; config?: Record<string, unknown> } = {}): TestApp {
-  const server = opts.token === null ? {} : { token: opts.token ?? TOKEN }
+  const given = (opts.config?.['server'] ?? {}) as Record<string, unknown>
+  const server = opts.token === null ? { ...given, token: undefined } : { ...given, token: opts.token ?? TOKEN }
   const config = parseConfig({ ...(opts.config ?? {}), server })
   const db = opts.fixture === false ? openDb(':memory:') : fixtureDb(opts.fixture || {}, config)
   const t: TestApp = { db, config, app: undefined as never, afterWrites: 0 }

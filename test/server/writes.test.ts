@@ -73,6 +73,20 @@ describe('the write guard', () => {
   })
 })
 
+describe('host names', () => {
+  it('a loopback-bound server answers only to loopback names (DNS rebinding)', async () => {
+    const t = makeApp()
+    expect((await t.app.request('http://localhost/')).status).toBe(200)
+    expect((await t.app.request('http://127.0.0.1:4780/api/overview')).status).toBe(200)
+    expect((await t.app.request('http://[::1]:4780/healthz')).status).toBe(200)
+    expect((await t.app.request('http://rebound.test:4780/api/overview')).status).toBe(403)
+    const res = await t.app.request('http://rebound.test:4780/login', { method: 'POST', headers: { 'Content-Type': 'application/x-www-form-urlencoded', Origin: 'http://rebound.test:4780' }, body: `token=${TOKEN}` })
+    expect(res.status).toBe(403)
+    const open = makeApp({ config: { server: { host: '0.0.0.0', token: TOKEN } } })
+    expect((await open.app.request('http://dashboard.fernhollow.test/healthz')).status).toBe(200)
+  })
+})
+
 describe('signing in', () => {
   it('sets an HttpOnly SameSite=Strict cookie that is not the token, and redirects only on-site', async () => {
     const t = makeApp()
