@@ -271,7 +271,8 @@ export function conceptSummaries(db: Db, ids: readonly string[]): Map<string, { 
 /**
  * Skills mentioned in the same recent postings as this one: how many of this skill's postings also
  * mention the other. Counts only originals (not reposts) among the skill's latest `window` postings,
- * so the cost stays bounded for very common skills.
+ * so the cost stays bounded for very common skills; neighbours count only where the text names them
+ * (not broader skills filled in by roll-up, which would always co-occur).
  */
 export function coMentioned(db: Db, id: string, limit = 10, window = 2000): { id: string; label: string; state: string | null; together: number; base: number }[] {
   const base = (
@@ -287,7 +288,7 @@ export function coMentioned(db: Db, id: string, limit = 10, window = 2000): { id
     `WITH mine AS (SELECT d.id FROM mentions m JOIN documents d ON d.id = m.document_id
         WHERE m.concept_id = ? AND d.kind = 'posting' AND d.duplicate_of IS NULL ORDER BY d.posted_at DESC LIMIT ?)
      SELECT o.concept_id AS id, c.pref_label AS label, cu.state, COUNT(*) AS together
-     FROM mine JOIN mentions o ON o.document_id = mine.id AND o.concept_id != ?
+     FROM mine JOIN mentions o ON o.document_id = mine.id AND o.concept_id != ? AND o.via != 'rollup'
      JOIN concepts c ON c.id = o.concept_id LEFT JOIN curves cu ON cu.concept_id = o.concept_id
      GROUP BY o.concept_id ORDER BY together DESC, o.concept_id LIMIT ?`,
   ).all(id, window, id, limit) as { id: string; label: string; state: string | null; together: number }[]

@@ -66,7 +66,7 @@ export function buildCourses(deps: Deps, filters: CoursesData['filters']): Cours
     const p = flagByCourse.get(c.course_id) ?? {}
     const sn = snoozes.get(c.course_id)
     return {
-      courseId: c.course_id, title: c.title, owner: c.owner, lastReviewed: c.last_reviewed,
+      courseId: c.course_id, title: c.title, owner: c.owner, lastReviewed: c.last_reviewed?.slice(0, 10) ?? null,
       enrollments12m: c.enrollments_12m, enrollmentsPrev12m: c.enrollments_prev_12m,
       flag: typeof p.flag === 'string' ? p.flag : null,
       reasons: Array.isArray(p.reasons) ? p.reasons.filter((x): x is string => typeof x === 'string') : [],

@@ -129,7 +129,7 @@ export function buildSkill(deps: Deps, id: string): SkillData | null {
     coverage: coverage.total ? [...coverage.byRole, coverage.total] : coverage.byRole,
     adjacent: coMentioned(db, id).map((a) => ({ id: a.id, label: a.label, state: a.state, together: a.together, share: a.together / a.base })),
     courses: coursesForSkill(db, id).map((c) => ({
-      courseId: c.course_id, title: c.title, owner: c.owner, lastReviewed: c.last_reviewed, enrollments12m: c.enrollments_12m, inferred: c.inferred === 1,
+      courseId: c.course_id, title: c.title, owner: c.owner, lastReviewed: c.last_reviewed?.slice(0, 10) ?? null, enrollments12m: c.enrollments_12m, inferred: c.inferred === 1,
     })),
     postings: examplePostings(db, id).map((p) => ({
       title: p.title, text: excerpt(p.body), postedAt: p.posted_at, organisation: p.organisation, location: p.location, source: p.source_id,
