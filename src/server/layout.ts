@@ -82,13 +82,14 @@ const STATE_SHAPES: Record<string, string> = {
   steady: '●',
   declining: '▼',
   fading: '▽',
+  'insufficient-evidence': '◌',
 }
 
 /** A lifecycle state as a shape and a word (colour is a third, redundant cue). */
 export function stateMark(state: string | null | undefined): Html {
   if (!state) return html`<span class="state state-none"><span aria-hidden="true">○</span> not fitted</span>`
   const known = state in STATE_SHAPES
-  return html`<span class="state state-${known ? state : 'other'}"><span aria-hidden="true">${STATE_SHAPES[state] ?? '◇'}</span> ${state}</span>`
+  return html`<span class="state state-${known ? state : 'other'}"><span aria-hidden="true">${STATE_SHAPES[state] ?? '◇'}</span> ${state.replace(/-/g, ' ')}</span>`
 }
 
 export interface Column<R> {
