@@ -109,7 +109,9 @@ export async function importTaxonomy(db: Db, file: string, opts: { skipBad: bool
   const concepts = loaded.taxonomy.concepts
   const read = concepts.length + errors.filter((p) => /row skipped|record dropped|skipped$/.test(p.message)).length
   if ((errors.length > 0 && !opts.skipBad) || concepts.length === 0) {
-    return { ...base, read, refused: true, problems: problems.map(toInputProblem) }
+    // a refusal always says why, also for an empty file or one with only a header
+    const why = concepts.length === 0 && errors.length === 0 ? [{ file, line: 1, reason: 'no concepts in the file (empty, or a header without rows)' }] : []
+    return { ...base, read, refused: true, problems: [...problems.map(toInputProblem), ...why] }
   }
   const affected = db.transaction(() => {
     const n = replaceTaxonomy(db, concepts, rules, file, 'import', caseFlags(loaded.taxonomy, rules))
