@@ -254,20 +254,6 @@ export function curveFor(db: Db, id: string): CurveRow | undefined {
   return stmt(db, 'SELECT * FROM curves WHERE concept_id = ?').get(id) as CurveRow | undefined
 }
 
-/** Labels and states of the given skills (for links to neighbours). */
-export function conceptSummaries(db: Db, ids: readonly string[]): Map<string, { label: string; state: string | null }> {
-  const out = new Map<string, { label: string; state: string | null }>()
-  for (let i = 0; i < ids.length; i += 100) {
-    const chunk = ids.slice(i, i + 100)
-    const marks = chunk.map(() => '?').join(',')
-    const rows = stmt(db, `SELECT c.id, c.pref_label AS label, cu.state FROM concepts c LEFT JOIN curves cu ON cu.concept_id = c.id WHERE c.id IN (${marks})`).all(
-      ...chunk,
-    ) as { id: string; label: string; state: string | null }[]
-    for (const r of rows) out.set(r.id, { label: r.label, state: r.state })
-  }
-  return out
-}
-
 /**
  * Skills mentioned in the same recent postings as this one: how many of this skill's postings also
  * mention the other. Counts only originals (not reposts) among the skill's latest `window` postings,
@@ -355,15 +341,6 @@ export function planOutput(db: Db, kind: string, key: string): PlanOutputRow | u
   return stmt(db, 'SELECT * FROM plan_outputs WHERE kind = ? AND key = ?').get(kind, key) as PlanOutputRow | undefined
 }
 
-/** The kinds of plan output present, with counts. */
-export function planKinds(db: Db): { kind: string; count: number; updated_at: string }[] {
-  return stmt(db, 'SELECT kind, COUNT(*) AS count, MAX(updated_at) AS updated_at FROM plan_outputs GROUP BY kind ORDER BY kind').all() as {
-    kind: string
-    count: number
-    updated_at: string
-  }[]
-}
-
 export function allCourses(db: Db): (CourseRowDb & { skills: string | null })[] {
   return stmt(
     db,
@@ -377,23 +354,6 @@ export function courseById(db: Db, id: string): CourseRowDb | undefined {
   return stmt(db, 'SELECT course_id, title, owner, last_reviewed, enrollments_12m, enrollments_prev_12m FROM courses WHERE course_id = ?').get(id) as
     | CourseRowDb
     | undefined
-}
-
-export interface FlagNoteRow {
-  id: number
-  course_id: string
-  action: string
-  flag: string | null
-  note: string
-  actor: string
-  until: string | null
-  at: string
-}
-
-/** Notes on course flags (snoozes and others), newest first. */
-export function flagNotes(db: Db, courseId?: string, limit = 500): FlagNoteRow[] {
-  if (courseId) return stmt(db, 'SELECT * FROM course_flag_notes WHERE course_id = ? ORDER BY id DESC LIMIT ?').all(courseId, limit) as FlagNoteRow[]
-  return stmt(db, 'SELECT * FROM course_flag_notes ORDER BY id DESC LIMIT ?').all(limit) as FlagNoteRow[]
 }
 
 // ---------------------------------------------------------------- taxonomy review

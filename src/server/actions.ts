@@ -31,8 +31,3 @@ export function defaultActions(): Actions {
     dismissCandidate: (db, term, actor) => dismissCandidate(db, term, actor),
   }
 }
-
-/** Raised by a route when the action it needs is not part of this build. */
-export class NotAvailableError extends Error {
-  override name = 'NotAvailableError'
-}

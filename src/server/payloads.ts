@@ -183,17 +183,3 @@ export function needNotes(payload: unknown): string[] {
   if (!isRecord(payload) || !Array.isArray(payload['notes'])) return []
   return payload['notes'].filter((n): n is string => typeof n === 'string')
 }
-
-/** Flattens a JSON object one level deep into display columns (nested objects become JSON text). */
-export function flatten(payload: unknown, prefix = ''): Record<string, string | number | boolean | null> {
-  const out: Record<string, string | number | boolean | null> = {}
-  if (!isRecord(payload)) return out
-  for (const [k, v] of Object.entries(payload)) {
-    const key = prefix + k
-    if (v === null || typeof v === 'string' || typeof v === 'boolean') out[key] = v
-    else if (typeof v === 'number') out[key] = Number.isFinite(v) ? v : null
-    else if (isRecord(v) && !prefix) Object.assign(out, flatten(v, `${key}.`))
-    else out[key] = JSON.stringify(v)
-  }
-  return out
-}

@@ -5,7 +5,6 @@
  */
 import { html } from 'hono/html'
 import { HTTPException } from 'hono/http-exception'
-import type { ContentfulStatusCode } from 'hono/utils/http-status'
 import type { Ctx } from '../deps.ts'
 import { notice, type Html } from '../layout.ts'
 import { CSRF_FIELD } from '../security.ts'
@@ -46,8 +45,4 @@ export async function readWrite(c: Ctx): Promise<Record<string, unknown>> {
 /** The outcome as a notice on the page. */
 export function writeResult(o: WriteOutcome): Html {
   return o.status === 200 ? notice('ok', o.message) : html`<p class="notice notice-error" role="alert"><strong>Not done:</strong> ${o.message}</p>`
-}
-
-export function statusOf(o: WriteOutcome): ContentfulStatusCode {
-  return o.status
 }
