@@ -13,6 +13,7 @@ import { parseArgs } from 'node:util'
 import { parseConfig } from '../src/config.ts'
 import { openDb } from '../src/db/connection.ts'
 import { importDocuments } from '../src/ingest/import.ts'
+import { exactJaccard, shingleSet, tokenHashes } from '../src/ingest/minhash.ts'
 import { ingestSources } from '../src/ingest/stage.ts'
 import { rawInsertRate } from './limits.ts'
 import { reportBench } from './report.ts'
@@ -41,6 +42,8 @@ export interface Corpus {
   n: number
   /** [repost line index, original line index] of planted near or exact reposts */
   pairs: [number, number][]
+  /** the texts, to compute the true similarity of the planted pairs */
+  texts: string[]
 }
 
 /** Writes n JobPosting lines (~1.2 KB of text each) over 36 months, about 8 % reposts (2 % exact). */
@@ -57,8 +60,8 @@ export function writeCorpus(file: string, n: number, seed = 11): Corpus {
       const orig = i - 1 - Math.floor(rand() * Math.min(i - 1, 400))
       const words = texts[orig]!.split(' ')
       if (r >= 0.02) {
-        // a near repost: two or three words changed in ~170 (Jaccard of 4-word shingles about 0.9-0.95)
-        for (let k = 0; k < 2 + Math.floor(rand() * 2); k++) words[Math.floor(rand() * words.length)] = `reposted${Math.floor(rand() * 1000)}`
+        // a near repost: one to three words changed in ~170 (Jaccard of 4-word shingles about 0.87-0.96)
+        for (let k = 0; k < 1 + Math.floor(rand() * 3); k++) words[Math.floor(rand() * words.length)] = `reposted${Math.floor(rand() * 1000)}`
       }
       text = words.join(' ')
       pairs.push([i, orig])
@@ -70,7 +73,7 @@ export function writeCorpus(file: string, n: number, seed = 11): Corpus {
     const month = Math.floor((i / n) * 36)
     const day = 1 + Math.floor(rand() * 28)
     const date = `${2022 + Math.floor(month / 12)}-${String((month % 12) + 1).padStart(2, '0')}-${String(day).padStart(2, '0')}`
-    buf += JSON.stringify({ '@type': 'JobPosting', identifier: `bench-${i}`, title: `Role ${i % 97}`, description: `<p>${text}</p>`, datePosted: date, skills: 'Python, SQL' }) + '\n'
+    buf += JSON.stringify({ '@type': 'JobPosting', identifier: `bench-${i}`, title: 'Cooperative role', description: `<p>${text}</p>`, datePosted: date, skills: 'Python, SQL' }) + '\n'
     if (buf.length > 1 << 20) {
       fs.writeSync(out, buf)
       buf = ''
@@ -78,7 +81,12 @@ export function writeCorpus(file: string, n: number, seed = 11): Corpus {
   }
   fs.writeSync(out, buf)
   fs.closeSync(out)
-  return { file, n, pairs }
+  return { file, n, pairs, texts }
+}
+
+function cpuSeconds(since: NodeJS.CpuUsage): number {
+  const u = process.cpuUsage(since)
+  return (u.user + u.system) / 1e6
 }
 
 async function main(): Promise<void> {
@@ -91,16 +99,22 @@ async function main(): Promise<void> {
 
     // source path: one streaming pass with dedupe
     const config = parseConfig({ sources: [{ id: 'bench', kind: 'jsonl', location: corpus.file }] })
+    const load = os.loadavg()[0]!
     const db1 = openDb(path.join(dir, 'a.db'))
     let t0 = performance.now()
+    let cpu0 = process.cpuUsage()
     const [report] = await ingestSources(db1, config, {})
     const sourceSec = (performance.now() - t0) / 1000
+    const sourceCpu = cpuSeconds(cpu0)
     if (report!.counts.read !== n) throw new Error(`read ${report!.counts.read} of ${n}`)
     // recall and precision of the planted reposts (line i is document id i + 1)
     const dupOf = new Map<number, number>()
     for (const r of db1.prepare('SELECT id, duplicate_of FROM documents WHERE duplicate_of IS NOT NULL').all() as { id: number; duplicate_of: number }[]) dupOf.set(r.id - 1, r.duplicate_of - 1)
     const root = (i: number): number => dupOf.get(i) ?? i
-    const found = corpus.pairs.filter(([rep, orig]) => dupOf.has(rep) && root(rep) === root(orig)).length
+    // the truth: planted pairs whose 4-word-shingle Jaccard (title and text, as dedupe sees them) is >= 0.9
+    const shingles = (i: number) => shingleSet(tokenHashes(`Cooperative role\n${corpus.texts[i]}`), 4)
+    const truePairs = corpus.pairs.filter(([rep, orig]) => exactJaccard(shingles(rep), shingles(orig)) >= 0.9)
+    const found = truePairs.filter(([rep, orig]) => dupOf.has(rep) && root(rep) === root(orig)).length
     const planted = new Set(corpus.pairs.map(([rep]) => rep))
     const falsePositives = [...dupOf.keys()].filter((i) => !planted.has(i)).length
     db1.close()
@@ -108,8 +122,10 @@ async function main(): Promise<void> {
     // import path: whole file checked, then stored
     const db2 = openDb(path.join(dir, 'b.db'))
     t0 = performance.now()
+    cpu0 = process.cpuUsage()
     const imp = await importDocuments(db2, config, 'postings', corpus.file, { skipBad: false })
     const importSec = (performance.now() - t0) / 1000
+    const importCpu = cpuSeconds(cpu0)
     if (imp.refused) throw new Error('import refused')
     db2.close()
 
@@ -119,11 +135,15 @@ async function main(): Promise<void> {
     reportBench('ingest', [
       { figure: `postings (JSON Lines, ${mb.toFixed(0)} MB)`, value: n, unit: 'docs' },
       { figure: 'jsonl source incl. dedupe', value: sourceRate, unit: 'docs/s', goal: '>= 10,000', met: sourceRate >= 10_000 },
+      // on a shared machine the wall clock also counts other processes' time; CPU time does not
+      { figure: 'jsonl source incl. dedupe, per CPU second', value: n / sourceCpu, unit: 'docs/s' },
       { figure: 'import postings (check + store)', value: importRate, unit: 'docs/s' },
+      { figure: 'import postings, per CPU second', value: n / importCpu, unit: 'docs/s' },
       { figure: 'raw SQLite insert (prepared, one tx)', value: raw, unit: 'rows/s' },
       { figure: 'source rate / raw insert rate', value: sourceRate / raw, unit: 'ratio' },
-      { figure: 'planted reposts found (recall)', value: found / corpus.pairs.length, unit: 'fraction' },
+      { figure: `planted reposts at J >= 0.9 found (of ${truePairs.length})`, value: found / truePairs.length, unit: 'recall' },
       { figure: 'postings wrongly marked reposts', value: falsePositives, unit: 'docs' },
+      { figure: `load average at start (${os.cpus().length} cores)`, value: load, unit: '' },
     ])
   } finally {
     fs.rmSync(dir, { recursive: true, force: true })

@@ -14,7 +14,8 @@
 import { type DocumentStore, maxDocumentId } from '../db/documents.ts'
 import { type BandFilter, buildBandFilter, cachedBandFilter } from './band-filter.ts'
 import type { DocumentInput } from './document.ts'
-import { bandKeys, estimateJaccard, fmix32, exactJaccard, minhashSeeds, minhashSignature, shingleHashes, shingleSet, signatureFromBytes, toSortedSet } from './minhash.ts'
+import { bandKeys, estimateJaccard, exactJaccard, minhashSeeds, minhashSignature, shingleHashes, shingleSet, signatureFromBytes, toSortedSet } from './minhash.ts'
+import { PendingBands } from './pending-bands.ts'
 import { normalisedTextHash } from './text.ts'
 
 export interface DedupeParams {
@@ -51,10 +52,6 @@ export function indexSignature(p: DedupeParams): string {
 /** Postings whose signature and shingles stay in memory (about 1 KB each). */
 const CACHE_SIZE = 30_000
 
-function pendingSlot(band: number, h: number): number {
-  return fmix32(h ^ Math.imul(band + 1, 0x27d4eb2f)) & 0x3fffffff
-}
-
 interface Known {
   signature: Uint32Array
   /** the root of its chain: itself, or the original it reposts */
@@ -73,14 +70,8 @@ export class Deduper {
   private filter: BandFilter | null
   private lookups = 0
   private readonly buildAfter: number
-  /** band keys (stored form) of the open batch and their documents, written sorted when it ends */
-  private pendingKeys: number[] = []
-  private pendingIds: number[] = []
-  /**
-   * the same, for lookups: a 30-bit mix of band and key (a small integer, cheap as a Map key) to
-   * the document id, or ids when several share it; a collision only adds a candidate to verify
-   */
-  private pendingIndex = new Map<number, number | number[]>()
+  /** band keys of the open batch and their documents, written sorted when it ends */
+  private readonly pending = new PendingBands()
 
   constructor(
     private readonly store: DocumentStore,
@@ -105,16 +96,13 @@ export class Deduper {
     return { textHash: hash, shingles, signature, keys: bandKeys(signature, this.params.bands) }
   }
 
-  /**
-   * Decides against what was stored before document `id` (including earlier documents of the
-   * same batch); `id` itself is already inserted.
-   */
-  decide(id: number, a: Analysis, kind: DocumentInput['kind']): Decision {
+  /** Decides against what is stored (including earlier documents of the same batch). */
+  decide(a: Analysis, kind: DocumentInput['kind']): Decision {
     const none: Decision = { duplicateOf: null, similarity: null, how: null }
     if (kind !== 'posting') return none
     if (!this.filter && ++this.lookups >= this.buildAfter) this.rebuildFilter(200_000 * (this.params.bands + 1))
     const f = this.filter
-    const same = !f || f.hasText(a.textHash) ? this.store.sameText(a.textHash, id) : undefined
+    const same = !f || f.hasText(a.textHash) ? this.store.sameText(a.textHash) : undefined
     if (same) return { duplicateOf: same.duplicate_of ?? same.id, similarity: 1, how: 'exact' }
     const keys = a.keys
     if (!a.signature || !keys) return none
@@ -146,15 +134,8 @@ export class Deduper {
     }
     const keys = a.keys
     for (let band = 0; band < keys.length; band++) {
-      const h = keys[band]!
-      this.pendingKeys.push(band * 0x1_0000_0000 + h)
-      this.pendingIds.push(id)
-      const slot = pendingSlot(band, h)
-      const there = this.pendingIndex.get(slot)
-      if (there === undefined) this.pendingIndex.set(slot, id)
-      else if (typeof there === 'number') this.pendingIndex.set(slot, [there, id])
-      else there.push(id)
-      f?.addBand(band, h)
+      this.pending.add(band, keys[band]!, id)
+      f?.addBand(band, keys[band]!)
     }
     if (f) {
       f.addText(a.textHash)
@@ -166,36 +147,23 @@ export class Deduper {
 
   /** Writes the open batch's band keys, sorted by key (call inside the batch transaction). */
   flushBands(): void {
-    const keys = this.pendingKeys
-    const ids = this.pendingIds
-    const order = Array.from(keys.keys())
-    order.sort((x, y) => keys[x]! - keys[y]! || ids[x]! - ids[y]!)
-    this.store.insertBandRows(order.map((i) => [keys[i]!, ids[i]!] as const))
-    this.clearPending()
+    this.store.insertBandRows(this.pending.sortedRows())
+    this.pending.clear()
   }
 
   /** Forgets what the rolled-back batch added (its ids will be reused). */
   forget(): void {
     this.known.clear()
-    this.clearPending()
-  }
-
-  private clearPending(): void {
-    this.pendingKeys = []
-    this.pendingIds = []
-    this.pendingIndex.clear()
+    this.pending.clear()
   }
 
   /** Stored documents and documents of the open batch sharing a band key. */
   private candidates(keys: readonly number[]): number[] {
     const ids = this.store.candidates(keys)
-    if (this.pendingIndex.size === 0) return ids
+    if (this.pending.size === 0) return ids
     const all = new Set(ids)
-    keys.forEach((h, band) => {
-      const there = this.pendingIndex.get(pendingSlot(band, h))
-      if (typeof there === 'number') all.add(there)
-      else if (there) for (const id of there) all.add(id)
-    })
+    const add = (id: number) => all.add(id)
+    for (let band = 0; band < keys.length; band++) this.pending.forEach(band, keys[band]!, add)
     return [...all]
   }
 
@@ -216,7 +184,7 @@ export class Deduper {
   private rebuildFilter(extra: number): void {
     // the table lacks the open batch's keys: add them, or the filter would deny them
     const f = buildBandFilter(this.store.db, extra)
-    for (const key of this.pendingKeys) f.addStored(key)
+    this.pending.forEachKey((band, key) => f.addBand(band, key))
     this.filter = f
   }
 }

@@ -58,15 +58,19 @@ function identifierOf(v: Json | undefined): string | null {
 export function skillsOf(v: Json | undefined): string[] | null {
   if (v === undefined || v === null) return null
   const out: string[] = []
-  const add = (x: Json) => {
-    if (typeof x === 'string') out.push(...x.split(/[,;|\n]/).map((s) => s.trim()).filter(Boolean))
-    else if (isObject(x)) {
+  // a plain loop, no inner function: this runs once per posting
+  const list = Array.isArray(v) ? v : [v]
+  for (const x of list) {
+    if (typeof x === 'string') {
+      for (const part of x.split(/[,;|\n]/)) {
+        const s = part.trim()
+        if (s) out.push(s)
+      }
+    } else if (isObject(x)) {
       const name = textOf(x, 'skills', ['name', 'termCode'])
       if (name) out.push(name)
     }
   }
-  if (Array.isArray(v)) v.forEach(add)
-  else add(v)
   const unique = [...new Set(out)].slice(0, 200)
   for (const s of unique) if (s.length > LIMITS.skills) throw new ItemError('skills', `an entry is longer than ${LIMITS.skills} characters`)
   return unique.length ? unique : null

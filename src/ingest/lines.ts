@@ -55,37 +55,47 @@ export function* linesOfBuffer(buf: Buffer, base = 0, firstLine = 1): Generator<
 export function* linesOfFile(file: string, offset = 0, firstLine = 1, chunkSize = 4 << 20, maxLine = 16 << 20): Generator<Line & { tooLong?: boolean }> {
   const fd = fs.openSync(file, 'r')
   try {
-    let pos = offset
+    // one buffer, reused: the unfinished last line moves to its front and the next read follows it
+    let buf = Buffer.alloc(chunkSize)
+    let pos = offset // file offset of buf[0]
+    let have = 0 // bytes of an unfinished line at the front of buf
     let line = firstLine
-    let carry = Buffer.alloc(0)
     let skipping = false
-    const chunk = Buffer.alloc(chunkSize)
     for (;;) {
-      const n = fs.readSync(fd, chunk, 0, chunkSize, pos + carry.length)
+      if (buf.length - have < chunkSize) {
+        const bigger = Buffer.alloc(have + chunkSize)
+        buf.copy(bigger, 0, 0, have)
+        buf = bigger
+      }
+      const n = fs.readSync(fd, buf, have, buf.length - have, pos + have)
       const eof = n === 0
-      const buf = carry.length ? Buffer.concat([carry, chunk.subarray(0, n)]) : chunk.subarray(0, n)
+      const end = have + n
       let start = pos === 0 && buf[0] === 0xef && buf[1] === 0xbb && buf[2] === 0xbf ? 3 : 0
       for (;;) {
         const nl = buf.indexOf(0x0a, start)
-        if (nl === -1) break
+        if (nl === -1 || nl >= end) break
         if (skipping) skipping = false
         else yield { line, ...decode(buf, start, nl, pos), end: pos + nl + 1, terminated: true }
         line++
         start = nl + 1
       }
-      const rest = buf.subarray(start)
+      const rest = end - start
       if (eof) {
-        if (rest.length && !skipping) yield { line, ...decode(rest, 0, rest.length, pos + start), end: pos + buf.length, terminated: false }
+        if (rest > 0 && !skipping) yield { line, ...decode(buf, start, end, pos), end: pos + end, terminated: false }
         return
       }
       pos += start
-      if (rest.length > maxLine) {
+      if (rest > maxLine) {
         // a line without end in sight: report it once and skip to its line break
         if (!skipping) yield { line, text: null, invalidAt: -1, end: pos, terminated: true, tooLong: true }
         skipping = true
-        pos += rest.length
-        carry = Buffer.alloc(0)
-      } else carry = Buffer.from(rest)
+        pos += rest
+        have = 0
+        if (buf.length > 2 * chunkSize) buf = Buffer.alloc(chunkSize)
+      } else {
+        buf.copyWithin(0, start, end)
+        have = rest
+      }
     }
   } finally {
     fs.closeSync(fd)

@@ -96,9 +96,9 @@ export function htmlToText(html: string): string {
 const CONTROL = /[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f\u200b\ufeff]/
 // eslint-disable-next-line no-control-regex
 const CONTROL_ALL = /[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f\u200b\ufeff]/g
-// a run of two or more blanks, or any single tab, no-break space or line break; single spaces (the
-// bulk of any text) fail at their second character, which keeps this pass cheap
-const SPACES = /[ \t\u00a0\n]{2,}|[\t\u00a0\n]/g
+const HAS_RUN = /[\t\u00a0]| {2}|\n[ \n]| \n/
+const LINE_BREAK_RUN = /[ \t\u00a0]*\n[ \t\u00a0\n]*/g
+const BLANK_RUN = /[ \t\u00a0]{2,}|[\t\u00a0]/g
 
 /**
  * Removes control characters (keeping line breaks), collapses runs of spaces and blank lines, trims.
@@ -108,7 +108,9 @@ export function cleanText(text: string): string {
   let t = text
   if (CONTROL.test(t)) t = t.replace(CONTROL_ALL, '')
   if (t.includes('\r')) t = t.replace(/\r\n?/g, '\n')
-  return t.replace(SPACES, (m) => (m.includes('\n') ? '\n' : ' ')).trim()
+  // string replacements (no callback per match), and none at all for already tidy text
+  if (HAS_RUN.test(t)) t = t.replace(LINE_BREAK_RUN, '\n').replace(BLANK_RUN, ' ')
+  return t.trim()
 }
 
 /** sha1 hex of a string: content-derived external ids (stable across runs and machines). */

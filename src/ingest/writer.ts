@@ -122,7 +122,14 @@ export class BatchWriter {
     const tx = this.db.transaction(() => {
       for (const { doc } of batch) {
         delta.read++
+        if (this.store.existing(this.sourceId, doc.externalId) !== undefined) {
+          // same source and external id: stored by an earlier run (or earlier in this one)
+          delta.alreadyStored++
+          delta.duplicate++
+          continue
+        }
         const a = this.deduper.analyse(doc)
+        const d = this.deduper.decide(a, doc.kind)
         const id = this.store.insertDocument({
           source_id: this.sourceId,
           external_id: doc.externalId,
@@ -133,24 +140,17 @@ export class BatchWriter {
           month: monthOf(doc.postedAt),
           date_estimated: doc.dateEstimated ? 1 : 0,
           text_hash: a.textHash,
-          duplicate_of: null,
-          dup_similarity: null,
+          duplicate_of: d.duplicateOf,
+          dup_similarity: d.similarity,
           occupation: doc.occupation ?? null,
           organisation: doc.organisation ?? null,
           location: doc.location ?? null,
           channel: doc.channel ?? null,
           team: doc.team ?? null,
           skills_json: doc.skills && doc.skills.length ? JSON.stringify(doc.skills) : null,
-          signature: a.signature ? signatureToBytes(a.signature) : null,
-        })
-        if (id === null) {
-          // same source and external id: stored by an earlier run (or earlier in this one)
-          delta.alreadyStored++
-          delta.duplicate++
-          continue
-        }
-        const d = this.deduper.decide(id, a, doc.kind)
-        if (d.duplicateOf !== null) this.store.setDuplicate(id, d.duplicateOf, d.similarity!, d.how === 'exact')
+          // an exact-text repost keeps no signature of its own: it equals its original's
+          signature: a.signature && d.how !== 'exact' ? signatureToBytes(a.signature) : null,
+        })!
         this.deduper.stored(id, a, d)
         stored.push(id)
         firstId ??= id
