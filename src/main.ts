@@ -7,13 +7,11 @@
  */
 process.env['DOTENV_CONFIG_QUIET'] = 'true'
 
-import { JOBS } from '../jobs/index.ts'
 import { ConfigError, loadConfig } from './config.ts'
 import { DbError, getSetting, openDb } from './db/connection.ts'
 import { closeAbandonedRuns } from './db/runs.ts'
 import { runDemo } from './demo/load.ts'
 import { runPipeline } from './pipeline.ts'
-import { startSchedules } from './schedule.ts'
 import { serve } from './serve.ts'
 
 async function start(): Promise<void> {
@@ -33,8 +31,7 @@ async function start(): Promise<void> {
     const outcomes = await runPipeline(db, config, ['all'], { log, waitMs: 60_000 })
     for (const o of outcomes) log(`${o.stage}: ${o.error ? `FAILED: ${o.error}` : o.result!.summary}`)
   }
-  const scheduler = startSchedules(db, config, JOBS, log)
-  running.closed.then(() => scheduler.stop()).catch(() => {})
+  running.startSchedules()
   log(`ready in ${((performance.now() - started) / 1000).toFixed(1)} s`)
   process.stdout.write(`\nskill-tides dashboard: ${running.url}\n(estimates with uncertainty; a human decides. Ctrl-C stops.)\n`)
 }

@@ -13,7 +13,9 @@ import { createApp, warmUp, type AppOptions } from './server/app.ts'
 
 export interface Running {
   url: string
-  scheduler: Scheduler | null
+  readonly scheduler: Scheduler | null
+  /** starts the schedules if they are not running yet (npm start does so after the first pipeline run) */
+  startSchedules(): void
   /** resolves when the server has shut down (SIGINT/SIGTERM or close()) */
   closed: Promise<void>
   close(): Promise<void>
@@ -63,7 +65,10 @@ export async function serve(db: Db, config: Config, opts: ServeOptions): Promise
   })
   const address = server.address() as AddressInfo
   const url = `http://${host.includes(':') ? `[${host}]` : host}:${address.port}/`
-  if (opts.schedules) scheduler = startSchedules(db, config, JOBS, opts.log)
+  const begin = (): void => {
+    scheduler ??= startSchedules(db, config, JOBS, opts.log)
+  }
+  if (opts.schedules) begin()
   setImmediate(() => {
     try {
       warmUp(db, config)
@@ -83,5 +88,13 @@ export async function serve(db: Db, config: Config, opts: ServeOptions): Promise
     process.once('SIGINT', onSignal)
     process.once('SIGTERM', onSignal)
   }
-  return { url, scheduler, closed, close }
+  return {
+    url,
+    get scheduler() {
+      return scheduler
+    },
+    startSchedules: begin,
+    closed,
+    close,
+  }
 }
