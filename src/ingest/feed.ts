@@ -89,15 +89,18 @@ export function stripDoctype(xml: string): { xml: string; declaredEntities: bool
 /** offsets of the line breaks of the last text asked about (one feed is read at a time) */
 let breaks: { text: string; at: number[] } | null = null
 
-/** Offsets of the item (or entry) start tags, skipping comments and CDATA sections. */
+/**
+ * Offsets of the item (or entry) start tags, skipping those inside complete comments. CDATA is not
+ * skipped: a stray "<![CDATA[" in damaged input would otherwise hide every item up to the next "]]>".
+ */
 function itemStarts(xml: string, tag: string): number[] {
-  const re = new RegExp(`<!--[\\s\\S]*?(?:-->|$)|<!\\[CDATA\\[[\\s\\S]*?(?:\\]\\]>|$)|<${tag}[\\s>]`, 'g')
+  const re = new RegExp(`<!--[\\s\\S]*?-->|<${tag}[\\s>]`, 'g')
   return [...xml.matchAll(re)].filter((m) => m[0].startsWith(`<${tag}`)).map((m) => m.index!)
 }
 
 /** Comments replaced by spaces (line breaks kept), so that markup inside them is not taken for items. */
 function maskComments(xml: string): string {
-  return xml.replace(/<!--[\s\S]*?(?:-->|$)/g, (m) => m.replace(/[^\n]/g, ' '))
+  return xml.replace(/<!--[\s\S]*?-->/g, (m) => m.replace(/[^\n]/g, ' '))
 }
 
 /** 1-based line of `offset`, by binary search over the text's line breaks (found once per text). */
