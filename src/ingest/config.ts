@@ -62,6 +62,11 @@ export const ingestConfigSchema = z
      * often; 5,000 wrote 2.4 times fewer bytes than 1,000 on the demo's 90,000 documents
      */
     batchSize: z.number().int().positive().default(5000),
+    /**
+     * JSON Lines files with at least this many bytes left to read are parsed on a second thread
+     * while the main thread stores (0 = always, a huge number = never)
+     */
+    parseWorkerMinBytes: z.number().int().min(0).default(8_000_000),
     /** a title plus description longer than this is rejected (with the reason), not cut */
     maxTextChars: z.number().int().positive().default(100_000),
     dedupe: z

@@ -14,7 +14,7 @@
 import { type DocumentStore, maxDocumentId } from '../db/documents.ts'
 import { type BandFilter, buildBandFilter, cachedBandFilter } from './band-filter.ts'
 import type { DocumentInput } from './document.ts'
-import { bandKeys, estimateJaccard, exactJaccard, minhashSeeds, minhashSignature, shingleHashes, shingleSet, signatureFromBytes, toSortedSet } from './minhash.ts'
+import { bandKeys, estimateJaccard, exactJaccard, minhashSignature, shingleHashes, shingleSet, signatureFromBytes, toSortedSet } from './minhash.ts'
 import { PendingBands } from './pending-bands.ts'
 import { normalisedTextHash } from './text.ts'
 
@@ -46,7 +46,20 @@ export function dedupeText(doc: Pick<DocumentInput, 'title' | 'body'>): string {
 
 /** Settings that signatures and band keys depend on; stored so that a change triggers a rebuild. */
 export function indexSignature(p: DedupeParams): string {
-  return `minhash-v1:k=${p.numHashes}:b=${p.bands}:w=${p.shingleSize}`
+  return `minhash-oph-v2:k=${p.numHashes}:b=${p.bands}:w=${p.shingleSize}`
+}
+
+/**
+ * The text hash, shingles, MinHash signature and band keys of a document: pure, so that a worker
+ * thread can compute them while the main thread stores the previous batch.
+ */
+export function analyseDocument(doc: Pick<DocumentInput, 'title' | 'body' | 'kind'>, params: DedupeParams): Analysis {
+  const { hash, tokens } = normalisedTextHash(dedupeText(doc))
+  if (doc.kind !== 'posting') return { textHash: hash, shingles: new Uint32Array(0), signature: null, keys: null }
+  const shingles = shingleHashes(tokens, params.shingleSize)
+  if (shingles.length === 0) return { textHash: hash, shingles, signature: null, keys: null }
+  const signature = minhashSignature(shingles, params.numHashes)
+  return { textHash: hash, shingles, signature, keys: bandKeys(signature, params.bands) }
 }
 
 /** Postings whose signature and shingles stay in memory (about 1 KB each). */
@@ -61,7 +74,6 @@ interface Known {
 }
 
 export class Deduper {
-  private readonly seeds: Uint32Array
   /** recently stored postings: candidates are checked without a query while they are here */
   private readonly known = new Map<number, Known>()
   /** candidates whose estimate is this far below the threshold are not worth an exact check */
@@ -78,7 +90,6 @@ export class Deduper {
     readonly params: DedupeParams,
   ) {
     if (params.numHashes % params.bands !== 0) throw new Error(`ingest.dedupe.numHashes (${params.numHashes}) must be a multiple of ingest.dedupe.bands (${params.bands})`)
-    this.seeds = minhashSeeds(params.numHashes)
     // four standard errors of the estimate at its widest (J = 0.5): sqrt(0.25 / k) each
     this.slack = 4 * Math.sqrt(0.25 / params.numHashes)
     this.filter = cachedBandFilter(store.db)
@@ -88,12 +99,7 @@ export class Deduper {
   }
 
   analyse(doc: Pick<DocumentInput, 'title' | 'body' | 'kind'>): Analysis {
-    const { hash, tokens } = normalisedTextHash(dedupeText(doc))
-    if (doc.kind !== 'posting') return { textHash: hash, shingles: new Uint32Array(0), signature: null, keys: null }
-    const shingles = shingleHashes(tokens, this.params.shingleSize)
-    if (shingles.length === 0) return { textHash: hash, shingles, signature: null, keys: null }
-    const signature = minhashSignature(shingles, this.seeds)
-    return { textHash: hash, shingles, signature, keys: bandKeys(signature, this.params.bands) }
+    return analyseDocument(doc, this.params)
   }
 
   /** Decides against what is stored (including earlier documents of the same batch). */

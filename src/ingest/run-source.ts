@@ -16,6 +16,7 @@ import { ItemError } from './document.ts'
 import { readFeed } from './feed.ts'
 import { type FetchOptions, fetchSource } from './http-fetch.ts'
 import { type Line, linesOfBuffer, linesOfFile } from './lines.ts'
+import { LineParser, writeLinesInParallel } from './parse-pool.ts'
 import { type LineKind, documentFromLine, requestsFromCsv } from './readers.ts'
 import { decodeBytes } from './text.ts'
 import type { BatchWriter } from './writer.ts'
@@ -159,21 +160,36 @@ export async function runJsonLines(env: SourceEnv, source: SourceConfig, row: So
   }
   if (start.offset === size) return { ...OK, details: { unchanged: 'no new lines since the last run', resumedAt: start } }
   let n = 0
-  for (const l of linesOfFile(file, start.offset, start.line)) {
-    // an unterminated last line may still be being written: read it, but resume before it next time
-    const cursor = l.terminated && env.track !== false ? JSON.stringify({ offset: l.end, line: l.line + 1, head } satisfies FileCursor) : undefined
-    try {
-      const doc = documentFromLine(l, kind)
-      if (doc) writer.add(doc, { file: where, line: l.line }, cursor)
-      else if (cursor) writer.advance(cursor)
-    } catch (err) {
-      lineProblem(writer, where, l, err)
-      if (cursor) writer.advance(cursor)
-    }
+  // an unterminated last line may still be being written: read it, but resume before it next time
+  const cursorOf = (l: Line) => (l.terminated && env.track !== false ? JSON.stringify({ offset: l.end, line: l.line + 1, head } satisfies FileCursor) : undefined)
+  const progress = (l: Line) => {
     if (onFraction && ++n % 1000 === 0) onFraction(l.end / size)
   }
+  const lines = linesOfFile(file, start.offset, start.line)
+  const parallel = size - start.offset >= env.config.ingest.parseWorkerMinBytes
+  if (parallel) {
+    const parser = await LineParser.start({ dedupe: env.config.ingest.dedupe, maxTextChars: env.config.ingest.maxTextChars })
+    try {
+      await writeLinesInParallel(parser, lines, kind, writer, where, cursorOf, progress)
+    } finally {
+      await parser.close()
+    }
+  } else {
+    for (const l of lines) {
+      const cursor = cursorOf(l)
+      try {
+        const doc = documentFromLine(l, kind)
+        if (doc) writer.add(doc, { file: where, line: l.line }, cursor)
+        else if (cursor) writer.advance(cursor)
+      } catch (err) {
+        lineProblem(writer, where, l, err)
+        if (cursor) writer.advance(cursor)
+      }
+      progress(l)
+    }
+  }
   writer.flush()
-  return { ...OK, details: { resumedAt: start.offset > 0 ? start : undefined } }
+  return { ...OK, details: { resumedAt: start.offset > 0 ? start : undefined, parseWorker: parallel } }
 }
 
 /** A request log: CSV (read whole) or JSON Lines (streamed), by option, extension or Content-Type. */

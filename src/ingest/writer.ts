@@ -11,7 +11,7 @@ import type { Db } from '../db/connection.ts'
 import { DocumentStore, ensureCacheSize, setSourceCursor } from '../db/documents.ts'
 import { emit } from '../events/outbox.ts'
 import { monthOf } from './dates.ts'
-import { Deduper } from './dedupe.ts'
+import { type Analysis, Deduper } from './dedupe.ts'
 import { checkDocument, type DocumentInput, ItemError, type ItemProblem } from './document.ts'
 import { signatureToBytes } from './minhash.ts'
 import { ensureDedupeIndex } from './reindex.ts'
@@ -47,6 +47,8 @@ export const MAX_PROBLEMS_KEPT = 100
 interface Pending {
   doc: DocumentInput
   where: { file: string; line?: number }
+  /** computed ahead (by a parse worker), else computed at flush */
+  analysis?: Analysis
 }
 
 export class BatchWriter {
@@ -86,7 +88,7 @@ export class BatchWriter {
   }
 
   /** Queues a document; the batch commits when full. `cursor` is the resume point after this item. */
-  add(doc: DocumentInput, where: { file: string; line?: number }, cursor?: string | null): void {
+  add(doc: DocumentInput, where: { file: string; line?: number }, cursor?: string | null, analysis?: Analysis): void {
     try {
       checkDocument(doc, this.maxTextChars)
     } catch (err) {
@@ -95,7 +97,7 @@ export class BatchWriter {
       if (cursor !== undefined) this.cursor = cursor
       return
     }
-    this.pending.push({ doc, where })
+    this.pending.push({ doc, where, analysis })
     if (cursor !== undefined) this.cursor = cursor
     if (this.pending.length >= this.batchSize) this.flush()
   }
@@ -120,7 +122,7 @@ export class BatchWriter {
     let firstId: number | null = null
     let lastId: number | null = null
     const tx = this.db.transaction(() => {
-      for (const { doc } of batch) {
+      for (const { doc, analysis } of batch) {
         delta.read++
         if (this.store.existing(this.sourceId, doc.externalId) !== undefined) {
           // same source and external id: stored by an earlier run (or earlier in this one)
@@ -128,7 +130,7 @@ export class BatchWriter {
           delta.duplicate++
           continue
         }
-        const a = this.deduper.analyse(doc)
+        const a = analysis ?? this.deduper.analyse(doc)
         const d = this.deduper.decide(a, doc.kind)
         const id = this.store.insertDocument({
           source_id: this.sourceId,

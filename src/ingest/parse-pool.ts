@@ -1,0 +1,143 @@
+/**
+ * @module ingest/parse-pool
+ * Parsing on a second core for large JSON Lines inputs: the main thread reads lines and stores
+ * documents while one worker thread parses the next chunk of lines and computes their dedupe
+ * analysis. Results come back in order, so cursors, problems and dedupe decisions are exactly
+ * those of the single-threaded path (tested by comparing database contents).
+ */
+import { Worker } from 'node:worker_threads'
+import type { Analysis, DedupeParams } from './dedupe.ts'
+import type { DocumentInput } from './document.ts'
+import type { Line } from './lines.ts'
+import type { LineKind } from './readers.ts'
+import type { BatchWriter } from './writer.ts'
+
+export interface ParserSetup {
+  dedupe: DedupeParams
+  maxTextChars: number
+}
+
+export interface ParseRequest {
+  id: number
+  kind: LineKind
+  lines: Line[]
+}
+
+export interface ParsedLine {
+  line: number
+  doc?: DocumentInput
+  analysis?: Analysis
+  problem?: { field?: string; reason: string }
+}
+
+export interface ParseResponse {
+  id: number
+  out?: ParsedLine[]
+  error?: string
+}
+
+/** Lines per message: large enough that messaging costs little, small enough to keep both threads busy. */
+export const CHUNK_LINES = 1000
+
+export class LineParser {
+  private readonly waiting = new Map<number, { resolve: (r: ParsedLine[]) => void; reject: (e: Error) => void }>()
+  private nextId = 0
+  private failure: Error | null = null
+
+  private constructor(private readonly worker: Worker) {
+    worker.on('message', (msg: ParseResponse) => {
+      const w = this.waiting.get(msg.id)
+      if (!w) return
+      this.waiting.delete(msg.id)
+      if (msg.error !== undefined) w.reject(new Error(`parse worker: ${msg.error}`))
+      else w.resolve(msg.out ?? [])
+    })
+    worker.on('error', (err) => {
+      this.failure = err
+      for (const w of this.waiting.values()) w.reject(err)
+      this.waiting.clear()
+    })
+  }
+
+  /** Starts the worker and waits until it is ready. */
+  static async start(setup: ParserSetup): Promise<LineParser> {
+    // The worker runs the TypeScript sources too: register tsx inside it first (hooks given with
+    // --import do not reach a worker's entry module on Node 20), then import the worker module.
+    const target = new URL('./parse-worker.ts', import.meta.url).href
+    const api = import.meta.resolve('tsx/esm/api')
+    const bootstrap = `import(${JSON.stringify(api)}).then((m) => { m.register(); return import(${JSON.stringify(target)}) })`
+    const worker = new Worker(bootstrap, { eval: true, workerData: setup })
+    await new Promise<void>((resolve, reject) => {
+      const onFirst = (msg: ParseResponse) => {
+        if (msg.id !== -1) return
+        worker.off('message', onFirst)
+        worker.off('error', reject)
+        resolve()
+      }
+      worker.on('message', onFirst)
+      worker.once('error', reject)
+    })
+    return new LineParser(worker)
+  }
+
+  parse(kind: LineKind, lines: Line[]): Promise<ParsedLine[]> {
+    if (this.failure) return Promise.reject(this.failure)
+    return new Promise((resolve, reject) => {
+      const id = this.nextId++
+      this.waiting.set(id, { resolve, reject })
+      this.worker.postMessage({ id, kind, lines } satisfies ParseRequest)
+    })
+  }
+
+  async close(): Promise<void> {
+    await this.worker.terminate()
+  }
+}
+
+/**
+ * Feeds lines through the worker into the writer, in order, keeping up to three chunks in flight.
+ * @param cursorOf the resume point after a line (undefined: do not move it)
+ */
+export async function writeLinesInParallel(
+  parser: LineParser,
+  lines: Iterable<Line>,
+  kind: LineKind,
+  writer: BatchWriter,
+  file: string,
+  cursorOf: (l: Line) => string | undefined,
+  onLine?: (l: Line) => void,
+): Promise<void> {
+  const queue: { lines: Line[]; result: Promise<ParsedLine[]> }[] = []
+  const drain = async (keep: number) => {
+    while (queue.length > keep) {
+      const c = queue.shift()!
+      const results = await c.result
+      results.forEach((r, i) => {
+        const l = c.lines[i]!
+        const cursor = cursorOf(l)
+        if (r.problem) {
+          writer.problem({ file, line: r.line, field: r.problem.field, reason: r.problem.reason })
+          if (cursor !== undefined) writer.advance(cursor)
+        } else if (r.doc) writer.add(r.doc, { file, line: r.line }, cursor, r.analysis)
+        else if (cursor !== undefined) writer.advance(cursor)
+        onLine?.(l)
+      })
+    }
+  }
+  let chunk: Line[] = []
+  try {
+    for (const l of lines) {
+      chunk.push(l)
+      if (chunk.length === CHUNK_LINES) {
+        queue.push({ lines: chunk, result: parser.parse(kind, chunk) })
+        chunk = []
+        await drain(2)
+      }
+    }
+    if (chunk.length) queue.push({ lines: chunk, result: parser.parse(kind, chunk) })
+    await drain(0)
+  } finally {
+    // results still in flight after an error are not wanted; their rejections are not either
+    for (const c of queue) c.result.catch(() => {})
+  }
+}
