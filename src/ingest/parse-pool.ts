@@ -17,40 +17,78 @@ export interface ParserSetup {
   maxTextChars: number
 }
 
+/** A chunk of lines, sent as flat arrays (cheaper to clone than line objects). */
 export interface ParseRequest {
   id: number
   kind: LineKind
-  lines: Line[]
+  lines: Int32Array
+  texts: (string | null)[]
+  invalidAt: (number | undefined)[]
+  tooLong: Uint8Array
 }
 
 export interface ParsedLine {
   line: number
   doc?: DocumentInput
-  analysis?: Analysis
+  /** index of its analysis in the chunk's packed analyses */
+  analysis?: number
   problem?: { field?: string; reason: string }
+}
+
+/** The analyses of a chunk in a few flat arrays (transferred, not copied). */
+export interface PackedAnalyses {
+  hashes: string[]
+  /** 1 when analysis i has a signature (and band keys) */
+  flags: Uint8Array
+  sigs: Uint32Array
+  keys: Uint32Array
+  /** end offset of analysis i's shingles in `shingles` */
+  shingleEnds: Uint32Array
+  shingles: Uint32Array
 }
 
 export interface ParseResponse {
   id: number
   out?: ParsedLine[]
+  packed?: PackedAnalyses
   error?: string
+}
+
+/** Analysis i of a packed chunk, as views into the packed arrays (no copies). */
+export function unpackAnalysis(p: PackedAnalyses, i: number, k: number, bands: number): Analysis {
+  const start = i === 0 ? 0 : p.shingleEnds[i - 1]!
+  const has = p.flags[i] === 1
+  return {
+    textHash: p.hashes[i]!,
+    shingles: p.shingles.subarray(start, p.shingleEnds[i]!),
+    signature: has ? p.sigs.subarray(i * k, (i + 1) * k) : null,
+    keys: has ? Array.from(p.keys.subarray(i * bands, (i + 1) * bands)) : null,
+  }
 }
 
 /** Lines per message: large enough that messaging costs little, small enough to keep both threads busy. */
 export const CHUNK_LINES = 1000
 
+export interface ParsedChunk {
+  out: ParsedLine[]
+  packed: PackedAnalyses
+}
+
 export class LineParser {
-  private readonly waiting = new Map<number, { resolve: (r: ParsedLine[]) => void; reject: (e: Error) => void }>()
+  private readonly waiting = new Map<number, { resolve: (r: ParsedChunk) => void; reject: (e: Error) => void }>()
   private nextId = 0
   private failure: Error | null = null
 
-  private constructor(private readonly worker: Worker) {
+  private constructor(
+    private readonly worker: Worker,
+    readonly setup: ParserSetup,
+  ) {
     worker.on('message', (msg: ParseResponse) => {
       const w = this.waiting.get(msg.id)
       if (!w) return
       this.waiting.delete(msg.id)
       if (msg.error !== undefined) w.reject(new Error(`parse worker: ${msg.error}`))
-      else w.resolve(msg.out ?? [])
+      else w.resolve({ out: msg.out ?? [], packed: msg.packed! })
     })
     worker.on('error', (err) => {
       this.failure = err
@@ -77,15 +115,23 @@ export class LineParser {
       worker.on('message', onFirst)
       worker.once('error', reject)
     })
-    return new LineParser(worker)
+    return new LineParser(worker, setup)
   }
 
-  parse(kind: LineKind, lines: Line[]): Promise<ParsedLine[]> {
+  parse(kind: LineKind, lines: Line[]): Promise<ParsedChunk> {
     if (this.failure) return Promise.reject(this.failure)
     return new Promise((resolve, reject) => {
       const id = this.nextId++
       this.waiting.set(id, { resolve, reject })
-      this.worker.postMessage({ id, kind, lines } satisfies ParseRequest)
+      const req: ParseRequest = {
+        id,
+        kind,
+        lines: Int32Array.from(lines, (l) => l.line),
+        texts: lines.map((l) => l.text),
+        invalidAt: lines.map((l) => l.invalidAt),
+        tooLong: Uint8Array.from(lines, (l) => ((l as { tooLong?: boolean }).tooLong ? 1 : 0)),
+      }
+      this.worker.postMessage(req, [req.lines.buffer as ArrayBuffer, req.tooLong.buffer as ArrayBuffer])
     })
   }
 
@@ -107,18 +153,19 @@ export async function writeLinesInParallel(
   cursorOf: (l: Line) => string | undefined,
   onLine?: (l: Line) => void,
 ): Promise<void> {
-  const queue: { lines: Line[]; result: Promise<ParsedLine[]> }[] = []
+  const queue: { lines: Line[]; result: Promise<ParsedChunk> }[] = []
+  const { numHashes: k, bands } = parser.setup.dedupe
   const drain = async (keep: number) => {
     while (queue.length > keep) {
       const c = queue.shift()!
-      const results = await c.result
+      const { out: results, packed } = await c.result
       results.forEach((r, i) => {
         const l = c.lines[i]!
         const cursor = cursorOf(l)
         if (r.problem) {
           writer.problem({ file, line: r.line, field: r.problem.field, reason: r.problem.reason })
           if (cursor !== undefined) writer.advance(cursor)
-        } else if (r.doc) writer.add(r.doc, { file, line: r.line }, cursor, r.analysis)
+        } else if (r.doc) writer.add(r.doc, { file, line: r.line }, cursor, unpackAnalysis(packed, r.analysis!, k, bands))
         else if (cursor !== undefined) writer.advance(cursor)
         onLine?.(l)
       })
