@@ -13,7 +13,7 @@ const BUSY = /another pipeline run is in progress \(process \d+, lease until \d{
 
 let ws: Workspace
 beforeAll(() => {
-  ws = makeWorkspace({ n: 4000, months: 12, name: 'conc', batchSize: 250 })
+  ws = makeWorkspace({ n: 1000, months: 12, name: 'conc', batchSize: 250 })
   openDb(ws.db).close()
 })
 afterAll(() => ws?.cleanup())
@@ -74,7 +74,7 @@ describe('two pipeline runs at once', () => {
   })
 
   it('two real runs started together: exactly one works, the other refuses; nothing is stored twice', async () => {
-    const fresh = makeWorkspace({ n: 6000, months: 12, name: 'conc2', batchSize: 200 })
+    const fresh = makeWorkspace({ n: 4000, months: 12, name: 'conc2', batchSize: 200 })
     try {
       openDb(fresh.db).close()
       const first = startTides([...fresh.args, 'run', 'all'])
@@ -87,8 +87,8 @@ describe('two pipeline runs at once', () => {
       expect(second.code).toBe(1)
       expect(second.stderr).toMatch(BUSY)
       const docs = query<{ n: number; ids: number }>(fresh.db, 'SELECT COUNT(*) AS n, COUNT(DISTINCT external_id) AS ids FROM documents')[0]!
-      expect(docs.n).toBe(6000)
-      expect(docs.ids).toBe(6000)
+      expect(docs.n).toBe(4000)
+      expect(docs.ids).toBe(4000)
       const runs = query<{ status: string }>(fresh.db, "SELECT status FROM job_runs WHERE stage = 'ingest'")
       expect(runs.map((r) => r.status)).toEqual(['ok'])
     } finally {

@@ -15,7 +15,7 @@ let ws: Workspace
 let bases: Awaited<ReturnType<typeof prepareBases>>
 
 beforeAll(async () => {
-  ws = makeWorkspace({ n: 2500, months: 24, name: 'crash', batchSize: 100 })
+  ws = makeWorkspace({ n: 2000, months: 24, name: 'crash', batchSize: 50 })
   bases = await prepareBases(ws, prepare)
 }, 300_000)
 afterAll(() => ws?.cleanup())

@@ -8,6 +8,7 @@
  */
 import fs from 'node:fs'
 import path from 'node:path'
+import Database from 'better-sqlite3'
 import { expect } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
 import { findStage } from '../../src/stages.ts'
@@ -160,27 +161,36 @@ export interface CrashOutcome {
  */
 export async function crashOnce(ws: Workspace, setup: CrashSetup, random: () => number, index: number): Promise<CrashOutcome> {
   const w = useDb(ws, path.join(ws.dir, `crash-${setup.stage}-${index}.db`))
-  copyDb(setup.base, w.db)
-  const before = query<{ id: number }>(w.db, 'SELECT COALESCE(MAX(id), 0) AS id FROM job_runs')[0]!.id
-  const child = startTides([...w.args, 'run', setup.stage, '--only'])
-  // the stage has started once its job run is recorded (and committed)
-  for (;;) {
-    if (child.child.exitCode !== null) break
-    const running = query(w.db, "SELECT 1 FROM job_runs WHERE id > ? AND stage = ? AND status = 'running'", before, setup.stage)
-    if (running.length) break
-    await sleep(5)
-  }
-  const delayMs = Math.floor(random() * setup.workMs)
-  await sleep(delayMs)
-  const alive = child.child.exitCode === null
-  child.child.kill('SIGKILL')
-  const end = await child.done
-  if (alive) expect(end.signal).toBe('SIGKILL')
-  else expect(end.code, end.stderr).toBe(0)
+  const fraction = random()
+  let delayMs = 0
+  let open: { id: number }[] = []
+  let before = 0
+  // a kill that comes too late (the stage had finished) is tried again sooner, up to three times
+  for (let attempt = 0; attempt < 3; attempt++) {
+    copyDb(setup.base, w.db)
+    before = query<{ id: number }>(w.db, 'SELECT COALESCE(MAX(id), 0) AS id FROM job_runs')[0]!.id
+    const child = startTides([...w.args, 'run', setup.stage, '--only'])
+    // the stage has started once its job run is recorded (and committed); one open connection polls
+    const watch = new Database(w.db, { readonly: true })
+    try {
+      const running = watch.prepare("SELECT 1 FROM job_runs WHERE id > ? AND stage = ? AND status = 'running'")
+      while (child.child.exitCode === null && running.get(before, setup.stage) === undefined) await sleep(2)
+    } finally {
+      watch.close()
+    }
+    delayMs = attempt === 2 ? 0 : Math.floor(fraction * setup.workMs * (attempt === 0 ? 1 : 0.25))
+    await sleep(delayMs)
+    const alive = child.child.exitCode === null
+    child.child.kill('SIGKILL')
+    const end = await child.done
+    if (alive) expect(end.signal).toBe('SIGKILL')
+    else expect(end.code, end.stderr).toBe(0)
 
-  expect(integrity(w.db)).toBe('ok')
-  expectEventsBackedByWork(w.db)
-  const open = query<{ id: number }>(w.db, "SELECT id FROM job_runs WHERE id > ? AND stage = ? AND status = 'running'", before, setup.stage)
+    expect(integrity(w.db)).toBe('ok')
+    expectEventsBackedByWork(w.db)
+    open = query<{ id: number }>(w.db, "SELECT id FROM job_runs WHERE id > ? AND stage = ? AND status = 'running'", before, setup.stage)
+    if (open.length > 0) break
+  }
   // the next start closes the killed run as interrupted, and finishes the work
   const restart = await tides([...w.args, 'run', 'all'])
   expect(restart.code, restart.stderr).toBe(0)

@@ -21,13 +21,13 @@ let pristine: string
 let cleanHash: string
 
 beforeAll(async () => {
-  ws = makeWorkspace({ n: 1500, months: 12, name: 'disk', batchSize: 100 })
+  ws = makeWorkspace({ n: 800, months: 12, name: 'disk', batchSize: 50 })
   openDb(ws.db).close()
   pristine = path.join(ws.dir, 'pristine.db')
   copyDb(ws.db, pristine)
   const clean = await tides([...ws.args, 'run', 'all'])
   expect(clean.code, clean.stderr).toBe(0)
-  expect(query<{ n: number }>(ws.db, 'SELECT COUNT(*) AS n FROM documents')[0]!.n).toBe(1500)
+  expect(query<{ n: number }>(ws.db, 'SELECT COUNT(*) AS n FROM documents')[0]!.n).toBe(800)
   cleanHash = resultHash(ws.db)
 })
 afterAll(() => ws?.cleanup())
@@ -154,7 +154,7 @@ describe('disk full', () => {
     expectOneClearLine(r.stderr, /disk I\/O error/)
     expect(integrity(copy.db)).toBe('ok')
     const stored = query<{ n: number }>(copy.db, 'SELECT COUNT(*) AS n FROM documents')[0]!.n
-    expect(stored).toBeLessThan(1500)
+    expect(stored).toBeLessThan(800)
     // every stored document was announced, and nothing that was not stored
     const events = query<{ payload_json: string }>(copy.db, "SELECT payload_json FROM events WHERE type = 'documents.ingested'")
     const announced = events.map((e) => JSON.parse(e.payload_json) as { read: number }).reduce((a, e) => a + e.read, 0)
