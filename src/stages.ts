@@ -5,13 +5,14 @@
  */
 import type { Stage, StageName } from './stage.ts'
 import { abilityStage } from './ability/stage.ts'
+import { fitStage } from './curves/stage.ts'
 import { ingestStage } from './ingest/stage.ts'
 import { planStage } from './plan/stage.ts'
 import { mapStage } from './taxonomy/stage.ts'
 
 export const STAGE_ORDER: readonly StageName[] = ['ingest', 'map', 'fit', 'ability', 'plan']
 
-export const STAGES: readonly Stage[] = [ingestStage, mapStage, abilityStage, planStage]
+export const STAGES: readonly Stage[] = [ingestStage, mapStage, fitStage, abilityStage, planStage]
 
 export function findStage(name: string): Stage | undefined {
   return STAGES.find((s) => s.name === name)

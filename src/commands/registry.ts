@@ -10,6 +10,7 @@ import { listRuns } from '../db/runs.ts'
 import { importDocuments } from '../ingest/import.ts'
 import { coverageReport } from '../ability/report.ts'
 import { PLAN_REPORTS } from '../plan/reports.ts'
+import { SKILLS_REPORT } from '../curves/report.ts'
 import { importTaxonomy } from '../taxonomy/store.ts'
 import { candidatesReport } from '../taxonomy/commands.ts'
 
@@ -82,6 +83,7 @@ export const REPORTS: Record<string, Report> = {
     description: 'rising terms that are not in the taxonomy (G² of recent vs earlier document frequency), with examples',
     build: (db, _config, opts) => candidatesReport(db, { ...(opts.limit !== undefined ? { limit: opts.limit } : {}), ...(typeof opts['status'] === 'string' ? { status: opts['status'] } : {}) }),
   },
+  skills: SKILLS_REPORT,
   ...PLAN_REPORTS,
 }
 

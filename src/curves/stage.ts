@@ -1,0 +1,205 @@
+/**
+ * @module curves/stage
+ * The fit stage: builds every skill's monthly demand series from the mapped documents, fits the
+ * demand curves (trend, half-life, significance across skills, change, emergence, forecast and
+ * lifecycle state), and in one transaction replaces the `demand` and `curves` tables and emits
+ * `curves.fitted` plus one `skill.state-changed` per skill whose state moved. Runs after
+ * `documents.mapped`.
+ */
+import type { Config } from '../config.ts'
+import type { Db } from '../db/connection.ts'
+import { readCurveStates, readMonthlyDemand, replaceCurves, replaceDemand } from '../db/curves.ts'
+import type { CurveRow, DemandRow, DemandSeries, MonthlyDemand } from '../db/curves.ts'
+import { emit } from '../events/outbox.ts'
+import type { Stage, StageContext, StageResult } from '../stage.ts'
+import { fitAll } from './fit-all.ts'
+import type { SkillCurve } from './fit-skill.ts'
+import type { SkillSeriesInput } from './series.ts'
+import type { SkillState } from './state.ts'
+
+const SERIES: readonly DemandSeries[] = ['external', 'internal']
+const FLAGGED: readonly string[] = ['emerging', 'rising', 'declining', 'fading']
+
+/**
+ * One series input per concept of the taxonomy, on the run's months (a month with no documents of
+ * a kind has N = 0 there: missing for that series, not zero demand).
+ *
+ * @example
+ * ```ts
+ * seriesInputs(readMonthlyDemand(db))[0] // => { id, label, months, external: { n, N }, internal?: { n, N } }
+ * ```
+ */
+export function seriesInputs(demand: MonthlyDemand): SkillSeriesInput[] {
+  const { totals } = demand
+  const months = validMonths(demand)
+  const totalArrays = {
+    external: months.map((month) => totals.external.get(month) ?? 0),
+    internal: months.map((month) => totals.internal.get(month) ?? 0),
+  }
+  const hasInternal = totalArrays.internal.some((total) => total > 0)
+  const hasExternal = totalArrays.external.some((total) => total > 0)
+  const inputs: SkillSeriesInput[] = []
+  for (const [id, label] of demand.labels) {
+    const counts = demand.mentions.get(id)
+    const input: SkillSeriesInput = { id, label, months }
+    if (hasExternal) input.external = { n: months.map((month) => counts?.external.get(month) ?? 0), N: totalArrays.external }
+    if (hasInternal) input.internal = { n: months.map((month) => counts?.internal.get(month) ?? 0), N: totalArrays.internal }
+    inputs.push(input)
+  }
+  return inputs
+}
+
+/** The run's months that are well-formed YYYY-MM (documents with another month value are left out). */
+function validMonths(demand: MonthlyDemand): string[] {
+  return demand.months.filter((month) => MONTH.test(month))
+}
+
+const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/
+
+/** Demand rows to store: every month with documents, for skills mentioned at least once. */
+function* demandRows(demand: MonthlyDemand): Generator<DemandRow> {
+  const months = validMonths(demand)
+  for (const [id, counts] of demand.mentions) {
+    if (!demand.labels.has(id)) continue
+    for (const series of SERIES) {
+      if (counts[series].size === 0) continue
+      for (const month of months) {
+        const total = demand.totals[series].get(month) ?? 0
+        if (total > 0) yield { concept_id: id, series, month, n: counts[series].get(month) ?? 0, total }
+      }
+    }
+  }
+}
+
+const finite = (x: number | null | undefined): number | null => (x !== null && x !== undefined && Number.isFinite(x) ? x : null)
+
+/** The stored row of a fitted curve; details carry the method figures the columns do not. */
+export function curveRow(curve: SkillCurve, fittedAt: string): CurveRow {
+  return {
+    concept_id: curve.id,
+    state: curve.state,
+    annual_growth: finite(curve.annualGrowth),
+    growth_low: finite(curve.annualGrowthInterval?.[0]),
+    growth_high: finite(curve.annualGrowthInterval?.[1]),
+    half_life_months: finite(curve.halfLifeMonths),
+    half_life_low: finite(curve.halfLifeInterval?.[0]),
+    half_life_high: finite(curve.halfLifeInterval?.[1]),
+    p_value: finite(curve.pValue),
+    p_adjusted: finite(curve.pAdjusted),
+    latest_share: finite(curve.latestShare),
+    forecast_share12: finite(curve.forecastShare12),
+    forecast_method: curve.forecastMethod,
+    change_month: curve.changeMonth,
+    emerged_month: curve.emergedMonth,
+    details_json: JSON.stringify({
+      ...curve.details,
+      stateReason: curve.stateReason,
+      beta: curve.beta,
+      betaInterval: curve.betaInterval,
+      mannKendall: curve.mannKendall,
+      senSlope: curve.senSlope,
+      latestMonth: curve.latestMonth,
+    }),
+    fitted_at: fittedAt,
+  }
+}
+
+/** The evidence a `skill.state-changed` event carries. */
+function stateEvent(curve: SkillCurve, before: string | null): Record<string, unknown> {
+  return {
+    id: curve.id,
+    label: curve.label,
+    before,
+    after: curve.state,
+    reason: curve.stateReason,
+    evidence: {
+      annualGrowth: finite(curve.annualGrowth),
+      annualGrowthInterval: curve.annualGrowthInterval,
+      halfLifeMonths: finite(curve.halfLifeMonths),
+      halfLifeInterval: curve.halfLifeInterval,
+      pValue: finite(curve.pValue),
+      pAdjusted: finite(curve.pAdjusted),
+      mannKendall: curve.mannKendall ? { tau: curve.mannKendall.tau, p: curve.mannKendall.pValue, seasonal: curve.mannKendall.seasonal } : null,
+      changeMonth: curve.changeMonth,
+      emergedMonth: curve.emergedMonth,
+      latestMonth: curve.latestMonth,
+      latestShare: finite(curve.latestShare),
+      forecastShare12: finite(curve.forecastShare12),
+      forecastMethod: curve.forecastMethod,
+    },
+  }
+}
+
+export interface FitRunOptions {
+  /** the moment recorded as fitted_at (default: now) */
+  now?: Date
+  log?: (message: string) => void
+}
+
+/**
+ * Run the fit stage on a database. Exported for tests and the CLI; the pipeline calls it through
+ * {@link fitStage}.
+ *
+ * A skill enters `skill.state-changed` when its state differs from the stored one; a skill fitted
+ * for the first time only when it is flagged (emerging, rising, declining, fading), so that a first
+ * run does not announce thousands of steady skills.
+ */
+export function runFit(db: Db, config: Config, options: FitRunOptions = {}): StageResult {
+  const log = options.log ?? (() => {})
+  const started = performance.now()
+  const demand = readMonthlyDemand(db)
+  const months = validMonths(demand)
+  const badMonths = demand.months.filter((month) => !MONTH.test(month))
+  if (badMonths.length) log(`fit: left out documents whose month is not YYYY-MM: ${badMonths.slice(0, 5).map((m) => JSON.stringify(m)).join(', ')}${badMonths.length > 5 ? ', …' : ''}`)
+  const inputs = seriesInputs(demand)
+  log(`fit: ${inputs.length} skills over ${months.length} months (${months[0] ?? '-'} to ${months.at(-1) ?? '-'})`)
+  const result = fitAll(inputs, config.curves)
+  for (const failure of result.failures) log(`fit: skill ${failure.id} skipped: ${failure.error}`)
+  const fittedAt = (options.now ?? new Date()).toISOString()
+  const previous = readCurveStates(db)
+  const states: Record<string, number> = {}
+  let changed = 0
+  let demandCount = 0
+  db.transaction(() => {
+    demandCount = replaceDemand(db, demandRows(demand))
+    replaceCurves(db, result.curves.map((curve) => curveRow(curve, fittedAt)))
+    for (const curve of result.curves) {
+      states[curve.state] = (states[curve.state] ?? 0) + 1
+      const before = previous.get(curve.id) ?? null
+      if (before === curve.state) continue
+      if (before === null && !FLAGGED.includes(curve.state)) continue
+      emit(db, 'skill.state-changed', stateEvent(curve, before))
+      changed++
+    }
+    emit(db, 'curves.fitted', {
+      skills: result.curves.length,
+      tested: result.tested,
+      failures: result.failures.length,
+      states,
+      stateChanges: changed,
+      months: months.length,
+      latestMonth: months.at(-1) ?? null,
+      q: config.curves.q,
+    })
+  })()
+  const seconds = (performance.now() - started) / 1000
+  const summary =
+    `fitted ${result.curves.length} skills in ${seconds.toFixed(1)} s: ` +
+    (['emerging', 'rising', 'steady', 'declining', 'fading', 'insufficient-evidence'] as SkillState[]).map((state) => `${states[state] ?? 0} ${state}`).join(', ') +
+    `; ${changed} state change${changed === 1 ? '' : 's'}` +
+    (result.failures.length ? `; ${result.failures.length} skipped (bad input)` : '')
+  return {
+    summary,
+    counts: { skills: result.curves.length, tested: result.tested, stateChanges: changed, failures: result.failures.length, demandRows: demandCount, badMonths: badMonths.length },
+    status: result.failures.length || badMonths.length ? 'partial' : 'ok',
+  }
+}
+
+export const fitStage: Stage = {
+  name: 'fit',
+  description: 'demand curves per skill: trend, half-life, significance (BH across skills), change, emergence, forecast and lifecycle state',
+  subscribesTo: ['documents.mapped'],
+  async run(ctx: StageContext): Promise<StageResult> {
+    return runFit(ctx.db, ctx.config, { log: ctx.log })
+  },
+}

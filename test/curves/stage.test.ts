@@ -1,0 +1,199 @@
+import { describe, it, expect } from 'vitest'
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import { main, type Io } from '../../src/cli.ts'
+import { REPORTS } from '../../src/commands/registry.ts'
+import { parseConfig } from '../../src/config.ts'
+import { openDb, type Db } from '../../src/db/connection.ts'
+import { emit } from '../../src/events/outbox.ts'
+import { ripple } from '../../src/pipeline.ts'
+import { runFit } from '../../src/curves/stage.ts'
+import { monthRange } from './simulate.ts'
+import { seededRandom } from '../stats/seeded-random.ts'
+
+const MONTHS = monthRange('2023-01', 36)
+
+/** Shares of the synthetic skills per month t (postings); requests carry a fifth of them. */
+const SKILLS: Record<string, { label: string; share: (t: number) => number }> = {
+  kubernetes: { label: 'Kubernetes', share: (t) => 0.08 * 2 ** (t / 18) },
+  jquery: { label: 'jQuery', share: (t) => 0.2 * 2 ** (-t / 15) },
+  sql: { label: 'SQL', share: () => 0.2 },
+  cobol: { label: 'COBOL', share: () => 0.001 },
+  ghost: { label: 'Ghost skill', share: () => 0 },
+}
+
+/**
+ * Documents (300 postings and 60 requests a month, plus reposts that must not count) and their
+ * mentions, written straight into the schema as the ingest and map stages would.
+ */
+function loadCorpus(db: Db, seed = 1): { mentions: Record<string, number[]> } {
+  const random = seededRandom(seed)
+  const mentions: Record<string, number[]> = Object.fromEntries(Object.keys(SKILLS).map((id) => [id, MONTHS.map(() => 0)]))
+  db.transaction(() => {
+    db.prepare("INSERT INTO sources (id, kind, location) VALUES ('fern', 'import', 'test')").run()
+    for (const [id, skill] of Object.entries(SKILLS)) db.prepare("INSERT INTO concepts (id, pref_label, type) VALUES (?, ?, 'hard')").run(id, skill.label)
+    const document = db.prepare(
+      `INSERT INTO documents (source_id, external_id, kind, posted_at, month, text_hash, duplicate_of, mapped_version)
+       VALUES ('fern', ?, ?, ?, ?, ?, ?, 1)`,
+    )
+    const mention = db.prepare("INSERT INTO mentions (document_id, concept_id, count, via) VALUES (?, ?, 1, 'text')")
+    let serial = 0
+    MONTHS.forEach((month, t) => {
+      for (const [kind, count, scale] of [['posting', 300, 1], ['request', 60, 0.2]] as const) {
+        for (let d = 0; d < count; d++) {
+          const id = Number(document.run(`doc-${serial}`, kind, `${month}-10T09:00:00Z`, month, `h${serial}`, null).lastInsertRowid)
+          serial++
+          for (const [skill, { share }] of Object.entries(SKILLS)) {
+            if (random.uniform() < scale * share(t)) {
+              mention.run(id, skill)
+              if (kind === 'posting') mentions[skill]![t]!++
+            }
+          }
+          // every 50th posting is reposted; the repost mentions everything and must not count
+          if (kind === 'posting' && d % 50 === 0) {
+            const repost = Number(document.run(`doc-${serial}`, kind, `${month}-11T09:00:00Z`, month, `h${serial}`, id).lastInsertRowid)
+            serial++
+            for (const skill of Object.keys(SKILLS)) mention.run(repost, skill)
+          }
+        }
+      }
+    })
+  })()
+  return { mentions }
+}
+
+function events(db: Db, type: string): Record<string, unknown>[] {
+  return (db.prepare('SELECT payload_json FROM events WHERE type = ? ORDER BY id').all(type) as { payload_json: string }[]).map((row) => JSON.parse(row.payload_json) as Record<string, unknown>)
+}
+
+const config = parseConfig({ db: ':memory:' })
+const NOW = new Date('2026-01-15T00:00:00Z')
+
+describe('fit stage', () => {
+  it('writes demand and curves in one go and emits curves.fitted and the flagged states', () => {
+    const db = openDb(':memory:')
+    const { mentions } = loadCorpus(db)
+    const result = runFit(db, config, { now: NOW })
+    expect(result.counts['skills']).toBe(5)
+
+    // demand: originals only, reposts left out of both counts and totals
+    const sql = db.prepare("SELECT month, n, total FROM demand WHERE concept_id = 'sql' AND series = 'external' ORDER BY month").all() as { month: string; n: number; total: number }[]
+    expect(sql).toHaveLength(36)
+    expect(sql.map((row) => row.n)).toEqual(mentions['sql'])
+    expect(sql.every((row) => row.total === 300)).toBe(true)
+    expect(db.prepare("SELECT COUNT(*) AS c FROM demand WHERE series = 'internal' AND concept_id = 'sql'").get()).toEqual({ c: 36 })
+    expect(db.prepare("SELECT COUNT(*) AS c FROM demand WHERE concept_id = 'ghost'").get()).toEqual({ c: 0 })
+
+    const curves = Object.fromEntries((db.prepare('SELECT concept_id, state, half_life_months, fitted_at FROM curves').all() as { concept_id: string; state: string; half_life_months: number | null; fitted_at: string }[]).map((row) => [row.concept_id, row]))
+    expect(curves['kubernetes']!.state).toBe('rising')
+    expect(curves['jquery']!.state).toBe('declining')
+    expect(curves['sql']!.state).toBe('steady')
+    expect(curves['cobol']!.state).toBe('insufficient-evidence')
+    expect(curves['ghost']!.state).toBe('insufficient-evidence')
+    // planted half-life 15 months
+    expect(curves['jquery']!.half_life_months!).toBeGreaterThan(10)
+    expect(curves['jquery']!.half_life_months!).toBeLessThan(22)
+    expect(curves['sql']!.half_life_months).toBeNull()
+    expect(curves['sql']!.fitted_at).toBe(NOW.toISOString())
+
+    const fitted = events(db, 'curves.fitted')
+    expect(fitted).toHaveLength(1)
+    expect(fitted[0]).toMatchObject({ skills: 5, tested: 3, latestMonth: '2025-12', states: { rising: 1, declining: 1, steady: 1, 'insufficient-evidence': 2 } })
+    // first fit: only flagged skills are announced
+    const changes = events(db, 'skill.state-changed')
+    expect(changes.map((event) => [event['id'], event['before'], event['after']]).sort()).toEqual([
+      ['jquery', null, 'declining'],
+      ['kubernetes', null, 'rising'],
+    ])
+    const jquery = changes.find((event) => event['id'] === 'jquery')!
+    expect(jquery['reason']).toMatch(/share falls/)
+    expect(jquery['evidence']).toMatchObject({ halfLifeMonths: expect.any(Number), pAdjusted: expect.any(Number) })
+  })
+
+  it('announces a state change with before and after on a later run, and nothing when states stay', () => {
+    const db = openDb(':memory:')
+    loadCorpus(db)
+    runFit(db, config, { now: NOW })
+    runFit(db, config, { now: NOW })
+    expect(events(db, 'skill.state-changed')).toHaveLength(2)
+    // pretend jQuery was steady at the last fit
+    db.prepare("UPDATE curves SET state = 'steady' WHERE concept_id = 'jquery'").run()
+    runFit(db, config, { now: NOW })
+    const last = events(db, 'skill.state-changed').at(-1)!
+    expect(last).toMatchObject({ id: 'jquery', label: 'jQuery', before: 'steady', after: 'declining' })
+    expect(events(db, 'curves.fitted')).toHaveLength(3)
+  })
+
+  it('leaves out documents that are not mapped yet and months that are not YYYY-MM', () => {
+    const db = openDb(':memory:')
+    loadCorpus(db)
+    db.prepare("UPDATE documents SET mapped_version = NULL WHERE month = '2025-12' AND kind = 'posting'").run()
+    db.prepare("UPDATE documents SET month = '2025-13' WHERE month = '2025-11' AND kind = 'request'").run()
+    const logs: string[] = []
+    const result = runFit(db, config, { now: NOW, log: (message) => logs.push(message) })
+    expect(result.status).toBe('partial')
+    expect(logs.join('\n')).toMatch(/month is not YYYY-MM: "2025-13"/)
+    expect(db.prepare("SELECT COUNT(*) AS c FROM demand WHERE month = '2025-12' AND series = 'external'").get()).toEqual({ c: 0 })
+    expect(db.prepare("SELECT COUNT(*) AS c FROM demand WHERE month = '2025-13'").get()).toEqual({ c: 0 })
+    expect((db.prepare("SELECT state FROM curves WHERE concept_id = 'sql'").get() as { state: string }).state).toBe('steady')
+  })
+
+  it('runs when documents.mapped is announced, and the plan follows curves.fitted', async () => {
+    const db = openDb(':memory:')
+    loadCorpus(db)
+    db.transaction(() => emit(db, 'documents.mapped', { mapped: 12960 }))()
+    const outcomes = await ripple(db, config)
+    const fit = outcomes.find((outcome) => outcome.stage === 'fit')
+    expect(fit?.error).toBeUndefined()
+    expect(fit?.trigger).toBe('event:documents.mapped')
+    expect(outcomes.map((outcome) => outcome.stage)).toContain('plan')
+    expect(db.prepare('SELECT COUNT(*) AS c FROM curves').get()).toEqual({ c: 5 })
+  })
+
+  it('reports skills with DESIGN.md fields and method details', () => {
+    const db = openDb(':memory:')
+    loadCorpus(db)
+    const empty = REPORTS['skills']!.build(db, config, {})
+    expect(empty.rows).toEqual([])
+    expect(empty.footer).toMatch(/run `tides run fit`/)
+    runFit(db, config, { now: NOW })
+    const report = REPORTS['skills']!.build(db, config, {})
+    const json = report.json as Record<string, unknown>[]
+    expect(json.map((row) => row['id'])).toEqual(['kubernetes', 'jquery', 'sql', 'cobol', 'ghost'])
+    for (const row of json) {
+      for (const key of ['id', 'label', 'state', 'annualGrowth', 'halfLifeMonths', 'halfLifeInterval', 'pAdjusted', 'latestShare', 'forecastShare12']) expect(row).toHaveProperty(key)
+    }
+    const jquery = json[1]!
+    expect(jquery['halfLifeInterval']).toEqual([expect.any(Number), expect.any(Number)])
+    expect(jquery['methods']).toMatchObject({ trend: expect.stringMatching(/quasi-Poisson/), mannKendall: { tau: expect.any(Number) }, senSlope: { slope: expect.any(Number) } })
+    expect(['regression', 'damped-holt']).toContain(jquery['forecastMethod'])
+    expect((jquery['forecast'] as unknown[]).length).toBe(12)
+    expect(json[2]!['halfLifeMonths']).toBeNull()
+    expect(report.columns.slice(0, 3)).toEqual(['id', 'label', 'state'])
+    expect(REPORTS['skills']!.build(db, config, { limit: 2 }).rows).toHaveLength(2)
+  })
+
+  it('works from the command line: tides run fit, tides report skills --json and --csv', async () => {
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'tides-fit-'))
+    const file = path.join(dir, 'tides.db')
+    const db = openDb(file)
+    loadCorpus(db)
+    db.close()
+    let out = ''
+    let err = ''
+    const io: Io = { out: (text) => (out += text), err: (text) => (err += text), isTty: false }
+    expect(await main(['--db', file, 'run', 'fit'], io)).toBe(0)
+    expect(out + err).toMatch(/fitted 5 skills/)
+    out = ''
+    expect(await main(['--db', file, 'report', 'skills', '--json'], io)).toBe(0)
+    const parsed = JSON.parse(out) as { id: string; state: string }[]
+    expect(parsed.find((row) => row.id === 'jquery')?.state).toBe('declining')
+    out = ''
+    expect(await main(['--db', file, 'report', 'skills', '--csv'], io)).toBe(0)
+    const lines = out.trim().split('\n')
+    expect(lines[0]).toMatch(/^id,label,state,annualGrowth,growthLow,growthHigh,halfLifeMonths/)
+    expect(lines).toHaveLength(6)
+    fs.rmSync(dir, { recursive: true, force: true })
+  })
+})
