@@ -3,6 +3,7 @@
  * message, or waits with --wait), the lock of a holder killed with SIGKILL is taken over, and the
  * dashboard keeps answering while another process writes (WAL readers are not blocked by a writer).
  */
+import fs from 'node:fs'
 import path from 'node:path'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
@@ -121,6 +122,48 @@ describe('the dashboard during a run', () => {
       writer?.child.kill('SIGTERM')
       server.child.kill('SIGTERM')
       await Promise.all([writer?.done, server.done])
+    }
+  })
+})
+
+describe('a run during tides serve', () => {
+  it('a scheduled run in the server waits for a held lock while the dashboard answers, then works; a CLI run waits for it', async () => {
+    const fresh = makeWorkspace({ n: 1500, months: 12, name: 'conc3', batchSize: 250 })
+    // the source runs every two seconds from the server's schedules
+    const config = JSON.parse(fs.readFileSync(fresh.config, 'utf8')) as { sources: { schedule?: string }[] }
+    config.sources[0]!.schedule = '*/2 * * * * *'
+    fs.writeFileSync(fresh.config, JSON.stringify(config))
+    openDb(fresh.db).close()
+    const holder = startScript(HOLD, [fresh.db, 'lock'])
+    let server: ReturnType<typeof startTides> | undefined
+    try {
+      await waitFor(() => holder.stdout().includes('ready'), 30_000, 'the lock holder')
+      server = startTides([...fresh.args, 'serve', '--port', '0'])
+      await waitFor(() => /dashboard: http:\/\/127\.0\.0\.1:\d+\//.test(server!.stderr()), 60_000, 'the dashboard to listen')
+      const base = /dashboard: (http:\/\/127\.0\.0\.1:\d+\/)/.exec(server.stderr())![1]!
+      // a scheduled run has fired and waits for the lock: nothing ingested, the dashboard answers
+      await sleep(4000)
+      expect(query<{ n: number }>(fresh.db, 'SELECT COUNT(*) AS n FROM documents')[0]!.n).toBe(0)
+      for (const p of ['healthz', 'api/runs', '']) {
+        const res = await fetch(base + p, { signal: AbortSignal.timeout(4000) })
+        expect(res.status, p).toBe(200)
+        await res.arrayBuffer()
+      }
+      expect(server.child.exitCode).toBeNull()
+      // the holder goes: the waiting scheduled run takes the lock and ingests everything
+      holder.child.kill('SIGTERM')
+      await holder.done
+      await waitFor(() => query<{ n: number }>(fresh.db, 'SELECT COUNT(*) AS n FROM documents')[0]!.n === 1500, 120_000, 'the scheduled run to ingest')
+      // a CLI run beside the server's schedules: it waits its turn instead of failing
+      const cli = await tides([...fresh.args, 'run', 'all', '--wait', '120'])
+      expect(cli.code, cli.stderr).toBe(0)
+      expect(query<{ n: number; ids: number }>(fresh.db, 'SELECT COUNT(*) AS n, COUNT(DISTINCT external_id) AS ids FROM documents')[0]).toEqual({ n: 1500, ids: 1500 })
+      expect(server.child.exitCode).toBeNull()
+    } finally {
+      holder.child.kill('SIGTERM')
+      server?.child.kill('SIGTERM')
+      await Promise.all([holder.done, server?.done])
+      fresh.cleanup()
     }
   })
 })
