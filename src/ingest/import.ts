@@ -20,6 +20,7 @@ import type { InputProblem } from '../util/csv.ts'
 import { checkDocument, type DocumentInput, ItemError, type ItemProblem } from './document.ts'
 import { readFeed } from './feed.ts'
 import { linesOfFile } from './lines.ts'
+import { LineParser, writeLinesInParallel } from './parse-pool.ts'
 import { createProgress } from './progress.ts'
 import { type LineKind, documentFromLine, requestsFromCsv } from './readers.ts'
 import { decodeBytes } from './text.ts'
@@ -123,7 +124,15 @@ export async function importDocuments(db: Db, config: Config, kind: Kind, file: 
   const writer = new BatchWriter(db, config, sourceId, runId, (c) => progress.update(c.read))
   try {
     if (checked.docs) for (const { line, doc } of checked.docs) writer.add(doc, { file, line })
-    else {
+    else if (config.ingest.parseWorkerMinBytes !== null && stat.size >= config.ingest.parseWorkerMinBytes) {
+      const parser = await LineParser.start({ dedupe: config.ingest.dedupe, maxTextChars: config.ingest.maxTextChars })
+      try {
+        // bad lines were reported by the check above; here they are only skipped
+        await writeLinesInParallel(parser, linesOfFile(file), kind, writer, file, () => undefined, undefined, false)
+      } finally {
+        await parser.close()
+      }
+    } else {
       for (const l of linesOfFile(file)) {
         try {
           const doc = documentFromLine(l, kind)

@@ -143,6 +143,7 @@ export class LineParser {
 /**
  * Feeds lines through the worker into the writer, in order, keeping up to three chunks in flight.
  * @param cursorOf the resume point after a line (undefined: do not move it)
+ * @param reportProblems false when the lines were checked before and their problems reported
  */
 export async function writeLinesInParallel(
   parser: LineParser,
@@ -152,6 +153,7 @@ export async function writeLinesInParallel(
   file: string,
   cursorOf: (l: Line) => string | undefined,
   onLine?: (l: Line) => void,
+  reportProblems = true,
 ): Promise<void> {
   const queue: { lines: Line[]; result: Promise<ParsedChunk> }[] = []
   const { numHashes: k, bands } = parser.setup.dedupe
@@ -163,7 +165,7 @@ export async function writeLinesInParallel(
         const l = c.lines[i]!
         const cursor = cursorOf(l)
         if (r.problem) {
-          writer.problem({ file, line: r.line, field: r.problem.field, reason: r.problem.reason })
+          if (reportProblems) writer.problem({ file, line: r.line, field: r.problem.field, reason: r.problem.reason })
           if (cursor !== undefined) writer.advance(cursor)
         } else if (r.doc) writer.add(r.doc, { file, line: r.line }, cursor, unpackAnalysis(packed, r.analysis!, k, bands))
         else if (cursor !== undefined) writer.advance(cursor)

@@ -166,7 +166,8 @@ export async function runJsonLines(env: SourceEnv, source: SourceConfig, row: So
     if (onFraction && ++n % 1000 === 0) onFraction(l.end / size)
   }
   const lines = linesOfFile(file, start.offset, start.line)
-  const parallel = size - start.offset >= env.config.ingest.parseWorkerMinBytes
+  const minBytes = env.config.ingest.parseWorkerMinBytes
+  const parallel = minBytes !== null && size - start.offset >= minBytes
   if (parallel) {
     const parser = await LineParser.start({ dedupe: env.config.ingest.dedupe, maxTextChars: env.config.ingest.maxTextChars })
     try {
