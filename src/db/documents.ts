@@ -70,11 +70,11 @@ export function setSourceValidators(db: Db, id: string, etag: string | null, las
 // documents
 
 /**
- * Raises the connection's page cache to at least `kib` KiB (SQLite's default is 2 MiB): the random
- * inserts of ingest (text-hash index, band keys) otherwise miss the cache on every row once the
- * indexes outgrow it.
+ * Tunes the connection for a large ingest: a page cache of at least `kib` KiB (SQLite's default is
+ * 2 MiB; the randomly keyed text-hash and band indexes otherwise miss it on every row once they
+ * outgrow it), and WAL checkpoints every `kib` of log instead of every 1000 pages.
  */
-export function ensureCacheSize(db: Db, kib: number): void {
+export function tuneForBulkWrites(db: Db, kib: number): void {
   const current = db.pragma('cache_size', { simple: true }) as number
   // negative = KiB, positive = pages (of page_size bytes)
   const pageSize = db.pragma('page_size', { simple: true }) as number

@@ -8,7 +8,7 @@
  */
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
-import { DocumentStore, ensureCacheSize, setSourceCursor } from '../db/documents.ts'
+import { DocumentStore, tuneForBulkWrites, setSourceCursor } from '../db/documents.ts'
 import { emit } from '../events/outbox.ts'
 import { monthOf } from './dates.ts'
 import { type Analysis, Deduper } from './dedupe.ts'
@@ -70,7 +70,7 @@ export class BatchWriter {
     private readonly onProgress: (counts: IngestCounts) => void = () => {},
   ) {
     ensureDedupeIndex(db, config.ingest.dedupe)
-    ensureCacheSize(db, 64 * 1024)
+    tuneForBulkWrites(db, 64 * 1024)
     this.store = new DocumentStore(db, config.ingest.dedupe.bands)
     this.deduper = new Deduper(this.store, config.ingest.dedupe)
     this.batchSize = config.ingest.batchSize
