@@ -13,6 +13,7 @@ import { ConfigError, loadConfig, type Config } from './config.ts'
 import { DbError, describeDbFailure, openDb, type Db } from './db/connection.ts'
 import { closeAbandonedRuns } from './db/runs.ts'
 import { BusyError, runPipeline } from './pipeline.ts'
+import { ServeError } from './errors.ts'
 import { NotBuiltError } from './stage.ts'
 import { STAGE_ORDER } from './stages.ts'
 import { formatProblem, toCsv } from './util/csv.ts'
@@ -273,7 +274,7 @@ export async function main(argv: string[], io: Io): Promise<number> {
       io.err(`tides ${name}: ${err.message}\nusage: ${command.usage}\n`)
       return 2
     }
-    if (err instanceof CliError || err instanceof ConfigError || err instanceof DbError || err instanceof NotBuiltError || err instanceof BusyError) {
+    if (err instanceof CliError || err instanceof ConfigError || err instanceof DbError || err instanceof NotBuiltError || err instanceof BusyError || err instanceof ServeError) {
       io.err(`tides ${name}: ${err.message}\n`)
       return 1
     }

@@ -7,6 +7,7 @@ import type { AddressInfo } from 'node:net'
 import { JOBS } from '../jobs/index.ts'
 import type { Config } from './config.ts'
 import type { Db } from './db/connection.ts'
+import { ServeError } from './errors.ts'
 import { ripple, withPipelineLock } from './pipeline.ts'
 import { startSchedules, type Scheduler } from './schedule.ts'
 import { createApp, warmUp, type AppOptions } from './server/app.ts'
@@ -61,7 +62,15 @@ export async function serve(db: Db, config: Config, opts: ServeOptions): Promise
   const app = createApp(db, config, { nextRuns: () => scheduler?.nextRuns() ?? [], afterWrite, log: opts.log, ...opts.app })
   const server = await new Promise<ReturnType<typeof serveHttp>>((resolve, reject) => {
     const s = serveHttp({ fetch: app.fetch, hostname: host, port }, () => resolve(s))
-    s.once('error', reject)
+    s.once('error', (err: NodeJS.ErrnoException) =>
+      reject(
+        err.code === 'EADDRINUSE'
+          ? new ServeError(`${host}:${port} is already in use (another tides serve or npm start?); stop it, or choose another port with --port or server.port`)
+          : err.code === 'EACCES' || err.code === 'EADDRNOTAVAIL'
+            ? new ServeError(`cannot listen on ${host}:${port}: ${err.code}`)
+            : err,
+      ),
+    )
   })
   const address = server.address() as AddressInfo
   const url = `http://${host.includes(':') ? `[${host}]` : host}:${address.port}/`
