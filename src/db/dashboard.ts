@@ -6,6 +6,7 @@
  */
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
+import type { CurveRow } from './curves.ts'
 
 const CACHE = new WeakMap<Db, Map<string, Statement>>()
 
@@ -230,25 +231,7 @@ export function broaderOf(db: Db, id: string): { id: string; label: string }[] {
   ).all(id) as { id: string; label: string }[]
 }
 
-export interface CurveRow {
-  concept_id: string
-  state: string
-  annual_growth: number | null
-  growth_low: number | null
-  growth_high: number | null
-  half_life_months: number | null
-  half_life_low: number | null
-  half_life_high: number | null
-  p_value: number | null
-  p_adjusted: number | null
-  latest_share: number | null
-  forecast_share12: number | null
-  forecast_method: string | null
-  change_month: string | null
-  emerged_month: string | null
-  details_json: string
-  fitted_at: string
-}
+export type { CurveRow }
 
 export function curveFor(db: Db, id: string): CurveRow | undefined {
   return stmt(db, 'SELECT * FROM curves WHERE concept_id = ?').get(id) as CurveRow | undefined

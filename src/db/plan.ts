@@ -4,24 +4,10 @@
  * abilities, and writes plan_outputs, course_flag_notes and the skill_id resolution of course_skills.
  */
 import type { Db } from './connection.ts'
+import type { CurveRow } from './curves.ts'
 
 /** A row of the curves table as the plan stage reads it. */
-export interface CurveRecord {
-  concept_id: string
-  state: string
-  annual_growth: number | null
-  growth_low: number | null
-  growth_high: number | null
-  half_life_months: number | null
-  half_life_low: number | null
-  half_life_high: number | null
-  p_value: number | null
-  p_adjusted: number | null
-  latest_share: number | null
-  forecast_share12: number | null
-  details_json: string
-  fitted_at: string
-}
+export type CurveRecord = Omit<CurveRow, 'forecast_method' | 'change_month' | 'emerged_month'>
 
 export function readCurves(db: Db): CurveRecord[] {
   return db
