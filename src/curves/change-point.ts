@@ -40,7 +40,9 @@ export interface ChangeEvidence {
  */
 export function detectChange(linearFit: TrendFit, options: { minSegment: number; alpha: number; windowMonths: number }): ChangeEvidence | null {
   const observations = linearFit.observations
-  if (new Set(observations.position).size < 2 * options.minSegment) return null
+  let distinct = 0
+  for (let i = 0; i < observations.rows; i++) if (i === 0 || observations.position[i]! > observations.position[i - 1]!) distinct++
+  if (distinct < 2 * options.minSegment) return null
   const coefficients = linearFit.glm.coefficients
   const cols = linearFit.columns.length
   const rows = observations.rows

@@ -1,8 +1,8 @@
 /**
  * @module curves/config
  * The `curves` section of tides.config.json: test levels, thresholds of the lifecycle states,
- * seasonal terms, change points, emergence and the forecast. Every key has a default; the
- * defaults and their reasons are listed in DEVELOPERS.md ("Demand curves").
+ * seasonal terms, change points, emergence and the forecast. Every key has a default, documented
+ * beside it; src/curves/state.ts spells out how the thresholds decide a state.
  */
 import { z } from 'zod'
 

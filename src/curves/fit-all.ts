@@ -7,8 +7,8 @@
  */
 import { benjaminiHochberg } from '../stats/benjamini-hochberg.ts'
 import type { CurvesConfig } from './config.ts'
-import { analyseSkill, finishSkill } from './fit-skill.ts'
-import type { SkillAnalysis, SkillCurve } from './fit-skill.ts'
+import { analyseSkill, decideSkill, describeSkill } from './fit-skill.ts'
+import type { DescribedSkill, SkillCurve } from './fit-skill.ts'
 import { monthIndex } from './months.ts'
 import type { SkillSeriesInput } from './series.ts'
 
@@ -40,17 +40,18 @@ export function fitAll(inputs: readonly SkillSeriesInput[], config: CurvesConfig
       }
     }
   }
-  const analyses: SkillAnalysis[] = []
+  // each analysis is described at once and let go: only the small described curves wait for BH
+  const described: DescribedSkill[] = []
   const failures: FitAllResult['failures'] = []
   for (const input of inputs) {
     try {
-      analyses.push(analyseSkill(input, config, Number.isFinite(lastMonth) ? lastMonth : undefined))
+      described.push(describeSkill(analyseSkill(input, config, Number.isFinite(lastMonth) ? lastMonth : undefined)))
     } catch (error) {
       failures.push({ id: input.id, error: error instanceof Error ? error.message : String(error) })
     }
   }
-  const pValues = analyses.map((analysis) => (analysis.slope && Number.isFinite(analysis.slope.pValue) ? analysis.slope.pValue : Number.NaN))
+  const pValues = described.map((skill) => (skill.curve.pValue !== null && Number.isFinite(skill.curve.pValue) ? skill.curve.pValue : Number.NaN))
   const adjusted = benjaminiHochberg(pValues, config.q).adjusted
-  const curves = analyses.map((analysis, i) => finishSkill(analysis, Number.isNaN(adjusted[i]!) ? null : adjusted[i]!, config))
+  const curves = described.map((skill, i) => decideSkill(skill, Number.isNaN(adjusted[i]!) ? null : adjusted[i]!, config))
   return { curves, failures, tested: pValues.filter((p) => !Number.isNaN(p)).length }
 }

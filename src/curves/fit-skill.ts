@@ -291,8 +291,7 @@ export function analyseSkill(input: SkillSeriesInput, config: CurvesConfig, last
   let sen: SkillAnalysis['senSlope'] = null
   if (regime.length >= 3) {
     const result = theilSen(regime, regimeValues, { level: config.level, mannKendallVariance: mk && !mk.seasonal ? mk.variance : undefined })
-    const sorted = [...regimeValues].sort((a, b) => a - b)
-    const median = sorted.length % 2 ? sorted[sorted.length >> 1]! : (sorted[sorted.length / 2 - 1]! + sorted[sorted.length / 2]!) / 2
+    const median = result.medianY
     sen = {
       slope: result.slope,
       lower: finiteOrNull(result.lower),
@@ -364,17 +363,25 @@ export function stateEvidence(analysis: SkillAnalysis, pAdjusted: number | null)
   }
 }
 
+/** A skill's curve before its state: everything but what the cross-skill adjustment decides. */
+export interface DescribedSkill {
+  curve: SkillCurve
+  evidence: StateEvidence
+  /** the half-life and its interval, kept until the state says whether to report them */
+  halfLifeMonths: number | null
+  halfLifeInterval: [number, number | null] | null
+}
+
 /**
- * The reported curve of a skill from its analysis and its BH-adjusted p-value.
+ * Everything reported about a skill that does not depend on the other skills, built straight after
+ * its analysis so that the analysis (grids, fits) can be let go while the other skills are fitted.
  *
  * @example
  * ```ts
- * finishSkill(analysis, 0.003, DEFAULT_CURVES_CONFIG).state // => e.g. 'declining'
+ * decideSkill(describeSkill(analysis), 0.003, DEFAULT_CURVES_CONFIG).state // => e.g. 'declining'
  * ```
  */
-export function finishSkill(analysis: SkillAnalysis, pAdjusted: number | null, config: CurvesConfig): SkillCurve {
-  const decision = classifyState(stateEvidence(analysis, pAdjusted), config)
-  const declining = decision.state === 'declining' || decision.state === 'fading'
+export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
   const slope = analysis.slope
   const tests: TestRecord[] = []
   if (slope) {
@@ -382,7 +389,7 @@ export function finishSkill(analysis: SkillAnalysis, pAdjusted: number | null, c
       name: analysis.regime?.kind === 'change' ? 'trend since change (quasi-Poisson)' : analysis.regime?.kind === 'emergence' ? 'trend since emergence (quasi-Poisson)' : 'trend (quasi-Poisson)',
       statistic: finiteOrNull(slope.statistic),
       p: finiteOrNull(slope.pValue),
-      pAdjusted,
+      pAdjusted: null,
       text: `log share changes by ${slope.estimate.toPrecision(3)} a month (t = ${slope.statistic.toFixed(2)})`,
     })
   }
@@ -413,10 +420,13 @@ export function finishSkill(analysis: SkillAnalysis, pAdjusted: number | null, c
   const grid = analysis.grid
   // month series in column form ({ months, values }), the months array shared by all skills
   const months = gridMonths(grid)
-  const column = (values: Float64Array): { months: readonly string[]; values: (number | null)[] } => ({
-    months,
-    values: Array.from(values, (value) => (Number.isNaN(value) ? null : value)),
-  })
+  // plain double arrays: a missing month stays NaN here (unboxed, cheap for the garbage collector
+  // while thousands of skills wait for the adjustment) and becomes null in JSON
+  const column = (values: Float64Array): { months: readonly string[]; values: number[] } => {
+    const plain = new Array<number>(values.length)
+    for (let t = 0; t < values.length; t++) plain[t] = values[t]!
+    return { months, values: plain }
+  }
   const fitted = trend ? column(fittedIndex(trend, grid)) : null
   const combined = column(grid.combined)
   const forecast = analysis.forecast
@@ -452,7 +462,6 @@ export function finishSkill(analysis: SkillAnalysis, pAdjusted: number | null, c
     tests,
     fitted,
     combined,
-    pooled: column(grid.pooled),
     forecastMethod: forecast?.method ?? null,
     forecastLevel: 0.95,
     oneStepMse: forecast?.oneStepMse ?? null,
@@ -462,19 +471,19 @@ export function finishSkill(analysis: SkillAnalysis, pAdjusted: number | null, c
     // bands in the shape the plan stage reads (low/high = 95%) and the dashboard reads (lo80 … hi95)
     forecast: points.map((p) => ({ ...p, low: p.lo95, high: p.hi95 })),
   }
-  return {
+  const curve: SkillCurve = {
     id: analysis.id,
     label: analysis.label,
-    state: decision.state,
-    stateReason: decision.reason,
+    state: 'insufficient-evidence',
+    stateReason: '',
     annualGrowth: analysis.annualGrowth,
     annualGrowthInterval: analysis.annualGrowthInterval,
-    halfLifeMonths: declining ? analysis.halfLifeMonths : null,
-    halfLifeInterval: declining ? analysis.halfLifeInterval : null,
+    halfLifeMonths: null,
+    halfLifeInterval: null,
     beta: slope ? slope.estimate : null,
     betaInterval: slope ? [slope.lower, slope.upper] : null,
     pValue: slope ? slope.pValue : null,
-    pAdjusted,
+    pAdjusted: null,
     mannKendall: analysis.mannKendall,
     senSlope: analysis.senSlope,
     changeMonth: analysis.change?.accepted ? analysis.change.month : null,
@@ -486,6 +495,37 @@ export function finishSkill(analysis: SkillAnalysis, pAdjusted: number | null, c
     forecast: points,
     details,
   }
+  return { curve, evidence: stateEvidence(analysis, null), halfLifeMonths: analysis.halfLifeMonths, halfLifeInterval: analysis.halfLifeInterval }
+}
+
+/**
+ * Decide a described skill's state with its BH-adjusted p-value; the half-life is reported only for
+ * declining and fading skills.
+ */
+export function decideSkill(described: DescribedSkill, pAdjusted: number | null, config: CurvesConfig): SkillCurve {
+  const decision = classifyState({ ...described.evidence, pAdjusted }, config)
+  const declining = decision.state === 'declining' || decision.state === 'fading'
+  const curve = described.curve
+  curve.state = decision.state
+  curve.stateReason = decision.reason
+  curve.pAdjusted = pAdjusted
+  curve.halfLifeMonths = declining ? described.halfLifeMonths : null
+  curve.halfLifeInterval = declining ? described.halfLifeInterval : null
+  const tests = curve.details['tests'] as TestRecord[]
+  if (tests.length && curve.pValue !== null) tests[0]!.pAdjusted = pAdjusted
+  return curve
+}
+
+/**
+ * The reported curve of a skill from its analysis and its BH-adjusted p-value.
+ *
+ * @example
+ * ```ts
+ * finishSkill(analysis, 0.003, DEFAULT_CURVES_CONFIG).state // => e.g. 'declining'
+ * ```
+ */
+export function finishSkill(analysis: SkillAnalysis, pAdjusted: number | null, config: CurvesConfig): SkillCurve {
+  return decideSkill(describeSkill(analysis), pAdjusted, config)
 }
 
 /**

@@ -10,7 +10,7 @@ import { normalQuantile } from '../stats/normal-distribution.ts'
 import { monthOfYear } from './months.ts'
 import type { SkillGrid } from './series.ts'
 import { gridMonth } from './series.ts'
-import { combinedAt, designRow } from './trend-model.ts'
+import { buildDesign, combinedAt, designRow } from './trend-model.ts'
 import type { TrendFit } from './trend-model.ts'
 
 export type ForecastMethod = 'regression' | 'damped-holt'
@@ -61,10 +61,11 @@ function regressionForecast(grid: SkillGrid, trend: TrendFit, steps: number): Fo
     const position = last + h
     const value = combinedAt(trend, grid, position)
     let noise = 0
-    grid.sources.forEach((source, s) => {
+    for (let s = 0; s < grid.sources.length; s++) {
+      const source = grid.sources[s]!
       const scale = (grid.combinedLevel * source.weight) / source.level
       noise += (scale * scale * dispersion * value.sourceShares[s]!) / Math.max(1, recentTotals[s]!)
-    })
+    }
     const sd = Math.sqrt(value.logVariance + noise / (value.share * value.share))
     points.push({
       month: gridMonth(grid, position),
@@ -119,6 +120,9 @@ function rollingOrigin(grid: SkillGrid, trend: TrendFit, holt: DampedHoltFit | n
   const cols = trend.columns.length
   const beta = trend.glm.coefficients
   const mu = trend.glm.fitted
+  const { design } = buildDesign(obs, trend.spec)
+  const x = new Float64Array(cols)
+  const coefficients = new Float64Array(cols)
   const gradient = new Float64Array(cols)
   const hessian = new Float64Array(cols * cols)
   const seen = new Array<number>(obs.sourceCount).fill(0)
@@ -132,7 +136,7 @@ function rollingOrigin(grid: SkillGrid, trend: TrendFit, holt: DampedHoltFit | n
   let count = 0
   for (const origin of chosen) {
     for (; row < obs.rows && obs.position[row]! < origin; row++) {
-      const x = designRow(trend.spec, obs.sourceCount, obs.source[row]!, obs.position[row]!, obs.monthOfYear[row]!, obs.centre)
+      for (let a = 0; a < cols; a++) x[a] = design[a * obs.rows + row]!
       const residual = obs.counts[row]! - mu[row]!
       for (let a = 0; a < cols; a++) {
         if (x[a] === 0) continue
@@ -174,16 +178,17 @@ function rollingOrigin(grid: SkillGrid, trend: TrendFit, holt: DampedHoltFit | n
       for (let k = a + 1; k < p; k++) value -= system[k * cols + a]! * step[k]!
       step[a] = value / system[a * cols + a]!
     }
-    const coefficients = new Float64Array(cols)
+    coefficients.fill(0)
     for (let a = 0; a < p; a++) coefficients[active[a]!] = beta[active[a]!]! + step[a]!
     const month = monthOfYear(grid.firstMonth + origin)
     let predicted = 0
-    grid.sources.forEach((source, s) => {
+    for (let s = 0; s < grid.sources.length; s++) {
+      const source = grid.sources[s]!
       const x = designRow(trend.spec, obs.sourceCount, s, origin, month, obs.centre)
       let eta = 0
       for (let j = 0; j < cols; j++) eta += x[j]! * coefficients[j]!
       predicted += (grid.combinedLevel * source.weight * Math.exp(eta)) / source.level
-    })
+    }
     const actual = grid.combined[origin]!
     regressionSse += (actual - predicted) ** 2
     if (holt) holtSse += (actual - holt.run.oneStep[origin]!) ** 2

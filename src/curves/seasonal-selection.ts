@@ -77,7 +77,9 @@ export function chooseSeasonalTerms(
   for (let k = 1; k <= Math.min(5, options.maxHarmonics); k++) {
     try {
       // warm start: the previous model's coefficients and zero for the new pair
-      const start = [...fits[fits.length - 1]!.glm.coefficients, 0, 0]
+      const previous = fits[fits.length - 1]!.glm.coefficients
+      const start = new Float64Array(previous.length + 2)
+      start.set(previous)
       fits.push(fitTrend(observations, { harmonics: k, breakpoint: null }, start))
     } catch (error) {
       if (error instanceof RankDeficientError) break

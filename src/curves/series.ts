@@ -113,8 +113,14 @@ export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillG
     if (earlier !== undefined) throw new SeriesInputError(`${where}: month ${input.months[position]} appears twice (positions ${earlier} and ${position})`)
     seen.set(index, position)
   })
-  const last = options.lastMonth ?? (indices.length ? Math.max(...indices) : 0)
-  const first = indices.length ? Math.max(Math.min(...indices), last - options.windowMonths + 1) : last
+  let lowest = Infinity
+  let highest = -Infinity
+  for (const index of indices) {
+    if (index < lowest) lowest = index
+    if (index > highest) highest = index
+  }
+  const last = options.lastMonth ?? (indices.length ? highest : 0)
+  const first = indices.length ? Math.max(lowest, last - options.windowMonths + 1) : last
   const length = Math.max(0, last - first + 1)
 
   const rawSources: GridSource[] = []

@@ -62,28 +62,29 @@ export interface TrendFit {
  * ```
  */
 export function stackObservations(grid: SkillGrid): StackedObservations {
-  const cells: [number, number][] = []
-  for (let t = 0; t < grid.length; t++) {
-    grid.sources.forEach((source, s) => {
-      if (source.N[t]! > 0) cells.push([s, t])
-    })
-  }
-  const rows = cells.length
+  const sourceCount = grid.sources.length
+  let rows = 0
+  for (let t = 0; t < grid.length; t++) for (let s = 0; s < sourceCount; s++) if (grid.sources[s]!.N[t]! > 0) rows++
   const source = new Int32Array(rows)
   const position = new Float64Array(rows)
   const counts = new Float64Array(rows)
   const logTotal = new Float64Array(rows)
   const months = new Int32Array(rows)
   let centre = 0
-  cells.forEach(([s, t], i) => {
-    const series = grid.sources[s]!
-    source[i] = s
-    position[i] = t
-    counts[i] = series.n[t]!
-    logTotal[i] = Math.log(series.N[t]!)
-    months[i] = monthOfYear(grid.firstMonth + t)
-    centre += t / rows
-  })
+  let i = 0
+  for (let t = 0; t < grid.length; t++) {
+    for (let s = 0; s < sourceCount; s++) {
+      const series = grid.sources[s]!
+      if (!(series.N[t]! > 0)) continue
+      source[i] = s
+      position[i] = t
+      counts[i] = series.n[t]!
+      logTotal[i] = Math.log(series.N[t]!)
+      months[i] = monthOfYear(grid.firstMonth + t)
+      centre += t / rows
+      i++
+    }
+  }
   return { rows, sourceCount: grid.sources.length, source, position, counts, logTotal, monthOfYear: months, centre }
 }
 
@@ -157,9 +158,10 @@ export function buildDesign(observations: StackedObservations, spec: TrendSpec):
     if (spec.breakpoint !== null) design[j++ * rows + i] = Math.max(0, position - spec.breakpoint)
     const month = observations.monthOfYear[i]!
     for (let k = 1; k <= spec.harmonics; k++) {
-      const [sin, cos] = k <= 5 ? HARMONIC_TABLE[k - 1]![month]! : [Math.sin((2 * Math.PI * k * month) / 12), Math.cos((2 * Math.PI * k * month) / 12)]
-      design[j++ * rows + i] = sin
-      design[j++ * rows + i] = cos
+      // indexed reads: array destructuring would run the iterator protocol for every cell
+      const pair = k <= 5 ? HARMONIC_TABLE[k - 1]![month]! : null
+      design[j++ * rows + i] = pair ? pair[0] : Math.sin((2 * Math.PI * k * month) / 12)
+      design[j++ * rows + i] = pair ? pair[1] : Math.cos((2 * Math.PI * k * month) / 12)
     }
   }
   return { design, cols, columns }
@@ -215,9 +217,10 @@ export function fittedIndex(fit: TrendFit, grid: SkillGrid): Float64Array {
       common += beta[j]! * Math.sin(angle) + beta[j + 1]! * Math.cos(angle)
     }
     let sum = 0
-    grid.sources.forEach((source, s) => {
+    for (let s = 0; s < grid.sources.length; s++) {
+      const source = grid.sources[s]!
       sum += (source.weight * Math.exp(beta[s]! + common)) / source.level
-    })
+    }
     values[t] = grid.combinedLevel * sum
   }
   return values
@@ -243,28 +246,29 @@ export interface CombinedValue {
  */
 export function combinedAt(fit: TrendFit, grid: SkillGrid, position: number): CombinedValue {
   const cols = fit.columns.length
-  const month = monthOfYear(grid.firstMonth + position)
-  const gradient = new Array<number>(cols).fill(0)
-  const rows: number[][] = []
-  const terms: number[] = []
-  const sourceShares: number[] = []
-  grid.sources.forEach((source, s) => {
-    const row = designRow(fit.spec, fit.observations.sourceCount, s, position, month, fit.observations.centre)
-    let eta = 0
-    for (let j = 0; j < cols; j++) eta += row[j]! * fit.glm.coefficients[j]!
-    const share = Math.exp(eta)
-    sourceShares.push(share)
-    terms.push((source.weight * share) / source.level)
-    rows.push(row)
-  })
-  const sum = terms.reduce((a, b) => a + b, 0)
-  terms.forEach((term, s) => {
-    const part = term / sum
-    for (let j = 0; j < cols; j++) gradient[j]! += part * rows[s]![j]!
-  })
+  const sourceCount = fit.observations.sourceCount
+  const beta = fit.glm.coefficients
+  // every source's row is its intercept indicator plus the same time, hinge and season columns
+  const gradient = designRow(fit.spec, sourceCount, 0, position, monthOfYear(grid.firstMonth + position), fit.observations.centre)
+  gradient[0] = 0
+  let common = 0
+  for (let j = sourceCount; j < cols; j++) common += gradient[j]! * beta[j]!
+  const sourceShares = new Array<number>(sourceCount)
+  let sum = 0
+  for (let s = 0; s < sourceCount; s++) {
+    const source = grid.sources[s]!
+    const share = Math.exp(beta[s]! + common)
+    sourceShares[s] = share
+    const term = (source.weight * share) / source.level
+    gradient[s] = term
+    sum += term
+  }
+  // gradient of log I: the sources' parts π_s on their intercepts, 1 × the common columns
+  for (let s = 0; s < sourceCount; s++) gradient[s] = gradient[s]! / sum
   let variance = 0
   for (let i = 0; i < cols; i++) {
-    for (let j = 0; j < cols; j++) variance += gradient[i]! * gradient[j]! * fit.glm.unscaledCovariance[i * cols + j]!
+    const gi = gradient[i]!
+    for (let j = 0; j < cols; j++) variance += gi * gradient[j]! * fit.glm.unscaledCovariance[i * cols + j]!
   }
   const dispersion = Number.isFinite(fit.glm.dispersion) ? fit.glm.dispersion : 1
   return { share: grid.combinedLevel * sum, logVariance: Math.max(0, variance * dispersion), sourceShares }

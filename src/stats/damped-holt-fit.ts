@@ -60,7 +60,7 @@ const EDGE = 1e-4
  * quadratic in (ℓ₀, b₀) and its minimum is found exactly from six sums in one pass; the optimiser
  * then only searches the smoothing parameters (a concentrated, or profile, least-squares fit).
  */
-function concentratedSse(values: ArrayLike<number>, alpha: number, beta: number, phi: number, withTrend: boolean) {
+function concentratedSse(values: ArrayLike<number>, alpha: number, beta: number, phi: number, withTrend: boolean): number {
   let level = 0
   let trend = 0
   let levelSensitivityL = 1 // ∂ℓ/∂ℓ₀
@@ -105,7 +105,9 @@ function concentratedSse(values: ArrayLike<number>, alpha: number, beta: number,
   }
   if (!withTrend) {
     const level0 = suu > 0 ? seu / suu : 0
-    return { sse: Math.max(0, see - level0 * seu), level0, trend0: 0 }
+    INITIAL[0] = level0
+    INITIAL[1] = 0
+    return Math.max(0, see - level0 * seu)
   }
   // tiny ridge keeps the 2 × 2 system solvable when α → 1 makes (u, v) nearly collinear
   const ridge = 1e-12 * (suu + svv)
@@ -114,12 +116,19 @@ function concentratedSse(values: ArrayLike<number>, alpha: number, beta: number,
   const determinant = a * d - suv * suv
   if (!(determinant > 0)) {
     const level0 = a > 0 ? seu / a : 0
-    return { sse: Math.max(0, see - level0 * seu), level0, trend0: 0 }
+    INITIAL[0] = level0
+    INITIAL[1] = 0
+    return Math.max(0, see - level0 * seu)
   }
   const level0 = (d * seu - suv * sev) / determinant
   const trend0 = (a * sev - suv * seu) / determinant
-  return { sse: Math.max(0, see - level0 * seu - trend0 * sev), level0, trend0 }
+  INITIAL[0] = level0
+  INITIAL[1] = trend0
+  return Math.max(0, see - level0 * seu - trend0 * sev)
 }
+
+/** The optimal initial level and trend of the last concentratedSse call (no allocation per call). */
+const INITIAL = new Float64Array(2)
 
 /**
  * Fit Holt's damped-trend exponential smoothing (ETS(A,Ad,N) point forecasts) by least squares:
@@ -158,18 +167,22 @@ export function fitDampedHolt(values: ArrayLike<number>, options: DampedHoltOpti
   if (observed < parameterCount + 2) {
     throw new RangeError(`fitDampedHolt requires at least ${parameterCount + 2} observed values for ${trend} smoothing, got ${observed}`)
   }
-  const decode = (point: readonly number[]): { alpha: number; beta: number; phi: number } => {
-    const alpha = EDGE + (1 - 2 * EDGE) * logistic(point[0]!)
-    const beta = withTrend ? EDGE + (1 - 2 * EDGE) * logistic(point[1]!) : 0
-    const phi = trend === 'damped' ? phiLow + (phiHigh - phiLow) * logistic(point[2]!) : 1
-    return { alpha, beta, phi }
+  // decoded parameters live in one reused array: the objective runs dozens of times per fit
+  const decoded = new Float64Array(3)
+  const decode = (point: readonly number[]): Float64Array => {
+    decoded[0] = EDGE + (1 - 2 * EDGE) * logistic(point[0]!)
+    decoded[1] = withTrend ? EDGE + (1 - 2 * EDGE) * logistic(point[1]!) : 0
+    decoded[2] = trend === 'damped' ? phiLow + (phiHigh - phiLow) * logistic(point[2]!) : 1
+    return decoded
   }
-  const sseAt = (parameters: { alpha: number; beta: number; phi: number }) => {
+  const sseAt = (parameters: Float64Array): number => {
     if (options.initial) {
-      const run = smoothSeries(values, { ...parameters, level0: options.initial.level0, trend0: options.initial.trend0 ?? 0 })
-      return { sse: run.sse, level0: options.initial.level0, trend0: options.initial.trend0 ?? 0 }
+      const run = smoothSeries(values, { alpha: parameters[0]!, beta: parameters[1]!, phi: parameters[2]!, level0: options.initial.level0, trend0: options.initial.trend0 ?? 0 })
+      INITIAL[0] = options.initial.level0
+      INITIAL[1] = options.initial.trend0 ?? 0
+      return run.sse
     }
-    return concentratedSse(values, parameters.alpha, parameters.beta, parameters.phi, withTrend)
+    return concentratedSse(values, parameters[0]!, parameters[1]!, parameters[2]!, withTrend)
   }
   const startAlpha = Math.min(0.99, Math.max(0.01, options.start?.alpha ?? 0.3))
   const startBeta = Math.min(0.99, Math.max(0.01, options.start?.beta ?? 0.1))
@@ -187,7 +200,7 @@ export function fitDampedHolt(values: ArrayLike<number>, options: DampedHoltOpti
   let spread = 0
   for (let t = 0; t < values.length; t++) if (!Number.isNaN(values[t]!)) spread += (values[t]! - mean) ** 2
   const scale = spread > 0 ? spread : mean * mean > 0 ? mean * mean : 1
-  const optimum = nelderMead((point) => sseAt(decode(point)).sse / scale, start, {
+  const optimum = nelderMead((point) => sseAt(decode(point)) / scale, start, {
     step: 1,
     // SSE to 1e-6 and parameters to about 0.0025 are plenty for forecasting; tighter settings cost
     // twice the evaluations for no visible change in the forecasts
@@ -195,8 +208,11 @@ export function fitDampedHolt(values: ArrayLike<number>, options: DampedHoltOpti
     pointTolerance: 1e-2,
     maxEvaluations: options.maxEvaluations ?? 100,
   })
-  const parameters = decode(optimum.point)
-  const { level0, trend0 } = sseAt(parameters)
+  const decodedBest = decode(optimum.point)
+  const parameters = { alpha: decodedBest[0]!, beta: decodedBest[1]!, phi: decodedBest[2]! }
+  sseAt(decodedBest)
+  const level0 = INITIAL[0]!
+  const trend0 = INITIAL[1]!
   const run = smoothSeries(values, { ...parameters, level0, trend0 })
   return {
     trend,

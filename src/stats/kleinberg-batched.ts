@@ -83,13 +83,14 @@ export function batchedBursts(
   const logP = probabilities.map(Math.log)
   const logQ = probabilities.map((p) => Math.log1p(-p))
   const upCost = gamma * Math.log(Math.max(2, n))
-  let cost = probabilities.map((_, j) => (j === 0 ? 0 : Infinity))
-  const back: Int32Array[] = []
+  let cost = new Float64Array(k).fill(Infinity)
+  cost[0] = 0
+  let next = new Float64Array(k)
+  // back pointers of all periods in one array: back[t·k + j] is the best predecessor of state j at t
+  const back = new Int32Array(n * k)
   for (let t = 0; t < n; t++) {
     const r = mentions[t]!
     const d = totals[t]!
-    const next = new Array<number>(k)
-    const from = new Int32Array(k)
     for (let j = 0; j < k; j++) {
       let bestCost = Infinity
       let bestState = 0
@@ -101,17 +102,18 @@ export function batchedBursts(
         }
       }
       next[j] = bestCost - (d > 0 ? r * logP[j]! + (d - r) * logQ[j]! : 0)
-      from[j] = bestState
+      back[t * k + j] = bestState
     }
-    back.push(from)
+    const swap = cost
     cost = next
+    next = swap
   }
   let state = 0
   for (let j = 1; j < k; j++) if (cost[j]! < cost[state]!) state = j
   const states = new Array<number>(n)
   for (let t = n - 1; t >= 0; t--) {
     states[t] = state
-    state = back[t]![state]!
+    state = back[t * k + state]!
   }
   return { states, baseProbability, bursts: burstsFromStates(states, emptyBoundaries) }
 }

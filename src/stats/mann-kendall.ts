@@ -21,9 +21,15 @@ export interface MannKendallResult {
   pValue: number
 }
 
+let tieScratch = new Float64Array(64)
+const NO_TIES: readonly [number, number, number] = [0, 0, 0]
+
 /** Σ t(t−1)(2t+5), Σ t(t−1)(t−2) and Σ t(t−1) over groups of tied values. */
 function tieSums(values: ArrayLike<number>): [number, number, number] {
-  const sorted = Float64Array.from(values).sort()
+  if (tieScratch.length < values.length) tieScratch = new Float64Array(values.length)
+  const sorted = tieScratch.subarray(0, values.length)
+  for (let i = 0; i < values.length; i++) sorted[i] = values[i]!
+  sorted.sort()
   let sumA = 0
   let sumB = 0
   let sumC = 0
@@ -80,8 +86,14 @@ export function mannKendall(values: ArrayLike<number>, times?: ArrayLike<number>
     }
   }
   if (n < 2) return { n, s: 0, variance: 0, tau: Number.NaN, z: 0, pValue: 1 }
-  const [valueTiesA, valueTiesB, valueTiesC] = tieSums(values)
-  const [timeTiesA, timeTiesB, timeTiesC] = times ? tieSums(times) : [0, 0, 0]
+  const valueTies = tieSums(values)
+  const timeTies = times ? tieSums(times) : NO_TIES
+  const valueTiesA = valueTies[0]
+  const valueTiesB = valueTies[1]
+  const valueTiesC = valueTies[2]
+  const timeTiesA = timeTies[0]
+  const timeTiesB = timeTies[1]
+  const timeTiesC = timeTies[2]
   let variance = (n * (n - 1) * (2 * n + 5) - valueTiesA - timeTiesA) / 18
   if (n > 2) variance += (valueTiesB * timeTiesB) / (9 * n * (n - 1) * (n - 2))
   variance += (valueTiesC * timeTiesC) / (2 * n * (n - 1))

@@ -78,7 +78,16 @@ export function nelderMead(
   }
   let converged = false
   while (evaluations < maxEvaluations) {
-    order.sort((a, b) => values[a]! - values[b]!)
+    // insertion sort of the few vertex indices by value (no allocation, unlike Array.prototype.sort)
+    for (let i = 1; i < order.length; i++) {
+      const index = order[i]!
+      let j = i - 1
+      while (j >= 0 && values[order[j]!]! > values[index]!) {
+        order[j + 1] = order[j]!
+        j--
+      }
+      order[j + 1] = index
+    }
     const best = order[0]!
     const worst = order[dimension]!
     const secondWorst = order[dimension - 1]!

@@ -103,6 +103,50 @@ function devianceOf(counts: Float64Array, fitted: Float64Array, linearPredictor:
   return Math.max(0, 2 * (constant - fitPart))
 }
 
+interface Workspace {
+  counts: Float64Array
+  offset: Float64Array
+  weights: Float64Array
+  design: Float64Array
+  response: Float64Array
+  diagonal: Float64Array
+  candidate: Float64Array
+  previous: Float64Array
+}
+
+let shared: Workspace | null = null
+let sharedRows = 0
+let sharedCols = 0
+
+/** Work arrays of at least rows × cols, reused between fits (poissonGlm is not re-entrant). */
+function workspace(rows: number, cols: number): Workspace {
+  if (!shared || rows > sharedRows || cols > sharedCols) {
+    sharedRows = Math.max(rows, sharedRows)
+    sharedCols = Math.max(cols, sharedCols)
+    shared = {
+      counts: new Float64Array(sharedRows),
+      offset: new Float64Array(sharedRows),
+      weights: new Float64Array(sharedRows),
+      design: new Float64Array(sharedRows * sharedCols),
+      response: new Float64Array(sharedRows),
+      diagonal: new Float64Array(sharedCols),
+      candidate: new Float64Array(sharedCols),
+      previous: new Float64Array(sharedCols),
+    }
+  }
+  // views of the exact sizes, so that lengths and column strides match this fit
+  return {
+    counts: shared.counts.subarray(0, rows),
+    offset: shared.offset.subarray(0, rows),
+    weights: shared.weights.subarray(0, rows),
+    design: shared.design.subarray(0, rows * cols),
+    response: shared.response.subarray(0, rows),
+    diagonal: shared.diagonal.subarray(0, cols),
+    candidate: shared.candidate.subarray(0, cols).fill(0),
+    previous: shared.previous.subarray(0, cols).fill(0),
+  }
+}
+
 /**
  * Fit a Poisson GLM with log link: log E[y] = offset + Xβ, by IRLS (Fisher scoring).
  *
@@ -135,10 +179,17 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
   if (input.priorWeights && input.priorWeights.length !== rows) {
     throw new RangeError(`poissonGlm requires ${rows} weights, got ${input.priorWeights.length}`)
   }
-  // dense typed copies keep the hot loops free of optional checks
-  const counts = Float64Array.from(input.counts)
-  const offset = input.offset ? Float64Array.from(input.offset) : new Float64Array(rows)
-  const priorWeights = input.priorWeights ? Float64Array.from(input.priorWeights) : new Float64Array(rows).fill(1)
+  // dense copies keep the hot loops free of optional checks; they and the other work arrays come
+  // from a reused workspace (a fit allocates only what it returns)
+  const work = workspace(rows, cols)
+  const counts = work.counts
+  const offset = work.offset
+  const priorWeights = work.weights
+  for (let i = 0; i < rows; i++) {
+    counts[i] = input.counts[i]!
+    offset[i] = input.offset ? input.offset[i]! : 0
+    priorWeights[i] = input.priorWeights ? input.priorWeights[i]! : 1
+  }
   let activeRows = 0
   for (let i = 0; i < rows; i++) {
     const y = counts[i]!
@@ -153,11 +204,11 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
   const linearPredictor = new Float64Array(rows)
   const fitted = new Float64Array(rows)
   const coefficients = new Float64Array(cols)
-  const workingDesign = new Float64Array(rows * cols)
-  const workingResponse = new Float64Array(rows)
-  const rDiagonal = new Float64Array(cols)
-  const candidate = new Float64Array(cols)
-  const previous = new Float64Array(cols)
+  const workingDesign = work.design
+  const workingResponse = work.response
+  const rDiagonal = work.diagonal
+  const candidate = work.candidate
+  const previous = work.previous
 
   const setPredictor = (beta: ArrayLike<number>): void => {
     for (let i = 0; i < rows; i++) {

@@ -270,10 +270,11 @@ export function hingeScores(input: HingeScoreInput): HingeScores {
   if (profile.length === 0) throw new RangeError('segmentedPoisson found no admissible breakpoint (check minSegment and earliestBreak)')
   let variation = 0
   let statistic = 0
-  profile.forEach((entry, k) => {
-    if (k > 0) variation += Math.abs(entry.score - profile[k - 1]!.score)
-    statistic = Math.max(statistic, entry.score * entry.score)
-  })
+  for (let k = 0; k < profile.length; k++) {
+    const score = profile[k]!.score
+    if (k > 0) variation += Math.abs(score - profile[k - 1]!.score)
+    statistic = Math.max(statistic, score * score)
+  }
   const davies = chiSquareSurvival(statistic, 1) + (variation * Math.exp(-statistic / 2)) / Math.sqrt(2 * Math.PI)
   const single = chiSquareSurvival(statistic, 1)
   return { profile, statistic, variation, pValueAdjusted: Math.min(1, single * profile.length, Math.max(single, davies)) }

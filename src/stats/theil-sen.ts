@@ -11,6 +11,8 @@ export interface TheilSenResult {
   slope: number
   /** Conover's intercept median(y) − slope · median(x) */
   intercept: number
+  /** median of y (the level the slope can be compared with) */
+  medianY: number
   /** confidence bounds (−∞ / +∞ when the rank falls outside the available slopes) */
   lower: number
   upper: number
@@ -92,7 +94,9 @@ function medianOf(values: Float64Array, length: number): number {
   return 0.5 * (lower + upper)
 }
 
+// reused work arrays (a run computes one Theil–Sen slope per skill)
 let slopeScratch = new Float64Array(1024)
+let valueScratch = new Float64Array(64)
 
 /**
  * Theil–Sen slope estimate with the Gilbert (1987) confidence interval.
@@ -139,7 +143,11 @@ export function theilSen(
   }
   if (count === 0) throw new RangeError('theilSen requires at least two distinct x values')
   const slope = medianOf(slopes, count)
-  const intercept = medianOf(Float64Array.from(y), n) - slope * medianOf(Float64Array.from(x), n)
+  if (valueScratch.length < n) valueScratch = new Float64Array(n)
+  for (let i = 0; i < n; i++) valueScratch[i] = y[i]!
+  const medianY = medianOf(valueScratch, n)
+  for (let i = 0; i < n; i++) valueScratch[i] = x[i]!
+  const intercept = medianY - slope * medianOf(valueScratch, n)
   const variance = options.mannKendallVariance ?? mannKendall(Array.from(y), Array.from(x)).variance
   const critical = normalQuantile(0.5 + level / 2) * Math.sqrt(variance)
   const lowerRank = (count - critical) / 2
@@ -147,6 +155,7 @@ export function theilSen(
   return {
     slope,
     intercept,
+    medianY,
     // the median selection left the slopes partitioned: the lower bound lies in the lower half and
     // the upper bound in the upper half, so each search covers only its half
     lower: atRank(slopes, count, lowerRank, 0, Math.min(count - 1, count >> 1)),
