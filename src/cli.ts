@@ -210,6 +210,8 @@ function commandHelp(name: string, c: Command): string {
  * @returns the exit code
  */
 export async function main(argv: string[], io: Io): Promise<number> {
+  // `npx tides -- --db X ...` (the README's form) hands our arguments over behind a `--`
+  if (argv[0] === '--') argv = argv.slice(1)
   // global options may come before the command; the first positional is the command
   let globalParsed
   try {

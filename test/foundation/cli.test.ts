@@ -1,3 +1,4 @@
+import { spawnSync } from 'node:child_process'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
@@ -65,6 +66,16 @@ describe('tides CLI', () => {
     const r = await tides('report', 'runs', '--json', '--db', path.join(dir, 't.db'))
     expect(r.code).toBe(0)
     expect(JSON.parse(r.out)).toEqual([])
+  })
+
+  it('accepts the README form `npx tides -- --db X ...` through the bin script', () => {
+    const dir = tmpDir()
+    // the bin script is what npx runs; npm hands over everything after its own `--`
+    const r = spawnSync(process.execPath, [path.join(__dirname, '../../bin/tides.js'), '--', '--db', path.join(dir, 't.db'), 'report', 'runs', '--json'], {
+      encoding: 'utf8',
+    })
+    expect(r.status, r.stderr).toBe(0)
+    expect(JSON.parse(r.stdout)).toEqual([])
   })
 
   it('reports a bad config file naming the key, exit 1', async () => {
