@@ -7,7 +7,12 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { IMPORTERS } from '../../src/commands/registry.ts'
 import { findStage } from '../../src/stages.ts'
-import { type CrashStage, crashOnce, prepareBases, seeded, setUpCrash } from './crash.ts'
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import { openDb } from '../../src/db/connection.ts'
+import { emit } from '../../src/events/outbox.ts'
+import { type CrashStage, crashOnce, expectEventsBackedByWork, expectNothingPending, prepareBases, seeded, setUpCrash } from './crash.ts'
 import { makeWorkspace, tides, type Workspace } from './helpers.ts'
 
 const KILLS = 2
@@ -39,4 +44,33 @@ describe('SIGKILL at random points', () => {
       if (setup.workMs > 300) expect(outcomes.filter((o) => o.interrupted).length).toBeGreaterThan(0)
     }, 300_000)
   }
+})
+
+describe('the crash checks catch what they claim to', () => {
+  function dbWith(events: [string, Record<string, unknown>][]): string {
+    const file = path.join(fs.mkdtempSync(path.join(os.tmpdir(), 'tides-checks-')), 'x.db')
+    const db = openDb(file)
+    db.transaction(() => {
+      for (const [type, payload] of events) emit(db, type as never, payload)
+    })()
+    db.close()
+    return file
+  }
+
+  it('an event announcing documents that are not stored', () => {
+    const file = dbWith([['documents.ingested', { firstId: 1, lastId: 10, new: 10, duplicate: 0 }]])
+    expect(() => expectEventsBackedByWork(file)).toThrow(/announced as ingested/)
+  })
+
+  it('an event announcing mapped documents or fitted curves that are not there', () => {
+    expect(() => expectEventsBackedByWork(dbWith([['documents.mapped', { mapped: 5 }]]))).toThrow(/announced as mapped/)
+    expect(() => expectEventsBackedByWork(dbWith([['curves.fitted', { skills: 3 }]]))).toThrow(/announced as fitted/)
+    expect(() => expectEventsBackedByWork(dbWith([['plan.updated', { needs: 2 }]]))).toThrow(/announced as ranked/)
+  })
+
+  it('an event a subscribed stage never handled', () => {
+    const file = dbWith([['documents.ingested', { firstId: 1, lastId: 0, new: 0, duplicate: 0 }]])
+    if (findStage('map')) expect(() => expectNothingPending(file, 'ingest', { lastEvent: 0, mapped: 0 })).toThrow(/left events pending/)
+    expect(() => expectNothingPending(file, 'fit', { lastEvent: 0, mapped: 0 })).toThrow()
+  })
 })

@@ -3,16 +3,18 @@
  * started in its own process (`tides run STAGE --only`) and killed with SIGKILL at a random point
  * while it works; then `tides run all` finishes the job. The database must pass
  * `PRAGMA integrity_check` right after the kill, every event left in the outbox must announce work
- * that is really there, and after the restart the results must equal those of `run all` without the
- * kill, with no event lost and none announced that such a clean run does not announce.
+ * that is really there (nothing announced for rolled-back work), and after the restart the results
+ * must equal those of `run all` without the kill, with every subscribed stage past every event of its
+ * types (no event lost). When a check fails, the databases are kept and their folder named.
  */
 import fs from 'node:fs'
+import os from 'node:os'
 import path from 'node:path'
 import Database from 'better-sqlite3'
 import { expect } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
 import { findStage } from '../../src/stages.ts'
-import { copyDb, integrity, query, resultHash, sleep, startTides, tides, type Workspace } from './helpers.ts'
+import { changedTables, copyDb, integrity, query, resultHash, sleep, startTides, tides, type Workspace } from './helpers.ts'
 
 export type CrashStage = 'ingest' | 'map' | 'fit' | 'plan'
 
@@ -24,53 +26,90 @@ export function stagesBefore(stage: CrashStage): string[] {
 }
 
 interface EventRow {
+  id: number
   type: string
   payload_json: string
 }
 
-/** Events without what differs between two runs of the same work (run ids, times, durations). */
-export function normalisedEvents(file: string): string[] {
-  const rows = query<EventRow>(file, 'SELECT type, payload_json FROM events ORDER BY id')
-  const strip = (v: unknown): unknown => {
-    if (Array.isArray(v)) return v.map(strip)
-    if (v && typeof v === 'object') {
-      return Object.fromEntries(
-        Object.entries(v as Record<string, unknown>)
-          .filter(([k]) => !/^(runId|at|ms|seconds|trigger)$|At$|Ms$/.test(k))
-          .map(([k, x]) => [k, strip(x)]),
-      )
-    }
-    return v
+function eventsAfter(file: string, after: number, type: string): (EventRow & { p: Record<string, unknown> })[] {
+  return query<EventRow>(file, 'SELECT id, type, payload_json FROM events WHERE id > ? AND type = ? ORDER BY id', after, type).map((e) => ({ ...e, p: JSON.parse(e.payload_json) as Record<string, unknown> }))
+}
+
+/** Event types each stage announces its work with. */
+const STAGE_EVENTS: Record<CrashStage, string> = {
+  ingest: 'documents.ingested',
+  map: 'documents.mapped',
+  fit: 'curves.fitted',
+  plan: 'plan.updated',
+}
+
+/** Where a kill can be measured against: the last event id, mapped documents and stored rows of the base. */
+export interface Baseline {
+  lastEvent: number
+  mapped: number
+}
+
+export function baselineOf(file: string): Baseline {
+  return {
+    lastEvent: query<{ id: number }>(file, 'SELECT COALESCE(MAX(id), 0) AS id FROM events')[0]!.id,
+    mapped: query<{ n: number }>(file, 'SELECT COUNT(*) AS n FROM documents WHERE mapped_version IS NOT NULL')[0]!.n,
   }
-  return rows.map((r) => `${r.type} ${JSON.stringify(strip(JSON.parse(r.payload_json)))}`).sort()
 }
 
 /**
- * Checks that every event in the outbox announces work that is there: each documents.ingested
- * range of document ids is stored with the counts it states.
+ * Nothing announced for work that rolled back: every event written since the base is backed by
+ * stored work. documents.ingested: its range of document ids is stored with the counts it states.
+ * documents.mapped (counts cumulative within a run): the largest count announced does not exceed
+ * the documents mapped since the base. curves.fitted: the curves table holds the skills it states.
+ * plan.updated: the stored needs ranking has the length it states.
  */
-export function expectEventsBackedByWork(file: string): void {
-  for (const e of query<EventRow>(file, "SELECT type, payload_json FROM events WHERE type = 'documents.ingested'")) {
-    const p = JSON.parse(e.payload_json) as { firstId?: number; lastId?: number; new?: number; duplicate?: number }
-    if (p.firstId === undefined || p.lastId === undefined) continue
-    const [row] = query<{ n: number; dup: number }>(file, 'SELECT COUNT(*) AS n, COUNT(duplicate_of) AS dup FROM documents WHERE id BETWEEN ? AND ?', p.firstId, p.lastId)
-    expect(row!.n, `documents ${p.firstId}..${p.lastId} announced`).toBe((p.new ?? 0) + (p.duplicate ?? 0))
+export function expectEventsBackedByWork(file: string, base: Baseline = { lastEvent: 0, mapped: 0 }): void {
+  for (const { p } of eventsAfter(file, base.lastEvent, 'documents.ingested')) {
+    const { firstId, lastId } = p as { firstId?: number; lastId?: number }
+    if (firstId === undefined || lastId === undefined) continue
+    const [row] = query<{ n: number }>(file, 'SELECT COUNT(*) AS n FROM documents WHERE id BETWEEN ? AND ?', firstId, lastId)
+    expect(row!.n, `documents ${firstId}..${lastId} announced as ingested`).toBe(Number(p['new'] ?? 0) + Number(p['duplicate'] ?? 0))
   }
-  for (const e of query<EventRow>(file, "SELECT type, payload_json FROM events WHERE type = 'documents.mapped'")) {
-    const p = JSON.parse(e.payload_json) as { firstId?: number; lastId?: number }
-    if (p.firstId === undefined || p.lastId === undefined) continue
-    const [row] = query<{ n: number }>(file, 'SELECT COUNT(*) AS n FROM documents WHERE id BETWEEN ? AND ? AND mapped_version IS NULL', p.firstId, p.lastId)
-    expect(row!.n, `documents ${p.firstId}..${p.lastId} announced as mapped`).toBe(0)
+  const mapped = eventsAfter(file, base.lastEvent, 'documents.mapped').map((e) => Number(e.p['mapped'] ?? 0))
+  if (mapped.length) {
+    const now = query<{ n: number }>(file, 'SELECT COUNT(*) AS n FROM documents WHERE mapped_version IS NOT NULL')[0]!.n
+    // runs restart their count: the sum of each run's last (largest) count is what was announced
+    let announced = 0
+    mapped.forEach((m, i) => {
+      if (i === mapped.length - 1 || mapped[i + 1]! <= m) announced += m
+    })
+    expect(announced, 'documents announced as mapped').toBeLessThanOrEqual(now - base.mapped)
   }
+  const fitted = eventsAfter(file, base.lastEvent, 'curves.fitted').at(-1)
+  if (fitted) expect(query<{ n: number }>(file, 'SELECT COUNT(*) AS n FROM curves')[0]!.n, 'curves announced as fitted').toBe(Number(fitted.p['skills']))
+  const planned = eventsAfter(file, base.lastEvent, 'plan.updated').at(-1)
+  if (planned) expect(query<{ n: number }>(file, "SELECT COUNT(*) AS n FROM plan_outputs WHERE kind = 'need'")[0]!.n, 'needs announced as ranked').toBe(Number(planned.p['needs']))
+}
+
+/**
+ * No event lost: after the restart every stage that subscribes to events has handled all of its
+ * types (its cursor is past the last one), and the stage that was killed has announced its work.
+ */
+export function expectNothingPending(file: string, stage: CrashStage, base: Baseline): void {
+  const cursors = new Map(query<{ consumer: string; last_event_id: number }>(file, 'SELECT consumer, last_event_id FROM event_cursors').map((r) => [r.consumer, r.last_event_id]))
+  for (const name of ['ingest', 'map', 'fit', 'ability', 'plan']) {
+    const s = findStage(name)
+    if (!s || s.subscribesTo.length === 0) continue
+    const placeholders = s.subscribesTo.map(() => '?').join(', ')
+    const last = query<{ id: number }>(file, `SELECT COALESCE(MAX(id), 0) AS id FROM events WHERE type IN (${placeholders})`, ...s.subscribesTo)[0]!.id
+    expect(cursors.get(`stage:${name}`) ?? 0, `stage ${name} left events pending`).toBeGreaterThanOrEqual(last)
+  }
+  expect(eventsAfter(file, base.lastEvent, STAGE_EVENTS[stage]).length, `${stage} announced nothing`).toBeGreaterThan(0)
 }
 
 export interface CrashSetup {
   stage: CrashStage
   /** the database with the stage's input in place and nothing of the stage done */
   base: string
-  /** results and events of `run all` from the base without a kill */
+  /** results of `run all` from the base without a kill */
   cleanHash: string
-  cleanEvents: string[]
+  /** the clean database (kept for comparison when a kill goes wrong) */
+  clean: string
   /** how long the stage worked in the clean run */
   workMs: number
 }
@@ -125,27 +164,7 @@ export async function setUpCrash(ws: Workspace, stage: CrashStage, base: string)
     "SELECT MAX((julianday(ended_at) - julianday(started_at)) * 86400000) AS ms FROM job_runs WHERE stage = ? AND status IN ('ok', 'partial')",
     stage,
   )
-  return { stage, base, cleanHash: resultHash(clean.db), cleanEvents: normalisedEvents(clean.db), workMs: Math.max(1, timing?.ms ?? 1) }
-}
-
-/**
- * No event lost: every event of the clean run is there (as often). Nothing announced that the clean
- * run did not announce: an extra event may only repeat one of the clean run's (delivery is at least
- * once: a stage killed after its commit runs again), never state anything else.
- */
-export function expectSameAnnouncements(got: string[], clean: string[], what: string): void {
-  const left = new Map<string, number>()
-  for (const e of got) left.set(e, (left.get(e) ?? 0) + 1)
-  const missing: string[] = []
-  for (const e of clean) {
-    const n = left.get(e) ?? 0
-    if (n === 0) missing.push(e)
-    else left.set(e, n - 1)
-  }
-  const known = new Set(clean)
-  const foreign = [...left.entries()].filter(([e, n]) => n > 0 && !known.has(e)).map(([e]) => e)
-  expect(missing, `events lost ${what}`).toEqual([])
-  expect(foreign, `events announced ${what} that a clean run never announces`).toEqual([])
+  return { stage, base, cleanHash: resultHash(clean.db), clean: clean.db, workMs: Math.max(1, timing?.ms ?? 1) }
 }
 
 export interface CrashOutcome {
@@ -165,42 +184,53 @@ export async function crashOnce(ws: Workspace, setup: CrashSetup, random: () => 
   let delayMs = 0
   let open: { id: number }[] = []
   let before = 0
-  // a kill that comes too late (the stage had finished) is tried again sooner, up to three times
-  for (let attempt = 0; attempt < 3; attempt++) {
-    copyDb(setup.base, w.db)
-    before = query<{ id: number }>(w.db, 'SELECT COALESCE(MAX(id), 0) AS id FROM job_runs')[0]!.id
-    const child = startTides([...w.args, 'run', setup.stage, '--only'])
-    // the stage has started once its job run is recorded (and committed); one open connection polls
-    const watch = new Database(w.db, { readonly: true })
-    try {
-      const running = watch.prepare("SELECT 1 FROM job_runs WHERE id > ? AND stage = ? AND status = 'running'")
-      while (child.child.exitCode === null && running.get(before, setup.stage) === undefined) await sleep(2)
-    } finally {
-      watch.close()
-    }
-    delayMs = attempt === 2 ? 0 : Math.floor(fraction * setup.workMs * (attempt === 0 ? 1 : 0.25))
-    await sleep(delayMs)
-    const alive = child.child.exitCode === null
-    child.child.kill('SIGKILL')
-    const end = await child.done
-    if (alive) expect(end.signal).toBe('SIGKILL')
-    else expect(end.code, end.stderr).toBe(0)
+  const baseline = baselineOf(setup.base)
+  try {
+    // a kill that comes too late (the stage had finished) is tried again sooner, up to three times
+    for (let attempt = 0; attempt < 3; attempt++) {
+      copyDb(setup.base, w.db)
+      before = query<{ id: number }>(w.db, 'SELECT COALESCE(MAX(id), 0) AS id FROM job_runs')[0]!.id
+      const child = startTides([...w.args, 'run', setup.stage, '--only'])
+      // the stage has started once its job run is recorded (and committed); one open connection polls
+      const watch = new Database(w.db, { readonly: true })
+      try {
+        const running = watch.prepare("SELECT 1 FROM job_runs WHERE id > ? AND stage = ? AND status = 'running'")
+        while (child.child.exitCode === null && running.get(before, setup.stage) === undefined) await sleep(2)
+      } finally {
+        watch.close()
+      }
+      delayMs = attempt === 2 ? 0 : Math.floor(fraction * setup.workMs * (attempt === 0 ? 1 : 0.25))
+      await sleep(delayMs)
+      const alive = child.child.exitCode === null
+      child.child.kill('SIGKILL')
+      const end = await child.done
+      if (alive) expect(end.signal).toBe('SIGKILL')
+      else expect(end.code, end.stderr).toBe(0)
 
+      expect(integrity(w.db)).toBe('ok')
+      expectEventsBackedByWork(w.db, baseline)
+      open = query<{ id: number }>(w.db, "SELECT id FROM job_runs WHERE id > ? AND stage = ? AND status = 'running'", before, setup.stage)
+      if (open.length > 0) break
+    }
+    // keep the database as the kill left it, in case a check below fails
+    copyDb(w.db, `${w.db}.killed`)
+    // the next start closes the killed run as interrupted, and finishes the work
+    const restart = await tides([...w.args, 'run', 'all'])
+    expect(restart.code, restart.stderr).toBe(0)
     expect(integrity(w.db)).toBe('ok')
-    expectEventsBackedByWork(w.db)
-    open = query<{ id: number }>(w.db, "SELECT id FROM job_runs WHERE id > ? AND stage = ? AND status = 'running'", before, setup.stage)
-    if (open.length > 0) break
+    for (const { id } of open) {
+      expect(query(w.db, 'SELECT status, error FROM job_runs WHERE id = ?', id)[0]).toMatchObject({ status: 'failed', error: expect.stringMatching(/interrupted/) })
+    }
+    expect(resultHash(w.db), `results after a kill at ${delayMs} ms of ${setup.stage} (tables that differ: ${changedTables(setup.clean, w.db).join(', ')})`).toBe(setup.cleanHash)
+    expectEventsBackedByWork(w.db, baseline)
+    expectNothingPending(w.db, setup.stage, baseline)
+  } catch (err) {
+    // keep the evidence: the killed and restarted databases and the clean one
+    const keep = fs.mkdtempSync(path.join(os.tmpdir(), `tides-crash-failure-${setup.stage}-`))
+    for (const f of [w.db, `${w.db}.killed`, setup.clean, setup.base]) if (fs.existsSync(f)) copyDb(f, path.join(keep, path.basename(f)))
+    throw new Error(`${(err as Error).message}\n(databases kept in ${keep})`, { cause: err })
   }
-  // the next start closes the killed run as interrupted, and finishes the work
-  const restart = await tides([...w.args, 'run', 'all'])
-  expect(restart.code, restart.stderr).toBe(0)
-  expect(integrity(w.db)).toBe('ok')
-  for (const { id } of open) {
-    expect(query(w.db, 'SELECT status, error FROM job_runs WHERE id = ?', id)[0]).toMatchObject({ status: 'failed', error: expect.stringMatching(/interrupted/) })
-  }
-  expect(resultHash(w.db), `results after a kill at ${delayMs} ms of ${setup.stage}`).toBe(setup.cleanHash)
-  expectSameAnnouncements(normalisedEvents(w.db), setup.cleanEvents, `after a kill at ${delayMs} ms of ${setup.stage}`)
-  for (const f of [w.db, `${w.db}-wal`, `${w.db}-shm`, w.config]) fs.rmSync(f, { force: true })
+  for (const f of [w.db, `${w.db}-wal`, `${w.db}-shm`, `${w.db}.killed`, w.config]) fs.rmSync(f, { force: true })
   return { interrupted: open.length > 0, delayMs }
 }
 
