@@ -44,7 +44,7 @@ describe('mannKendall', () => {
   })
 
   it('Gilbert (1987) p. 212 series as a sequence: S = 111, Var = 1226.333, Z = 3.1411 (book: "3.1")', () => {
-    // CHECKS.md §2d: transcription of Gilbert's example in a public package's tests [S]; recomputed [C].
+    // CHECKS.md §2d: Gilbert's example as copied in a public package's tests [S]; recomputed [C].
     // The book may count time ties too, so only the sequence-only values are asserted tightly.
     const values = [20, 20, 20, 20, 15, 20, 20, 30, 27, 26, 23, 35, 25, 28, 70, 26, 24, 34, 32, 23, 50, 30]
     const result = mannKendall(values)
