@@ -2,6 +2,7 @@
  * Shared output of the benchmarks: a printed table for people, and one `BENCH_JSON` line that
  * bench/run.ts collects into bench/results.json. Every report carries the process's peak RSS.
  */
+import os from 'node:os'
 
 export interface Figure {
   figure: string
@@ -26,7 +27,12 @@ function fmt(v: number): string {
 
 /** Prints the figures as a table and a machine-readable line. */
 export function reportBench(name: string, figures: Figure[]): void {
-  const all = [...figures, { figure: 'peak RSS', value: peakRssMiB(), unit: 'MiB' }]
+  // other work on a shared machine slows every figure; the load average says how much there was
+  const all = [
+    ...figures,
+    { figure: 'peak RSS', value: peakRssMiB(), unit: 'MiB' },
+    { figure: 'machine load average (1 min) at the end', value: os.loadavg()[0]!, unit: `on ${os.cpus().length} cores` },
+  ]
   const w = Math.max(...all.map((f) => f.figure.length))
   process.stdout.write(`\n== ${name}\n`)
   for (const f of all) {
