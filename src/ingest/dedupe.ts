@@ -11,6 +11,7 @@
  * Decisions depend only on what is stored before, in arrival order, so a run killed and restarted
  * reaches the same decisions as one uninterrupted run.
  */
+import { bandsThrough, documentsBetween, insertSortedBandRows, lastDocumentId, setBandsThrough, signaturesAfter } from '../db/bands.ts'
 import { type DocumentStore, maxDocumentId } from '../db/documents.ts'
 import { type BandFilter, buildBandFilter, cachedBandFilter } from './band-filter.ts'
 import type { DocumentInput } from './document.ts'
@@ -65,6 +66,14 @@ export function analyseDocument(doc: Pick<DocumentInput, 'title' | 'body' | 'kin
 /** Postings whose signature and shingles stay in memory (about 1 KB each). */
 const CACHE_SIZE = 30_000
 
+/**
+ * Band keys gathered in memory before they are written in one sorted run (about 12 bytes each,
+ * plus the lookup table): 3,000,000 is 300,000 postings at 10 bands. Written with every batch,
+ * each batch's random keys rewrote most pages of the band index: at a million postings that was
+ * most of the bytes the whole ingest wrote.
+ */
+export const BAND_RUN = 3_000_000
+
 interface Known {
   signature: Uint32Array
   /** the root of its chain: itself, or the original it reposts */
@@ -82,12 +91,22 @@ export class Deduper {
   private filter: BandFilter | null
   private lookups = 0
   private readonly buildAfter: number
-  /** band keys of the open batch and their documents, written sorted when it ends */
+  /** band keys not yet in the band table (this run's, and any a killed run left), with their documents */
   private readonly pending = new PendingBands()
+  /** every posting with id <= through has its band rows in the table */
+  private through: number
+  /** documents above `through` that this deduper knows of (stored by it, or caught up) */
+  private accounted = 0
+  /** state when the open batch began, restored when it rolls back */
+  private saved = { mark: 0, through: 0, accounted: 0 }
+  /** the open batch wrote the pending keys (they are dropped from memory once it commits) */
+  private wrote = false
+  private readonly bandRun: number
 
   constructor(
     private readonly store: DocumentStore,
     readonly params: DedupeParams,
+    bandRun = BAND_RUN,
   ) {
     if (params.numHashes % params.bands !== 0) throw new Error(`ingest.dedupe.numHashes (${params.numHashes}) must be a multiple of ingest.dedupe.bands (${params.bands})`)
     // four standard errors of the estimate at its widest (J = 0.5): sqrt(0.25 / k) each
@@ -96,6 +115,35 @@ export class Deduper {
     // loading costs about one key read per stored band key; an index query costs about as much as
     // 30 of those, so the filter pays once a run has looked up a tenth of the stored documents
     this.buildAfter = 1000 + Math.ceil(maxDocumentId(store.db) / 10)
+    this.bandRun = Math.max(1, bandRun)
+    this.through = bandsThrough(store.db)
+    this.catchUp()
+  }
+
+  /**
+   * Postings stored after the band table's high-water mark (a run killed before it wrote its band
+   * rows, or another writer's): their keys, from their stored signatures, join the pending run.
+   */
+  private catchUp(): void {
+    const db = this.store.db
+    const last = lastDocumentId(db)
+    if (last <= this.through) return
+    for (const row of signaturesAfter(db, this.through, last)) {
+      const keys = bandKeys(signatureFromBytes(row.signature), this.params.bands)
+      for (let band = 0; band < keys.length; band++) this.pending.add(band, keys[band]!, row.id)
+    }
+    this.accounted = documentsBetween(db, this.through, last)
+  }
+
+  /** true while band keys wait in memory for their sorted run */
+  get hasPendingBands(): boolean {
+    return this.pending.size > 0
+  }
+
+  /** Call at the start of each batch transaction. */
+  beginBatch(): void {
+    this.saved = { mark: this.pending.size, through: this.through, accounted: this.accounted }
+    this.wrote = false
   }
 
   analyse(doc: Pick<DocumentInput, 'title' | 'body' | 'kind'>): Analysis {
@@ -132,6 +180,7 @@ export class Deduper {
    * flushBands(), and it joins the filter and the cache.
    */
   stored(id: number, a: Analysis, decision: Decision): void {
+    this.accounted++
     const f = this.filter
     // exact-text reposts add nothing: their hash and band keys equal their original's
     if (decision.how === 'exact' || !a.keys || !a.signature) {
@@ -151,19 +200,46 @@ export class Deduper {
     if (this.known.size > CACHE_SIZE) this.known.delete(this.known.keys().next().value!)
   }
 
-  /** Writes the open batch's band keys, sorted by key (call inside the batch transaction). */
-  flushBands(): void {
-    this.store.insertBandRows(this.pending.sortedRows())
-    this.pending.clear()
+  /**
+   * Writes the pending band keys in one sorted run when enough have gathered, or always when `all`
+   * (the end of a run); call inside the batch transaction, after the batch's documents. Then moves
+   * the high-water mark when every document below the newest one is accounted for (none stored by
+   * another writer meanwhile; else the next writer catches up from the signatures).
+   */
+  flushBands(all = false): void {
+    if (this.pending.size > 0) {
+      if (!all && this.pending.size < this.bandRun) return
+      const { keys, docs } = this.pending.sortedFlat()
+      insertSortedBandRows(this.store.db, keys, docs)
+      this.wrote = true
+    }
+    const db = this.store.db
+    const last = lastDocumentId(db)
+    // ids are handed out as max + 1 and documents are never deleted, so `last - through` is the
+    // count unless ids have gaps; only then is counting (which reads every row of the range) needed
+    if (last > this.through && (last - this.through === this.accounted || documentsBetween(db, this.through, last) === this.accounted)) {
+      setBandsThrough(db, last)
+      this.through = last
+      this.accounted = 0
+    }
+  }
+
+  /** Call after the batch transaction committed. */
+  committed(): void {
+    if (this.wrote) this.pending.clear()
+    this.wrote = false
   }
 
   /** Forgets what the rolled-back batch added (its ids will be reused). */
   forget(): void {
     this.known.clear()
-    this.pending.clear()
+    this.pending.truncate(this.saved.mark)
+    this.through = this.saved.through
+    this.accounted = this.saved.accounted
+    this.wrote = false
   }
 
-  /** Stored documents and documents of the open batch sharing a band key. */
+  /** Stored documents and documents whose band rows are pending, sharing a band key. */
   private candidates(keys: readonly number[]): number[] {
     const ids = this.store.candidates(keys)
     if (this.pending.size === 0) return ids

@@ -142,7 +142,7 @@ export async function importDocuments(db: Db, config: Config, kind: Kind, file: 
         }
       }
     }
-    writer.flush()
+    writer.finish()
   } catch (err) {
     finishRun(db, runId, 'failed', writer.counts, (err as Error).message, { file })
     throw err

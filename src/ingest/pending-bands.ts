@@ -1,8 +1,8 @@
 /**
  * @module ingest/pending-bands
- * The band keys of the open batch: appended as postings are stored, looked up when a later posting
- * of the same batch needs candidates, and written to the database sorted by key when the batch
- * commits. An open-addressing hash table over flat typed arrays (linear probing; Knuth, TAOCP
+ * Band keys not yet written to the database: appended as postings are stored, looked up when a
+ * later posting needs candidates, and written sorted by key in one pass when enough have gathered
+ * (see dedupe.ts: band rows are derived data, written in large sorted runs). An open-addressing hash table over flat typed arrays (linear probing; Knuth, TAOCP
  * vol. 3, section 6.4, algorithm L) keeps the per-key cost to a few integer operations with no
  * allocation, which a Map of boxed 64-bit keys did not.
  */
@@ -55,10 +55,68 @@ export class PendingBands {
 
   /** The entries as (stored key = band * 2^32 + key, document id), sorted by stored key then id. */
   sortedRows(): (readonly [number, number])[] {
+    const order = this.sortedOrder()
     const rows: (readonly [number, number])[] = new Array(this.n)
-    for (let i = 0; i < this.n; i++) rows[i] = [this.band[i]! * 0x1_0000_0000 + this.key[i]!, this.doc[i]!]
-    rows.sort((x, y) => x[0] - y[0] || x[1] - y[1])
+    for (let r = 0; r < this.n; r++) {
+      const i = order[r]!
+      rows[r] = [this.band[i]! * 0x1_0000_0000 + this.key[i]!, this.doc[i]!]
+    }
     return rows
+  }
+
+  /**
+   * The entries in flat arrays sorted by (band, key, document id): stored key = band * 2^32 + key.
+   * Entries are added in ascending document order, so a stable sort by (band, key) is enough:
+   * LSD radix sort (Knuth, TAOCP vol. 3, section 5.2.5), 16 bits of the key per pass, then the band
+   * by counting; O(n) with no comparisons and no per-entry objects.
+   */
+  sortedFlat(): { keys: Float64Array; docs: Float64Array } {
+    const order = this.sortedOrder()
+    const keys = new Float64Array(this.n)
+    const docs = new Float64Array(this.n)
+    for (let r = 0; r < this.n; r++) {
+      const i = order[r]!
+      keys[r] = this.band[i]! * 0x1_0000_0000 + this.key[i]!
+      docs[r] = this.doc[i]!
+    }
+    return { keys, docs }
+  }
+
+  /** Entry indexes in (band, key, insertion) order. */
+  private sortedOrder(): Int32Array {
+    const n = this.n
+    let from = new Int32Array(n)
+    let to = new Int32Array(n)
+    for (let i = 0; i < n; i++) from[i] = i
+    const count = new Int32Array(65_536 + 1)
+    for (const shift of [0, 16]) {
+      count.fill(0)
+      for (let i = 0; i < n; i++) count[((this.key[i]! >>> shift) & 0xffff) + 1]!++
+      for (let d = 1; d <= 65_536; d++) count[d]! += count[d - 1]!
+      for (let r = 0; r < n; r++) {
+        const i = from[r]!
+        to[count[(this.key[i]! >>> shift) & 0xffff]!++] = i
+      }
+      ;[from, to] = [to, from]
+    }
+    let maxBand = 0
+    for (let i = 0; i < n; i++) if (this.band[i]! > maxBand) maxBand = this.band[i]!
+    const bc = new Int32Array(maxBand + 2)
+    for (let i = 0; i < n; i++) bc[this.band[i]! + 1]!++
+    for (let b = 1; b <= maxBand + 1; b++) bc[b]! += bc[b - 1]!
+    for (let r = 0; r < n; r++) {
+      const i = from[r]!
+      to[bc[this.band[i]!]!++] = i
+    }
+    return to
+  }
+
+  /** Drops the entries added after the first `n` (a rolled-back batch's). */
+  truncate(n: number): void {
+    if (n >= this.n) return
+    this.n = n
+    this.table.fill(0)
+    for (let i = 0; i < this.n; i++) this.place(i)
   }
 
   /** Every stored key (for adding to a rebuilt filter). */

@@ -52,6 +52,8 @@ export async function ingestSource(env: SourceEnv, source: SourceConfig, trigger
         outcome = await runFolder(env, source, row, writer)
         break
     }
+    // the band rows held back for a sorted run (a failed run leaves them to the next writer)
+    writer.finish()
   } catch (err) {
     const e = err as NodeJS.ErrnoException
     const message = e.code === 'ENOENT' ? `cannot read ${source.location}: no such file or folder` : e.message

@@ -1,6 +1,6 @@
 /**
  * @module ingest/writer
- * Stores documents in batches. Each batch — its documents, their dedupe links and band keys, the
+ * Stores documents in batches. Each batch — its documents, their dedupe links and signatures, the
  * source's resume cursor and the `documents.ingested` event — commits in one transaction, so a run
  * killed at any point leaves either the whole batch or none of it, and a restart resumes from the
  * last committed cursor. Rows already stored (same source and external id) are skipped, which makes
@@ -112,9 +112,22 @@ export class BatchWriter {
    * @param finalStep more work for the same transaction (e.g. storing the feed's ETag)
    */
   flush(finalStep?: () => void): void {
+    this.commit(finalStep, false)
+  }
+
+  /**
+   * Commits what is queued and writes every band row still held in memory (dedupe.ts writes them in
+   * large sorted runs, not with every batch). Call once at the end of a run; a run that ends
+   * without it (killed, say) loses nothing: the next writer rebuilds the rows from the signatures.
+   */
+  finish(finalStep?: () => void): void {
+    this.commit(finalStep, true)
+  }
+
+  private commit(finalStep: (() => void) | undefined, endOfRun: boolean): void {
     const batch = this.pending
     const cursor = this.cursor
-    if (batch.length === 0 && cursor === undefined && !finalStep) return
+    if (batch.length === 0 && cursor === undefined && !finalStep && !(endOfRun && this.deduper.hasPendingBands)) return
     const delta = emptyCounts()
     const stored: number[] = []
     let from: string | null = null
@@ -122,6 +135,7 @@ export class BatchWriter {
     let firstId: number | null = null
     let lastId: number | null = null
     const tx = this.db.transaction(() => {
+      this.deduper.beginBatch()
       for (const { doc, analysis } of batch) {
         delta.read++
         if (this.store.existing(this.sourceId, doc.externalId) !== undefined) {
@@ -167,7 +181,7 @@ export class BatchWriter {
         if (from === null || doc.postedAt < from) from = doc.postedAt
         if (to === null || doc.postedAt > to) to = doc.postedAt
       }
-      this.deduper.flushBands()
+      this.deduper.flushBands(endOfRun)
       if (cursor !== undefined) setSourceCursor(this.db, this.sourceId, cursor)
       finalStep?.()
       if (stored.length > 0) {
@@ -190,6 +204,7 @@ export class BatchWriter {
       this.deduper.forget()
       throw err
     }
+    this.deduper.committed()
     this.pending = []
     this.cursor = undefined
     const total = addCounts(this.counts, delta)

@@ -142,7 +142,7 @@ describe('index settings', () => {
     const { lines, copies } = postingsWithReposts(5, 300, 0, [1])
     const w1 = writerFor(db, 's')
     for (const l of lines) w1.add(posting(l.identifier, l.description), { file: 's' })
-    w1.flush()
+    w1.finish()
     expect(copies.size).toBe(0)
     const before = db.prepare('SELECT COUNT(*) FROM document_bands').pluck().get() as number
     expect(before).toBe(300 * 10)
@@ -155,5 +155,69 @@ describe('index settings', () => {
     w2.add(posting('again', words.join(' ')), { file: 's2' })
     w2.flush()
     expect(rows(db).at(-1)!.duplicate_of).toBe(18)
+  })
+})
+
+describe('band rows written in sorted runs', () => {
+  const bandsOf = (db: Db) => db.prepare('SELECT key, document_id FROM document_bands ORDER BY key, document_id').all()
+  const through = (db: Db) => db.prepare("SELECT value FROM settings WHERE key = 'ingest.bands.through'").pluck().get()
+
+  it('a run that ends without writing its band rows (killed) leaves them to the next writer, which finds reposts of those postings', () => {
+    const { lines } = postingsWithReposts(9, 400, 0, [1])
+    // the clean run: every row written at the end
+    const clean = openDb(':memory:')
+    const c = writerFor(clean, 's')
+    for (const l of lines) c.add(posting(l.identifier, l.description), { file: 's' })
+    c.finish()
+    expect(bandsOf(clean)).toHaveLength(400 * 10)
+    expect(through(clean)).toBe('400')
+
+    // the killed run: batches committed (documents, signatures) but the band rows never written
+    const db = openDb(':memory:')
+    const k = writerFor(db, 's')
+    for (const l of lines.slice(0, 250)) k.add(posting(l.identifier, l.description), { file: 's' })
+    k.flush()
+    expect(bandsOf(db)).toHaveLength(0)
+    expect(through(db)).toBe('0')
+    // the next writer takes the stored postings' keys from their signatures: a repost of posting
+    // 200 (stored by the killed run) is found before any of their rows are written
+    const next = writerFor(db, 's')
+    const words = lines[199]!.description.split(' ')
+    words[5] = 'changed'
+    next.add(posting('again', words.join(' ')), { file: 's' })
+    next.flush()
+    expect(rows(db).at(-1)!.duplicate_of).toBe(200)
+    for (const l of lines.slice(250)) next.add(posting(l.identifier, l.description), { file: 's' })
+    next.finish()
+    // same band rows as the clean run, plus the repost's
+    const got = bandsOf(db) as { key: number; document_id: number }[]
+    expect(got.filter((r) => r.document_id !== 251)).toEqual((bandsOf(clean) as { key: number; document_id: number }[]).map((r) => (r.document_id > 250 ? { ...r, document_id: r.document_id + 1 } : r)).sort((a, b) => a.key - b.key || a.document_id - b.document_id))
+    expect(through(db)).toBe('401')
+  })
+
+  it('a rolled-back batch drops its keys but keeps the earlier batches\' pending keys', () => {
+    const db = openDb(':memory:')
+    const { lines } = postingsWithReposts(3, 300, 0, [1])
+    const w = writerFor(db, 's')
+    for (const l of lines.slice(0, 200)) w.add(posting(l.identifier, l.description), { file: 's' })
+    w.flush()
+    // the next batch fails inside its transaction (a trigger refuses the insert)
+    db.exec("CREATE TEMP TRIGGER refuse BEFORE INSERT ON documents WHEN NEW.external_id = 'p-3-250' BEGIN SELECT RAISE(ABORT, 'refused'); END")
+    for (const l of lines.slice(200, 240)) w.add(posting(l.identifier, l.description), { file: 's' })
+    expect(() => {
+      for (const l of lines.slice(240, 300)) w.add(posting(l.identifier, l.description), { file: 's' })
+    }).toThrow(/refused/)
+    db.exec('DROP TRIGGER refuse')
+    const w2 = writerFor(db, 's')
+    const stored = db.prepare('SELECT COUNT(*) FROM documents').pluck().get() as number
+    expect(stored).toBe(200)
+    w2.finish()
+    expect(bandsOf(db)).toHaveLength(200 * 10)
+    // a repost of posting 150 (pending when the batch failed) is still found
+    const words = lines[149]!.description.split(' ')
+    words[2] = 'changed'
+    w.add(posting('again', words.join(' ')), { file: 's' })
+    w.finish()
+    expect(rows(db).at(-1)!.duplicate_of).toBe(150)
   })
 })
