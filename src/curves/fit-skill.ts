@@ -78,6 +78,29 @@ export interface SkillAnalysis {
   grid: SkillGrid
   /** the fitted trend model in use (null when the data were too thin) */
   trend: TrendFit | null
+  /** optional parts left out because they could not be computed on this skill's data, with the reason */
+  omitted: OmittedPart[]
+}
+
+/** An optional part of the analysis (change search, forecast, …) that could not be computed. */
+export interface OmittedPart {
+  part: string
+  reason: string
+}
+
+const messageOf = (error: unknown): string => (error instanceof Error ? error.message : String(error))
+
+/**
+ * Run an optional part of the analysis; when it fails numerically (e.g. a rank-deficient design on a
+ * very sparse skill), record why in `omitted` and use the fallback instead of losing the skill.
+ */
+function attempt<T>(omitted: OmittedPart[], part: string, compute: () => T, fallback: T): T {
+  try {
+    return compute()
+  } catch (error) {
+    omitted.push({ part, reason: messageOf(error) })
+    return fallback
+  }
 }
 
 /** The fitted curve of one skill, as stored and reported. */
@@ -144,7 +167,14 @@ function sourceSlopes(trend: TrendFit, grid: SkillGrid): { name: string; estimat
   })
 }
 
-function insufficient(grid: SkillGrid, reason: string, observedMonths: number, mentions: number, latest: { month: string | null; share: number | null }): SkillAnalysis {
+function insufficient(
+  grid: SkillGrid,
+  reason: string,
+  observedMonths: number,
+  mentions: number,
+  latest: { month: string | null; share: number | null },
+  omitted: OmittedPart[] = [],
+): SkillAnalysis {
   return {
     id: grid.id,
     label: grid.label,
@@ -172,6 +202,7 @@ function insufficient(grid: SkillGrid, reason: string, observedMonths: number, m
     mentions,
     grid,
     trend: null,
+    omitted,
   }
 }
 
@@ -208,8 +239,26 @@ export function analyseSkill(input: SkillSeriesInput, config: CurvesConfig, last
     return insufficient(grid, `${mentions} mentions in the window, fewer than ${config.minMentions}`, observedMonths, mentions, latest)
   }
 
+  try {
+    return analyseObserved(grid, config, { observedMonths, mentions, latest, lastObserved: lastObserved! })
+  } catch (error) {
+    // a safety net: every numerical step that may fail on thin data is guarded below, so this is
+    // reached only by an unforeseen failure; the skill still gets a curve and a plain reason
+    return insufficient(grid, `the analysis could not be completed (${messageOf(error)})`, observedMonths, mentions, latest)
+  }
+}
+
+/** The analysis of a skill that passed the data-volume checks. */
+function analyseObserved(
+  grid: SkillGrid,
+  config: CurvesConfig,
+  known: { observedMonths: number; mentions: number; latest: { month: string | null; share: number | null }; lastObserved: number },
+): SkillAnalysis {
+  const { observedMonths, mentions, latest, lastObserved } = known
+  const omitted: OmittedPart[] = []
   let observations: StackedObservations
   let seasonal: SeasonalChoice
+  let fullSlope: CoefficientSummary
   try {
     observations = stackObservations(grid)
     seasonal = chooseSeasonalTerms(observations, {
@@ -218,24 +267,27 @@ export function analyseSkill(input: SkillSeriesInput, config: CurvesConfig, last
       minMonths: config.seasonalMinMonths,
       observedMonths,
     })
+    fullSlope = currentSlope(seasonal.fit, config.level)
+    if (!Number.isFinite(fullSlope.estimate) || !Number.isFinite(fullSlope.lower) || !Number.isFinite(fullSlope.upper)) {
+      throw new RangeError(`the slope or its interval is not finite (${fullSlope.estimate}, [${fullSlope.lower}, ${fullSlope.upper}])`)
+    }
   } catch (error) {
-    const message = error instanceof Error ? error.message : String(error)
-    return insufficient(grid, `the trend regression could not be fitted (${message})`, observedMonths, mentions, latest)
+    return insufficient(grid, `the trend regression could not be fitted (${messageOf(error)})`, observedMonths, mentions, latest)
   }
+  if (seasonal.failedCandidate) omitted.push({ part: 'seasonal candidates', reason: seasonal.failedCandidate })
   const linear = seasonal.fit
-  const fullSlope = currentSlope(linear, config.level)
 
   // Mann–Kendall over the whole window (seasonal Kendall when month-of-year terms were chosen), on
   // the information-weighted index, so that it weighs the sources as the regression does
   const pooledPositions: number[] = []
   for (let t = 0; t < grid.length; t++) if (!Number.isNaN(grid.pooled[t]!)) pooledPositions.push(t)
-  const fullMannKendall = kendallOf(grid, pooledPositions, pooledPositions.map((t) => grid.pooled[t]!), seasonal.harmonics > 0)
+  const fullMannKendall = attempt(omitted, 'Mann–Kendall', () => kendallOf(grid, pooledPositions, pooledPositions.map((t) => grid.pooled[t]!), seasonal.harmonics > 0), null)
 
   // A skill that emerged from near zero is judged on the months since it emerged: its history is a
   // level shift from nothing, which neither a straight line nor a hinge describes. Otherwise a
   // change in slope is used when it is significant after the search correction AND Mann–Kendall on
   // the months since confirms the new slope's direction; else the whole window is the regime.
-  const emergedPosition = emergenceIndex(grid.combined, grid.mentions, config.emergence)
+  const emergedPosition = attempt(omitted, 'emergence', () => emergenceIndex(grid.combined, grid.mentions, config.emergence), null)
   const lastPosition = grid.length - 1
   let regimeStart = 0
   let regimeTrend: TrendFit | null = null
@@ -245,38 +297,45 @@ export function analyseSkill(input: SkillSeriesInput, config: CurvesConfig, last
       const since = observationsFrom(observations, emergedPosition)
       const harmonics = since.rows >= config.seasonalMinMonths * since.sourceCount ? seasonal.harmonics : 0
       regimeTrend = fitTrend(since, { harmonics, breakpoint: null })
+      const sinceSlope = currentSlope(regimeTrend, config.level)
+      if (!Number.isFinite(sinceSlope.lower) || !Number.isFinite(sinceSlope.upper)) throw new RangeError('the slope since emergence has no finite interval')
       regimeStart = emergedPosition
       regimeKind = 'emergence'
-    } catch {
+    } catch (error) {
+      omitted.push({ part: 'trend since emergence', reason: messageOf(error) })
       regimeTrend = null
     }
   }
-  const change = regimeKind === 'emergence' ? null : detectChange(linear, config.change)
+  const change = regimeKind === 'emergence' ? null : attempt(omitted, 'change search', () => detectChange(linear, config.change), null)
   let regimeMannKendall: SkillAnalysis['mannKendall'] = null
   let confirmed = false
   if (change?.significant) {
     try {
       const changed = fitTrend(observations, { harmonics: seasonal.harmonics, breakpoint: change.breakpoint })
+      const changedSlope = currentSlope(changed, config.level)
+      if (!Number.isFinite(changedSlope.lower) || !Number.isFinite(changedSlope.upper)) throw new RangeError('the slope since the change has no finite interval')
       const after = pooledPositions.filter((t) => t > change.breakpoint)
       regimeMannKendall = kendallOf(grid, after, after.map((t) => grid.pooled[t]!), false)
-      const direction = Math.sign(currentSlope(changed, config.level).estimate)
+      const direction = Math.sign(changedSlope.estimate)
       confirmed = regimeMannKendall !== null && oneSidedP(regimeMannKendall, direction) < config.mannKendallAlpha
       if (confirmed) {
         regimeTrend = changed
         regimeStart = change.breakpoint + 1
         regimeKind = 'change'
       }
-    } catch {
+    } catch (error) {
+      omitted.push({ part: 'trend since change', reason: messageOf(error) })
+      regimeMannKendall = null
       confirmed = false
     }
   }
   if (regimeKind === 'emergence') {
     const since = pooledPositions.filter((t) => t >= regimeStart)
-    regimeMannKendall = kendallOf(grid, since, since.map((t) => grid.pooled[t]!), false)
+    regimeMannKendall = attempt(omitted, 'Mann–Kendall since emergence', () => kendallOf(grid, since, since.map((t) => grid.pooled[t]!), false), null)
   }
   const trend = regimeTrend ?? linear
   const changeAccepted = regimeKind === 'change'
-  const slope = currentSlope(trend, config.level)
+  const slope = regimeTrend ? currentSlope(trend, config.level) : fullSlope
   // The months after a change were chosen by looking at the data, so the slope's own p-value is too
   // small. A skill flagged through a change must show both the change (search-corrected) and the
   // new slope: the larger of the two p-values is a valid test of "changed and now moving"
@@ -287,26 +346,39 @@ export function analyseSkill(input: SkillSeriesInput, config: CurvesConfig, last
 
   // Theil–Sen on the information-weighted index over the regime in use
   const regime = regimeKind === 'window' ? pooledPositions : pooledPositions.filter((t) => t >= regimeStart)
-  const regimeValues = regime.map((t) => grid.pooled[t]!)
   let sen: SkillAnalysis['senSlope'] = null
   if (regime.length >= 3) {
-    const result = theilSen(regime, regimeValues, { level: config.level, mannKendallVariance: mk && !mk.seasonal ? mk.variance : undefined })
-    const median = result.medianY
-    sen = {
-      slope: result.slope,
-      lower: finiteOrNull(result.lower),
-      upper: finiteOrNull(result.upper),
-      relativeAnnual: median > 0 ? (12 * result.slope) / median : null,
-    }
+    sen = attempt(
+      omitted,
+      'Theil–Sen slope',
+      () => {
+        const regimeValues = regime.map((t) => grid.pooled[t]!)
+        const result = theilSen(regime, regimeValues, { level: config.level, mannKendallVariance: mk && !mk.seasonal ? mk.variance : undefined })
+        const median = result.medianY
+        return {
+          slope: result.slope,
+          lower: finiteOrNull(result.lower),
+          upper: finiteOrNull(result.upper),
+          relativeAnnual: median > 0 ? (12 * result.slope) / median : null,
+        }
+      },
+      null,
+    )
   }
 
-  const bursts = batchedBursts(grid.mentions, grid.documents, config.bursts).bursts.map((burst) => ({
-    level: burst.level,
-    start: gridMonth(grid, burst.start),
-    end: gridMonth(grid, burst.end - 1),
-  }))
-  const forecast = forecastSkill(grid, trend, { horizon: config.horizonMonths, origins: config.forecastOrigins, minTrain: config.minMonths })
-  const fittedLatest = combinedAt(trend, grid, lastObserved!).share
+  const bursts = attempt(
+    omitted,
+    'bursts',
+    () =>
+      batchedBursts(grid.mentions, grid.documents, config.bursts).bursts.map((burst) => ({
+        level: burst.level,
+        start: gridMonth(grid, burst.start),
+        end: gridMonth(grid, burst.end - 1),
+      })),
+    [],
+  )
+  const forecast = attempt(omitted, 'forecast', () => forecastSkill(grid, trend, { horizon: config.horizonMonths, origins: config.forecastOrigins, minTrain: config.minMonths }), null)
+  const fittedLatest = finiteOrNull(combinedAt(trend, grid, lastObserved).share)
 
   return {
     id: grid.id,
@@ -345,6 +417,7 @@ export function analyseSkill(input: SkillSeriesInput, config: CurvesConfig, last
     mentions,
     grid,
     trend,
+    omitted,
   }
 }
 
@@ -427,7 +500,9 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
     for (let t = 0; t < values.length; t++) plain[t] = values[t]!
     return { months, values: plain }
   }
-  const fitted = trend ? column(fittedIndex(trend, grid)) : null
+  // parts that failed on this skill's data are left out and named with the reason, never the skill
+  const omitted = analysis.omitted.slice()
+  const fitted = trend ? attempt(omitted, 'fitted curve', () => column(fittedIndex(trend, grid)), null) : null
   const combined = column(grid.combined)
   const forecast = analysis.forecast
   const points = forecast?.points ?? []
@@ -447,7 +522,7 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
       observedMonths: source.observedMonths,
       mentions: source.mentions,
     })),
-    sourceSlopes: trend && grid.sources.length > 1 ? sourceSlopes(trend, grid) : null,
+    sourceSlopes: trend && grid.sources.length > 1 ? attempt(omitted, 'source slopes', () => sourceSlopes(trend, grid), null) : null,
     dispersion: trend ? finiteOrNull(trend.glm.dispersion) : null,
     qaic: analysis.qaic,
     droppedSources: grid.dropped,
@@ -470,6 +545,7 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
     holt: forecast?.holt ?? null,
     // bands in the shape the plan stage reads (low/high = 95%) and the dashboard reads (lo80 … hi95)
     forecast: points.map((p) => ({ ...p, low: p.lo95, high: p.hi95 })),
+    omittedParts: omitted,
   }
   const curve: SkillCurve = {
     id: analysis.id,

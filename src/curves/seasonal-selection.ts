@@ -18,6 +18,8 @@ export interface SeasonalChoice {
   dispersion: number | null
   /** true when the score screen showed no candidate could win, so none was fitted */
   screenedOut: boolean
+  /** why the first seasonal candidate that could not be fitted failed (null when none failed) */
+  failedCandidate?: string | null
 }
 
 /** Share of the QAIC penalty a candidate's score statistic must reach to be worth fitting. */
@@ -60,20 +62,28 @@ export function chooseSeasonalTerms(
   let worthFitting = false
   for (let k = 1; k <= maxHarmonics && !worthFitting; k++) {
     const extra = seasonalColumns.design.subarray(base.cols * observations.rows, (base.cols + 2 * k) * observations.rows)
-    const score = poissonScoreTest({
-      design: base.design,
-      rows: observations.rows,
-      cols: base.cols,
-      fitted: linear.glm.fitted,
-      counts: observations.counts,
-      extra,
-      extraCols: 2 * k,
-      dispersion: dispersion0,
-    })
+    let score: { statistic: number }
+    try {
+      score = poissonScoreTest({
+        design: base.design,
+        rows: observations.rows,
+        cols: base.cols,
+        fitted: linear.glm.fitted,
+        counts: observations.counts,
+        extra,
+        extraCols: 2 * k,
+        dispersion: dispersion0,
+      })
+    } catch (error) {
+      // a screen that cannot be computed on thin data: keep the linear trend and say why
+      const reason = `score screen for ${k} harmonic${k > 1 ? 's' : ''}: ${error instanceof Error ? error.message : String(error)}`
+      return { harmonics: 0, fit: linear, candidates: [], dispersion: null, screenedOut: false, failedCandidate: reason }
+    }
     if (score.statistic >= SCREEN_FRACTION * 4 * k) worthFitting = true
   }
   if (!worthFitting) return { harmonics: 0, fit: linear, candidates: [], dispersion: null, screenedOut: true }
   const fits: TrendFit[] = [linear]
+  let failedCandidate: string | null = null
   for (let k = 1; k <= Math.min(5, options.maxHarmonics); k++) {
     try {
       // warm start: the previous model's coefficients and zero for the new pair
@@ -82,8 +92,10 @@ export function chooseSeasonalTerms(
       start.set(previous)
       fits.push(fitTrend(observations, { harmonics: k, breakpoint: null }, start))
     } catch (error) {
-      if (error instanceof RankDeficientError) break
-      throw error
+      // too few distinct months for the terms (rank deficiency) is expected and silent; any other
+      // numerical failure on thin data ends the candidate list too, and is reported
+      if (!(error instanceof RankDeficientError)) failedCandidate = `${k} harmonic${k > 1 ? 's' : ''}: ${error instanceof Error ? error.message : String(error)}`
+      break
     }
   }
   const largest = fits[fits.length - 1]!
@@ -94,5 +106,5 @@ export function chooseSeasonalTerms(
   }))
   let best = 0
   for (let i = 1; i < candidates.length; i++) if (candidates[i]!.qaic < candidates[best]!.qaic) best = i
-  return { harmonics: candidates[best]!.harmonics, fit: fits[best]!, candidates, dispersion, screenedOut: false }
+  return { harmonics: candidates[best]!.harmonics, fit: fits[best]!, candidates, dispersion, screenedOut: false, failedCandidate }
 }
