@@ -2,7 +2,8 @@
  * Curves benchmark (issue 5): fitting 20,000 skills × 60 months of external postings (goal < 5 s on
  * one core), the whole per-skill analysis (seasonal choice, change search, Mann–Kendall, Theil–Sen,
  * emergence, bursts, rolling-origin forecast choice) plus Benjamini–Hochberg across all skills.
- * Also the same with an internal requests series for a fifth of the skills. Synthetic seeded data
+ * Also the same with an internal requests series for a fifth of the skills, and a sparse corpus
+ * (a tenth as many skills with a handful of mentions each) where no skill may fail. Synthetic seeded data
  * with known slopes; the recovery figure shows that a fast run is also a right one.
  * Standalone: `npx tsx bench/fit.ts [skills]`.
  */
@@ -102,7 +103,45 @@ function run(label: string, withInternal: boolean, figures: Figure[]): void {
   figures.push({ figure: '  skills that failed', value: result.failures.length, unit: '' })
 }
 
+/**
+ * Very sparse skills, as a 20,000-concept taxonomy produces: 20 to 80 mentions bunched around a random
+ * month of 60, half with an internal series that misses about 30% of months. None may fail (a
+ * numerical failure must give insufficient-evidence or drop only an optional part).
+ */
+function sparseRun(figures: Figure[]): void {
+  const count = Math.max(200, Math.round(SKILLS / 10))
+  const inputs: SkillSeriesInput[] = []
+  for (let k = 0; k < count; k++) {
+    const total = 20 + Math.floor(uniform() * 60)
+    const external = new Array<number>(MONTHS).fill(0)
+    const internal = new Array<number>(MONTHS).fill(0)
+    const internalN = months.map(() => (uniform() < 0.3 ? 0 : 100))
+    const focus = Math.floor(uniform() * MONTHS)
+    const spread = 1 + Math.floor(uniform() * MONTHS)
+    for (let m = 0; m < total; m++) {
+      const t = Math.min(MONTHS - 1, Math.max(0, focus + Math.floor((uniform() - 0.5) * spread)))
+      if (k % 2 === 1 && uniform() < 0.2 && internalN[t]! > internal[t]!) internal[t]!++
+      else external[t]!++
+    }
+    const input: SkillSeriesInput = { id: `sparse-${k}`, months, external: { n: external, N: postings.map((N) => Math.round(N / 40)) } }
+    if (k % 2 === 1) input.internal = { n: internal, N: internalN }
+    inputs.push(input)
+  }
+  const t0 = performance.now()
+  const result = fitAll(inputs, DEFAULT_CURVES_CONFIG)
+  const wall = (performance.now() - t0) / 1000
+  const withState = result.curves.filter((curve) => curve.state).length
+  const withOmitted = result.curves.filter((curve) => (curve.details['omittedParts'] as unknown[] | undefined)?.length).length
+  const insufficient = result.curves.filter((curve) => curve.state === 'insufficient-evidence').length
+  figures.push({ figure: `sparse skills: ${count.toLocaleString('en-GB')} skills with 20-80 mentions over ${MONTHS} months`, value: wall, unit: 's' })
+  figures.push({ figure: '  skills that failed', value: result.failures.length, unit: '', goal: '0', met: result.failures.length === 0 })
+  figures.push({ figure: '  curves with a state', value: withState, unit: '' })
+  figures.push({ figure: '  insufficient-evidence', value: insufficient, unit: '' })
+  figures.push({ figure: '  curves with an omitted optional part', value: withOmitted, unit: '' })
+}
+
 const figures: Figure[] = []
 run('fit external only', false, figures)
 run('fit with internal series (1 in 5)', true, figures)
+sparseRun(figures)
 reportBench('fit', figures)
