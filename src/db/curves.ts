@@ -1,9 +1,11 @@
 /**
  * @module db/curves
- * SQL of the fit stage: reads monthly demand per skill from documents and mentions (after dedupe and
- * roll-up), and writes the demand series and the fitted curves. Reposts (duplicate_of set) and
- * documents not yet mapped are left out of both the counts and the totals, so a share is always
- * "mapped original documents that mention the skill, of all mapped original documents".
+ * SQL of demand and curves: the running demand aggregates (n per concept, series and month; N per
+ * series and month) that writers of mentions keep in step, their full recomputation from documents
+ * and mentions (after dedupe and roll-up), and the demand series and fitted curves the fit stage
+ * writes. Reposts (duplicate_of set) and documents not yet mapped are left out of both the counts
+ * and the totals, so a share is always "mapped original documents that mention the skill, of all
+ * mapped original documents".
  */
 import type { Db } from './connection.ts'
 
@@ -31,8 +33,45 @@ export interface MonthlyDemand {
   labels: Map<string, string>
 }
 
+/** Fills a MonthlyDemand from (series, month, total) and (concept, series, month, n) rows. */
+function collectDemand(
+  db: Db,
+  totalRows: Iterable<{ series: string; month: string; total: number }>,
+  countRows: Iterable<[string, string, string, number]>,
+): MonthlyDemand {
+  const totals: MonthlyDemand['totals'] = { external: new Map(), internal: new Map() }
+  const monthSet = new Set<string>()
+  for (const row of totalRows) {
+    if (row.series !== 'external' && row.series !== 'internal') continue
+    totals[row.series].set(row.month, row.total)
+    monthSet.add(row.month)
+  }
+  const mentions: MonthlyDemand['mentions'] = new Map()
+  let lastId = ''
+  let perSeries: Record<DemandSeries, Map<string, number>> | undefined
+  for (const [conceptId, series, month, n] of countRows) {
+    if (series !== 'external' && series !== 'internal') continue
+    if (conceptId !== lastId || !perSeries) {
+      perSeries = mentions.get(conceptId)
+      if (!perSeries) {
+        perSeries = { external: new Map(), internal: new Map() }
+        mentions.set(conceptId, perSeries)
+      }
+      lastId = conceptId
+    }
+    perSeries[series].set(month, n)
+  }
+  const labels = new Map(
+    (db.prepare('SELECT id, pref_label FROM concepts ORDER BY id').raw().all() as [string, string][]),
+  )
+  return { months: [...monthSet].sort(), totals, mentions, labels }
+}
+
 /**
- * Monthly demand counts of every concept, both series, from documents and mentions.
+ * Monthly demand counts of every concept, both series, from the running aggregates
+ * (`demand_counts`, `demand_totals`): its cost depends on concepts x months, not on the number of
+ * documents. Equal to {@link recomputeMonthlyDemand} whenever every writer of mentions and
+ * documents keeps the aggregates (see {@link DemandDelta}).
  *
  * @example
  * ```ts
@@ -41,48 +80,168 @@ export interface MonthlyDemand {
  * ```
  */
 export function readMonthlyDemand(db: Db): MonthlyDemand {
-  const totals: MonthlyDemand['totals'] = { external: new Map(), internal: new Map() }
-  const monthSet = new Set<string>()
-  const totalRows = db
-    .prepare(
-      `SELECT kind, month, COUNT(*) AS total FROM documents
-       WHERE duplicate_of IS NULL AND mapped_version IS NOT NULL
-       GROUP BY kind, month`,
-    )
-    .all() as { kind: string; month: string; total: number }[]
-  for (const row of totalRows) {
-    const series = row.kind === KIND_OF.external ? 'external' : row.kind === KIND_OF.internal ? 'internal' : null
-    if (!series) continue
-    totals[series].set(row.month, row.total)
-    monthSet.add(row.month)
-  }
-  const mentions: MonthlyDemand['mentions'] = new Map()
-  const mentionRows = db
-    .prepare(
-      `SELECT m.concept_id AS concept_id, d.kind AS kind, d.month AS month, COUNT(*) AS n
-       FROM mentions m JOIN documents d ON d.id = m.document_id
-       WHERE d.duplicate_of IS NULL AND d.mapped_version IS NOT NULL
-       GROUP BY m.concept_id, d.kind, d.month`,
-    )
-    .iterate() as IterableIterator<{ concept_id: string; kind: string; month: string; n: number }>
-  for (const row of mentionRows) {
-    const series = row.kind === KIND_OF.external ? 'external' : row.kind === KIND_OF.internal ? 'internal' : null
-    if (!series) continue
-    let perSeries = mentions.get(row.concept_id)
-    if (!perSeries) {
-      perSeries = { external: new Map(), internal: new Map() }
-      mentions.set(row.concept_id, perSeries)
-    }
-    perSeries[series].set(row.month, row.n)
-  }
-  const labels = new Map(
-    (db.prepare('SELECT id, pref_label FROM concepts ORDER BY id').all() as { id: string; pref_label: string }[]).map((row) => [row.id, row.pref_label]),
-  )
-  return { months: [...monthSet].sort(), totals, mentions, labels }
+  const totalRows = db.prepare('SELECT series, month, total FROM demand_totals').all() as { series: string; month: string; total: number }[]
+  // primary-key order: one concept's rows arrive together
+  const countRows = db.prepare('SELECT concept_id, series, month, n FROM demand_counts').raw().iterate() as IterableIterator<[string, string, string, number]>
+  return collectDemand(db, totalRows, countRows)
+}
+
+const TOTALS_FROM_DOCUMENTS = `SELECT CASE kind WHEN 'posting' THEN 'external' ELSE 'internal' END AS series, month, COUNT(*) AS total
+  FROM documents WHERE duplicate_of IS NULL AND mapped_version IS NOT NULL AND kind IN ('posting','request')
+  GROUP BY kind, month`
+const COUNTS_FROM_MENTIONS = `SELECT m.concept_id AS concept_id, CASE d.kind WHEN 'posting' THEN 'external' ELSE 'internal' END AS series, d.month AS month, COUNT(*) AS n
+  FROM mentions m JOIN documents d ON d.id = m.document_id
+  WHERE d.duplicate_of IS NULL AND d.mapped_version IS NOT NULL AND d.kind IN ('posting','request')
+  GROUP BY m.concept_id, d.kind, d.month`
+
+/**
+ * The full recomputation of {@link readMonthlyDemand} from documents and mentions (a document
+ * counted once per concept after roll-up; reposts and unmapped documents left out). It reads every
+ * mention, so its cost grows with the corpus: the reference for tests and for
+ * {@link rebuildDemandCounts}, not for the fit stage.
+ *
+ * @example
+ * ```ts
+ * recomputeMonthlyDemand(db).totals.external.get('2025-03') // => the same as readMonthlyDemand(db)
+ * ```
+ */
+export function recomputeMonthlyDemand(db: Db): MonthlyDemand {
+  const totalRows = db.prepare(TOTALS_FROM_DOCUMENTS).all() as { series: string; month: string; total: number }[]
+  const countRows = db.prepare(`${COUNTS_FROM_MENTIONS} ORDER BY 1, 2, 3`).raw().iterate() as IterableIterator<[string, string, string, number]>
+  return collectDemand(db, totalRows, countRows)
 }
 
 /**
- * Replace the demand table with the given rows (inside the caller's transaction).
+ * Repair: recomputes the demand aggregates from documents and mentions (inside the caller's
+ * transaction, or its own). Migration 3 fills them the same way.
+ * @returns the number of (concept, series, month) rows written
+ *
+ * @example
+ * ```ts
+ * rebuildDemandCounts(db) // => 48213
+ * ```
+ */
+export function rebuildDemandCounts(db: Db): number {
+  return db.transaction(() => {
+    db.prepare('DELETE FROM demand_totals').run()
+    db.prepare('DELETE FROM demand_counts').run()
+    db.prepare(`INSERT INTO demand_totals (series, month, total) ${TOTALS_FROM_DOCUMENTS}`).run()
+    return db.prepare(`INSERT INTO demand_counts (concept_id, series, month, n) ${COUNTS_FROM_MENTIONS}`).run().changes
+  })()
+}
+
+/** Empties the demand aggregates (when every document becomes unmapped at once). */
+export function clearDemandCounts(db: Db): void {
+  db.prepare('DELETE FROM demand_totals').run()
+  db.prepare('DELETE FROM demand_counts').run()
+}
+
+/** The series a document kind counts in (null for a kind outside both). */
+export function seriesOfKind(kind: string): DemandSeries | null {
+  return kind === KIND_OF.external ? 'external' : kind === KIND_OF.internal ? 'internal' : null
+}
+
+const UPSERT_CHUNK = 100
+
+/**
+ * Changes to the demand aggregates collected in memory while a batch of documents is written, then
+ * applied in one pass per key ({@link DemandDelta.apply}) inside the same transaction. A document
+ * "counts" while it is an original (duplicate_of IS NULL) and mapped (mapped_version IS NOT NULL):
+ * a writer calls {@link DemandDelta.document} with +1 when a document starts to count (with its
+ * concepts after roll-up) and with -1 when it stops or before its mentions change.
+ *
+ * @example
+ * ```ts
+ * const delta = new DemandDelta()
+ * delta.document('posting', '2025-03', ['sql', 'data-skills'], +1)
+ * delta.apply(db) // => 3 rows touched
+ * ```
+ */
+export class DemandDelta {
+  private readonly counts = new Map<string, number>()
+  private readonly totals = new Map<string, number>()
+
+  /** Adds (sign +1) or removes (sign -1) one document of a kind and month with these concepts. */
+  document(kind: string, month: string, conceptIds: Iterable<string>, sign: 1 | -1): void {
+    const series = seriesOfKind(kind)
+    if (!series) return
+    const suffix = `\u0000${series}\u0000${month}`
+    const tkey = `${series}\u0000${month}`
+    this.totals.set(tkey, (this.totals.get(tkey) ?? 0) + sign)
+    for (const id of conceptIds) {
+      const key = id + suffix
+      this.counts.set(key, (this.counts.get(key) ?? 0) + sign)
+    }
+  }
+
+  get size(): number {
+    return this.counts.size + this.totals.size
+  }
+
+  /**
+   * Writes the collected changes (keys in primary-key order; rows that reach zero are deleted, as
+   * the full recomputation has no zero rows) and forgets them. Call inside the transaction that
+   * changed the documents and mentions.
+   * @returns the number of aggregate rows touched
+   */
+  apply(db: Db): number {
+    let touched = 0
+    const zeroCounts: string[][] = []
+    const counts = [...this.counts].filter(([, d]) => d !== 0).sort((a, b) => (a[0] < b[0] ? -1 : a[0] > b[0] ? 1 : 0))
+    const one = db.prepare('INSERT INTO demand_counts (concept_id, series, month, n) VALUES (?, ?, ?, ?) ON CONFLICT DO UPDATE SET n = n + excluded.n')
+    const many = counts.length >= UPSERT_CHUNK
+      ? db.prepare(`INSERT INTO demand_counts (concept_id, series, month, n) VALUES ${Array.from({ length: UPSERT_CHUNK }, () => '(?, ?, ?, ?)').join(', ')} ON CONFLICT DO UPDATE SET n = n + excluded.n`)
+      : undefined
+    const args: (string | number)[] = []
+    let i = 0
+    for (; many && i + UPSERT_CHUNK <= counts.length; i += UPSERT_CHUNK) {
+      args.length = 0
+      for (let j = i; j < i + UPSERT_CHUNK; j++) {
+        const [key, d] = counts[j]!
+        const parts = key.split('\u0000')
+        args.push(parts[0]!, parts[1]!, parts[2]!, d)
+        if (d < 0) zeroCounts.push(parts)
+      }
+      many.run(...args)
+    }
+    for (; i < counts.length; i++) {
+      const [key, d] = counts[i]!
+      const parts = key.split('\u0000')
+      one.run(parts[0]!, parts[1]!, parts[2]!, d)
+      if (d < 0) zeroCounts.push(parts)
+    }
+    touched += counts.length
+    if (zeroCounts.length) {
+      const del = db.prepare('DELETE FROM demand_counts WHERE concept_id = ? AND series = ? AND month = ? AND n = 0')
+      const negative = db.prepare('SELECT n FROM demand_counts WHERE concept_id = ? AND series = ? AND month = ?').pluck()
+      for (const [id, series, month] of zeroCounts) {
+        if (del.run(id, series, month).changes === 0 && ((negative.get(id, series, month) as number | undefined) ?? 0) < 0) {
+          throw new Error(`demand aggregate for ${id} ${series} ${month} fell below zero: run the repair (rebuildDemandCounts)`)
+        }
+      }
+    }
+    const totalUpsert = db.prepare('INSERT INTO demand_totals (series, month, total) VALUES (?, ?, ?) ON CONFLICT DO UPDATE SET total = total + excluded.total')
+    const totalZero = db.prepare('DELETE FROM demand_totals WHERE series = ? AND month = ? AND total = 0')
+    const totalNow = db.prepare('SELECT total FROM demand_totals WHERE series = ? AND month = ?').pluck()
+    for (const [key, d] of this.totals) {
+      if (d === 0) continue
+      const [series, month] = key.split('\u0000') as [string, string]
+      totalUpsert.run(series, month, d)
+      if (d < 0 && totalZero.run(series, month).changes === 0 && ((totalNow.get(series, month) as number | undefined) ?? 0) < 0) {
+        throw new Error(`demand total for ${series} ${month} fell below zero: run the repair (rebuildDemandCounts)`)
+      }
+      touched++
+    }
+    this.counts.clear()
+    this.totals.clear()
+    return touched
+  }
+}
+
+/**
+ * Replace the demand table with the given rows (inside the caller's transaction). Rows should come
+ * in primary-key order (concept, series, month), as {@link readMonthlyDemand} yields concepts: the
+ * table is then written as one append, many rows per statement.
  *
  * @example
  * ```ts
@@ -91,12 +250,27 @@ export function readMonthlyDemand(db: Db): MonthlyDemand {
  */
 export function replaceDemand(db: Db, rows: Iterable<DemandRow>): number {
   db.prepare('DELETE FROM demand').run()
-  const insert = db.prepare('INSERT INTO demand (concept_id, series, month, n, total) VALUES (?, ?, ?, ?, ?)')
+  const chunk = 200
+  const one = db.prepare('INSERT INTO demand (concept_id, series, month, n, total) VALUES (?, ?, ?, ?, ?)')
+  const many = db.prepare(`INSERT INTO demand (concept_id, series, month, n, total) VALUES ${Array.from({ length: chunk }, () => '(?, ?, ?, ?, ?)').join(', ')}`)
+  const args: (string | number)[] = new Array(chunk * 5)
+  let pending = 0
   let count = 0
   for (const row of rows) {
-    insert.run(row.concept_id, row.series, row.month, row.n, row.total)
+    const at = pending * 5
+    args[at] = row.concept_id
+    args[at + 1] = row.series
+    args[at + 2] = row.month
+    args[at + 3] = row.n
+    args[at + 4] = row.total
+    pending++
     count++
+    if (pending === chunk) {
+      many.run(...args)
+      pending = 0
+    }
   }
+  for (let i = 0; i < pending; i++) one.run(args[i * 5]!, args[i * 5 + 1]!, args[i * 5 + 2]!, args[i * 5 + 3]!, args[i * 5 + 4]!)
   return count
 }
 

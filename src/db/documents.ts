@@ -5,6 +5,7 @@
  */
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
+import { DemandDelta } from './curves.ts'
 
 // ------------------------------------------------------------------------------------------------
 // sources
@@ -262,6 +263,76 @@ export function clearBands(db: Db): void {
 
 export function setSignature(db: Db, id: number, signature: Buffer | null): void {
   db.prepare('UPDATE documents SET signature = ? WHERE id = ?').run(signature, id)
+}
+
+interface CountState {
+  id: number
+  kind: string
+  month: string
+  duplicate_of: number | null
+  mapped_version: number | null
+}
+
+/** Takes a document out of the demand aggregates when it counts there (a mapped original). */
+function uncountDocument(db: Db, delta: DemandDelta, doc: CountState): void {
+  if (doc.duplicate_of !== null || doc.mapped_version === null) return
+  const concepts = db.prepare('SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(doc.id) as string[]
+  delta.document(doc.kind, doc.month, concepts, -1)
+}
+
+function countState(db: Db, id: number): CountState | undefined {
+  return db.prepare('SELECT id, kind, month, duplicate_of, mapped_version FROM documents WHERE id = ?').get(id) as CountState | undefined
+}
+
+/**
+ * Marks a stored document as a repost of `originalId` (for a dedupe decision made after it was
+ * stored): it leaves the demand aggregates if it counted there, loses its mentions (reposts are
+ * never mapped), and its own reposts move to the root original so that every chain keeps one root.
+ * Call inside a transaction.
+ * @throws Error when either document is missing or the link would make a cycle
+ */
+export function markDuplicate(db: Db, id: number, originalId: number, similarity: number): void {
+  const doc = countState(db, id)
+  const original = countState(db, originalId)
+  if (!doc) throw new Error(`markDuplicate: document ${id} is not stored`)
+  if (!original) throw new Error(`markDuplicate: original ${originalId} is not stored`)
+  const root = original.duplicate_of ?? original.id
+  if (root === id) throw new Error(`markDuplicate: document ${id} is the root of ${originalId}; a repost cannot be its own original`)
+  const delta = new DemandDelta()
+  uncountDocument(db, delta, doc)
+  db.prepare('DELETE FROM mentions WHERE document_id = ?').run(id)
+  db.prepare('UPDATE documents SET duplicate_of = ?, dup_similarity = ?, mapped_version = NULL WHERE id = ?').run(root, similarity, id)
+  db.prepare('UPDATE documents SET duplicate_of = ? WHERE duplicate_of = ?').run(root, id)
+  delta.apply(db)
+}
+
+/**
+ * Deletes documents (their mentions go with them), keeping the demand aggregates in step. A deleted
+ * original's reposts are kept: the earliest becomes the new original (unmapped, so the next map run
+ * maps and counts it) and the others point at it. Band keys of deleted documents stay behind; they
+ * only yield candidates that are not found. Call inside a transaction.
+ * @returns the number of documents deleted
+ */
+export function deleteDocuments(db: Db, ids: readonly number[]): number {
+  const delta = new DemandDelta()
+  const reposts = db.prepare('SELECT id FROM documents WHERE duplicate_of = ? ORDER BY id').pluck()
+  let deleted = 0
+  for (const id of ids) {
+    const doc = countState(db, id)
+    if (!doc) continue
+    uncountDocument(db, delta, doc)
+    const children = reposts.all(id) as number[]
+    if (children.length > 0) {
+      const [heir, ...rest] = children as [number, ...number[]]
+      db.prepare('UPDATE documents SET duplicate_of = NULL, dup_similarity = NULL, mapped_version = NULL WHERE id = ?').run(heir)
+      db.prepare('DELETE FROM mentions WHERE document_id = ?').run(heir)
+      const move = db.prepare('UPDATE documents SET duplicate_of = ? WHERE id = ?')
+      for (const other of rest) move.run(heir, other)
+    }
+    deleted += db.prepare('DELETE FROM documents WHERE id = ?').run(id).changes
+  }
+  delta.apply(db)
+  return deleted
 }
 
 export interface DocumentCounts {

@@ -314,9 +314,75 @@ CREATE INDEX curves_state ON curves(state);
 CREATE INDEX plan_outputs_rank ON plan_outputs(kind, rank);
 `
 
+/**
+ * Migration 3: demand kept as running aggregates, and leaner mention storage.
+ *
+ * - `demand_counts` (n documents mentioning a concept, per series and month) and `demand_totals`
+ *   (N documents per series and month) hold exactly what the fit stage used to recompute from
+ *   mentions x documents on every run: mapped original documents only, a document counted once per
+ *   concept after roll-up. The map stage (and every writer that changes a counted document) updates
+ *   them in the transaction that changes the mentions; db/curves.ts `rebuildDemandCounts` is the
+ *   full recomputation (reference and repair). Both are filled here from the stored mentions.
+ * - `mentions` and `demand` become WITHOUT ROWID tables clustered on their primary keys: the rowid
+ *   tables kept the same rows twice (table + primary-key index).
+ */
+const V3_DEMAND_AGGREGATES = `
+CREATE TABLE demand_counts (
+  concept_id TEXT NOT NULL,
+  series TEXT NOT NULL CHECK (series IN ('external','internal')),
+  month TEXT NOT NULL,
+  n INTEGER NOT NULL,
+  PRIMARY KEY (concept_id, series, month)
+) WITHOUT ROWID;
+
+CREATE TABLE demand_totals (
+  series TEXT NOT NULL CHECK (series IN ('external','internal')),
+  month TEXT NOT NULL,
+  total INTEGER NOT NULL,
+  PRIMARY KEY (series, month)
+) WITHOUT ROWID;
+
+CREATE TABLE mentions_v3 (
+  document_id INTEGER NOT NULL REFERENCES documents(id) ON DELETE CASCADE,
+  concept_id TEXT NOT NULL REFERENCES concepts(id) ON DELETE CASCADE,
+  count INTEGER NOT NULL,
+  first_offset INTEGER,
+  via TEXT NOT NULL,
+  PRIMARY KEY (document_id, concept_id)
+) WITHOUT ROWID;
+INSERT INTO mentions_v3 (document_id, concept_id, count, first_offset, via)
+  SELECT document_id, concept_id, count, first_offset, via FROM mentions ORDER BY document_id, concept_id;
+DROP TABLE mentions;
+ALTER TABLE mentions_v3 RENAME TO mentions;
+CREATE INDEX mentions_concept ON mentions(concept_id);
+
+CREATE TABLE demand_v3 (
+  concept_id TEXT NOT NULL,
+  series TEXT NOT NULL CHECK (series IN ('external','internal')),
+  month TEXT NOT NULL,
+  n INTEGER NOT NULL,
+  total INTEGER NOT NULL,
+  PRIMARY KEY (concept_id, series, month)
+) WITHOUT ROWID;
+INSERT INTO demand_v3 SELECT concept_id, series, month, n, total FROM demand ORDER BY concept_id, series, month;
+DROP TABLE demand;
+ALTER TABLE demand_v3 RENAME TO demand;
+
+INSERT INTO demand_totals (series, month, total)
+  SELECT CASE kind WHEN 'posting' THEN 'external' ELSE 'internal' END, month, COUNT(*) FROM documents
+  WHERE duplicate_of IS NULL AND mapped_version IS NOT NULL AND kind IN ('posting','request')
+  GROUP BY kind, month;
+INSERT INTO demand_counts (concept_id, series, month, n)
+  SELECT m.concept_id, CASE d.kind WHEN 'posting' THEN 'external' ELSE 'internal' END, d.month, COUNT(*)
+  FROM mentions m JOIN documents d ON d.id = m.document_id
+  WHERE d.duplicate_of IS NULL AND d.mapped_version IS NOT NULL AND d.kind IN ('posting','request')
+  GROUP BY m.concept_id, d.kind, d.month;
+`
+
 export const MIGRATIONS: readonly Migration[] = [
   { version: 1, name: 'core tables', sql: V1_CORE },
   { version: 2, name: 'indexes for duplicates, states and ranks', sql: V2_RUN_INDEXES },
+  { version: 3, name: 'demand aggregates; mentions and demand without rowid', sql: V3_DEMAND_AGGREGATES },
 ]
 
 /** The schema version this build of the program writes. */

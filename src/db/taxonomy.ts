@@ -7,6 +7,7 @@
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
 import { getSetting, setSetting } from './connection.ts'
+import { clearDemandCounts, DemandDelta } from './curves.ts'
 import type { Concept, SkillType } from '../taxonomy/types.ts'
 import type { MentionRow } from '../taxonomy/rows.ts'
 
@@ -75,6 +76,8 @@ export interface LabelFlags {
  */
 export function replaceTaxonomy(db: Db, concepts: readonly Concept[], rules: StoredRules | null, source: string, origin: string, flags: LabelFlags): number {
   stmt(db, 'DELETE FROM mentions').run()
+  // every original becomes unmapped below, so nothing counts in the demand aggregates any more
+  clearDemandCounts(db)
   stmt(db, 'DELETE FROM concept_broader').run()
   stmt(db, 'DELETE FROM labels').run()
   stmt(db, 'DELETE FROM concepts').run()
@@ -149,19 +152,75 @@ export function documentsAfter(db: Db, afterId: number, limit: number): Document
 
 export type { MentionRow } from '../taxonomy/rows.ts'
 
-/** Replaces a document's mentions and records the taxonomy version it was mapped with. */
-export function saveMapping(db: Db, documentId: number, version: number, rows: readonly MentionRow[]): void {
-  stmt(db, 'DELETE FROM mentions WHERE document_id = ?').run(documentId)
-  const ins = stmt(db, 'INSERT INTO mentions(document_id, concept_id, count, first_offset, via) VALUES (?, ?, ?, ?, ?)')
-  for (const r of rows) ins.run(documentId, r.conceptId, r.count, r.firstOffset, r.via)
-  stmt(db, 'UPDATE documents SET mapped_version = ? WHERE id = ?').run(version, documentId)
+/** A document's mapping: its mention rows (direct and roll-up), at most one per concept. */
+export interface DocumentMapping {
+  id: number
+  rows: readonly MentionRow[]
 }
 
-/** Marks documents unmapped so that the map stage maps them again. */
+const MENTION_CHUNK = 100
+const INSERT_MENTION = 'INSERT INTO mentions(document_id, concept_id, count, first_offset, via) VALUES '
+
+/** Removes a counted document's current mentions and total from the delta (before they change). */
+function uncount(db: Db, delta: DemandDelta, id: number, kind: string, month: string): void {
+  const concepts = stmt(db, 'SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(id) as string[]
+  delta.document(kind, month, concepts, -1)
+}
+
+/**
+ * Replaces the mentions of a batch of documents, records the taxonomy version they were mapped
+ * with, and keeps the demand aggregates in step (a document that counted before has its old
+ * mentions taken out; an original counts with its new ones). Mentions are written many rows per
+ * statement in key order. Call inside the batch's transaction.
+ */
+export function saveMappings(db: Db, version: number, docs: readonly DocumentMapping[]): void {
+  const delta = new DemandDelta()
+  const state = stmt(db, 'SELECT kind, month, duplicate_of, mapped_version FROM documents WHERE id = ?')
+  const clear = stmt(db, 'DELETE FROM mentions WHERE document_id = ?')
+  const setVersion = stmt(db, 'UPDATE documents SET mapped_version = ? WHERE id = ?')
+  const pending: (string | number | null)[] = []
+  let rowsPending = 0
+  const many = stmt(db, INSERT_MENTION + Array.from({ length: MENTION_CHUNK }, () => '(?, ?, ?, ?, ?)').join(', '))
+  const one = stmt(db, INSERT_MENTION + '(?, ?, ?, ?, ?)')
+  const sorted = [...docs].sort((a, b) => a.id - b.id)
+  for (const d of sorted) {
+    const doc = state.get(d.id) as { kind: string; month: string; duplicate_of: number | null; mapped_version: number | null } | undefined
+    if (!doc) throw new Error(`saveMappings: document ${d.id} is not stored`)
+    if (doc.duplicate_of === null && doc.mapped_version !== null) uncount(db, delta, d.id, doc.kind, doc.month)
+    clear.run(d.id)
+    const rows = [...d.rows].sort((a, b) => (a.conceptId < b.conceptId ? -1 : a.conceptId > b.conceptId ? 1 : 0))
+    for (const r of rows) {
+      pending.push(d.id, r.conceptId, r.count, r.firstOffset, r.via)
+      if (++rowsPending === MENTION_CHUNK) {
+        many.run(...pending)
+        pending.length = 0
+        rowsPending = 0
+      }
+    }
+    setVersion.run(version, d.id)
+    if (doc.duplicate_of === null) delta.document(doc.kind, doc.month, rows.map((r) => r.conceptId), 1)
+  }
+  for (let i = 0; i < rowsPending; i++) one.run(...pending.slice(i * 5, i * 5 + 5))
+  delta.apply(db)
+}
+
+/** Replaces a document's mentions and records the taxonomy version it was mapped with. */
+export function saveMapping(db: Db, documentId: number, version: number, rows: readonly MentionRow[]): void {
+  saveMappings(db, version, [{ id: documentId, rows }])
+}
+
+/** Marks documents unmapped so that the map stage maps them again (they stop counting in demand until then). */
 export function markUnmapped(db: Db, ids: readonly number[]): number {
+  const delta = new DemandDelta()
+  const state = stmt(db, 'SELECT kind, month, duplicate_of, mapped_version FROM documents WHERE id = ?')
   const s = stmt(db, 'UPDATE documents SET mapped_version = NULL WHERE id = ?')
   let n = 0
-  for (const id of ids) n += s.run(id).changes
+  for (const id of ids) {
+    const doc = state.get(id) as { kind: string; month: string; duplicate_of: number | null; mapped_version: number | null } | undefined
+    if (doc && doc.duplicate_of === null && doc.mapped_version !== null) uncount(db, delta, id, doc.kind, doc.month)
+    n += s.run(id).changes
+  }
+  delta.apply(db)
   return n
 }
 
@@ -198,8 +257,23 @@ export interface DocumentText {
   body: string
 }
 
-/** Original documents' month and text, in id order, for candidate-term discovery. */
-export function* iterateDocumentTexts(db: Db): Generator<DocumentText> {
+/**
+ * Original documents' month and text, in id order, for candidate-term discovery. With `sinceMonth`,
+ * only documents of that month or later (found through the (kind, month) index, so the cost follows
+ * the window, not the corpus).
+ */
+export function* iterateDocumentTexts(db: Db, sinceMonth?: string): Generator<DocumentText> {
+  if (sinceMonth !== undefined) {
+    const ids = new Float64Array(
+      stmt(db, "SELECT id FROM documents WHERE kind IN ('posting','request') AND month >= ?").pluck().all(sinceMonth) as number[],
+    ).sort()
+    const fetch = stmt(db, 'SELECT id, month, title, body FROM documents WHERE id = ? AND duplicate_of IS NULL')
+    for (const id of ids) {
+      const row = fetch.get(id) as DocumentText | undefined
+      if (row) yield row
+    }
+    return
+  }
   let after = 0
   for (;;) {
     const rows = stmt(db, 'SELECT id, month, title, body FROM documents WHERE duplicate_of IS NULL AND id > ? ORDER BY id LIMIT 2000').all(after) as DocumentText[]
@@ -207,6 +281,17 @@ export function* iterateDocumentTexts(db: Db): Generator<DocumentText> {
     yield* rows
     after = rows[rows.length - 1]!.id
   }
+}
+
+/** The latest month of any original document (string order, as candidate discovery compares), or null. */
+export function latestOriginalMonth(db: Db): string | null {
+  let latest: string | null = null
+  for (const kind of ['posting', 'request']) {
+    // walks the (kind, month) index from the end until an original turns up
+    const m = stmt(db, 'SELECT month FROM documents WHERE kind = ? AND duplicate_of IS NULL ORDER BY month DESC LIMIT 1').pluck().get(kind) as string | undefined
+    if (m !== undefined && (latest === null || m > latest)) latest = m
+  }
+  return latest
 }
 
 export interface CandidateInput {

@@ -12,8 +12,9 @@ import {
   countUnmapped,
   dismissedTerms,
   iterateDocumentTexts,
+  latestOriginalMonth,
   replaceOpenCandidates,
-  saveMapping,
+  saveMappings,
   storedRules,
   taxonomyVersion,
   unmappedAfter,
@@ -88,14 +89,14 @@ export async function mapUnmapped(db: Db, config: Config, log: (m: string) => vo
       const results = await batch.results
       const last = counts.mapped + batch.docs.length >= total
       db.transaction(() => {
-        batch.docs.forEach((d, i) => {
-          const rows = results[i]!
-          saveMapping(db, d.id, version, rows)
+        // mentions and the demand aggregates they feed, in one transaction per batch
+        saveMappings(db, version, batch.docs.map((d, i) => ({ id: d.id, rows: results[i]! })))
+        for (const rows of results) {
           for (const r of rows) {
             if (r.via === 'rollup') counts.rollups++
             else counts.mentions++
           }
-        })
+        }
         counts.mapped += batch.docs.length
         if (last || inflight.length === 0) emit(db, 'documents.mapped', { mapped: counts.mapped, version, mentions: counts.mentions, rollups: counts.rollups })
       })()
@@ -108,15 +109,39 @@ export async function mapUnmapped(db: Db, config: Config, log: (m: string) => vo
   return counts
 }
 
-/** Recomputes the open candidate terms from every original document. */
+const YEAR_MONTH = /^\d{4}-(0[1-9]|1[0-2])$/
+
+/** The first month of the candidate window ending at `latest` (as findCandidateTerms computes it). */
+export function candidateWindowStart(latest: string, recentMonths: number, windowMonths: number): string {
+  const index = Number(latest.slice(0, 4)) * 12 + Number(latest.slice(5, 7)) - 1 - Math.max(windowMonths, recentMonths + 1) + 1
+  return `${Math.floor(index / 12)}-${String((index % 12) + 1).padStart(2, '0')}`
+}
+
+/**
+ * Recomputes the open candidate terms from the original documents of the candidate window (the
+ * latest month and the window before it are found through the (kind, month) index; documents of
+ * earlier months never take part, so they are not read).
+ */
 export function refreshCandidates(db: Db, config: Config, matcher: Matcher = matcherFromDb(db)): CandidateResult {
   const c = config.taxonomy.candidates
+  const latest = latestOriginalMonth(db)
+  // a malformed latest month: the discovery decides over every document, as before
+  const since = latest !== null && YEAR_MONTH.test(latest) ? candidateWindowStart(latest, c.recentMonths, c.windowMonths) : undefined
   const result = findCandidateTerms(
     () => (function* () {
-      for (const d of iterateDocumentTexts(db)) yield { month: d.month, text: d.title ? `${d.title}\n${d.body}` : d.body }
+      for (const d of iterateDocumentTexts(db, since)) yield { month: d.month, text: d.title ? `${d.title}\n${d.body}` : d.body }
     })(),
     matcher,
-    { recentMonths: c.recentMonths, windowMonths: c.windowMonths, minRecentDocs: c.minRecentDocs, minRatio: c.minRatio, alpha: c.alpha, maxTerms: c.maxTerms, exclude: dismissedTerms(db) },
+    {
+      recentMonths: c.recentMonths,
+      windowMonths: c.windowMonths,
+      ...(latest !== null ? { latestMonth: latest } : {}),
+      minRecentDocs: c.minRecentDocs,
+      minRatio: c.minRatio,
+      alpha: c.alpha,
+      maxTerms: c.maxTerms,
+      exclude: dismissedTerms(db),
+    },
   )
   db.transaction(() =>
     replaceOpenCandidates(

@@ -1,0 +1,281 @@
+/**
+ * The running demand aggregates (demand_counts, demand_totals) against their full recomputation from
+ * documents and mentions, on corpora built through the real stages (import, then map), and after
+ * every change that moves a document in or out of the counts: a second import, accepting a
+ * candidate term (re-map of the affected documents), replacing the taxonomy, deleting documents
+ * (an original with reposts) and importing them again, and marking a mapped document a repost.
+ * Also the upgrade of a version-2 database (migration 3 fills the aggregates from stored mentions).
+ */
+import { describe, it, expect, afterAll } from 'vitest'
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import Database from 'better-sqlite3'
+import { loadConfig } from '../../src/config.ts'
+import { openDb, schemaVersion, type Db } from '../../src/db/connection.ts'
+import { rebuildDemandCounts, readMonthlyDemand, recomputeMonthlyDemand, type MonthlyDemand } from '../../src/db/curves.ts'
+import { deleteDocuments, markDuplicate } from '../../src/db/documents.ts'
+import { countUnmapped, replaceOpenCandidates } from '../../src/db/taxonomy.ts'
+import { importDocuments } from '../../src/ingest/import.ts'
+import { acceptAsConcept } from '../../src/taxonomy/decisions.ts'
+import { mapStage } from '../../src/taxonomy/stage.ts'
+import { importTaxonomy } from '../../src/taxonomy/store.ts'
+import { runFit } from '../../src/curves/stage.ts'
+
+const config = loadConfig({ db: ':memory:' })
+const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'tides-demand-'))
+afterAll(() => fs.rmSync(tmp, { recursive: true, force: true }))
+const quiet = () => {}
+
+const WORDS = 'alder birch cedar damson elder fennel gorse hazel ivy juniper kale larch maple nettle oak poplar quince rowan sorrel thyme willow yarrow'.split(' ')
+const SKILL_TEXT = [
+  'Kubernetes and Terraform on the platform.',
+  'Python and SQL for reporting.',
+  'PyTorch models for the forecasting desk.',
+  'Advanced Excel and stakeholder management.',
+  'Forklift licence and first aid.',
+  'Java services with Spring.',
+  'Quillstream orchestration every night.',
+]
+
+interface Posting {
+  identifier: string
+  title: string
+  description: string
+  datePosted: string
+}
+
+/** Fernhollow postings over `months` months from `from`, each with its own filler words (kept apart by the near-duplicate filter). */
+function postings(prefix: string, from: number, months: number, perMonth: number): Posting[] {
+  const out: Posting[] = []
+  let n = 0
+  for (let m = from; m < from + months; m++) {
+    for (let i = 0; i < perMonth; i++) {
+      const local = Array.from({ length: 14 }, (_, k) => WORDS[(n * 5 + k * 7 + m * 3) % WORDS.length]).join(' ')
+      const skills = [SKILL_TEXT[(n + m) % SKILL_TEXT.length], SKILL_TEXT[(n * 3 + 1) % SKILL_TEXT.length]].join(' ')
+      out.push({
+        identifier: `${prefix}${n}`,
+        title: `Fernhollow role ${prefix}${n}`,
+        description: `Depot ${local} number ${prefix}${n}. ${skills}`,
+        datePosted: `${2024 + Math.floor((m - 1) / 12)}-${String(((m - 1) % 12) + 1).padStart(2, '0')}-${String(3 + (i % 20)).padStart(2, '0')}`,
+      })
+      n++
+    }
+  }
+  return out
+}
+
+function writeJsonl(name: string, rows: readonly object[]): string {
+  const file = path.join(tmp, name)
+  fs.writeFileSync(file, rows.map((r) => JSON.stringify(r)).join('\n') + '\n')
+  return file
+}
+
+async function importPostings(db: Db, rows: readonly Posting[]): Promise<void> {
+  const r = await importDocuments(db, config, 'postings', writeJsonl(`p-${Math.random().toString(36).slice(2)}.jsonl`, rows), { skipBad: false })
+  expect(r.refused).toBe(false)
+}
+
+async function importRequests(db: Db, rows: readonly { timestamp: string; text: string; channel: string; team: string }[]): Promise<void> {
+  const r = await importDocuments(db, config, 'requests', writeJsonl(`r-${Math.random().toString(36).slice(2)}.jsonl`, rows), { skipBad: false })
+  expect(r.refused).toBe(false)
+}
+
+async function map(db: Db): Promise<void> {
+  await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+}
+
+/** The aggregate as the fit stage reads it equals the recomputation from every mention. */
+function expectInStep(db: Db): MonthlyDemand {
+  const incremental = readMonthlyDemand(db)
+  const full = recomputeMonthlyDemand(db)
+  expect(incremental.months).toEqual(full.months)
+  expect(incremental.totals).toEqual(full.totals)
+  expect(incremental.mentions).toEqual(full.mentions)
+  expect(incremental.labels).toEqual(full.labels)
+  // and no row of the aggregates is left at zero (the recomputation has none)
+  expect(db.prepare('SELECT COUNT(*) FROM demand_counts WHERE n <= 0').pluck().get()).toBe(0)
+  expect(db.prepare('SELECT COUNT(*) FROM demand_totals WHERE total <= 0').pluck().get()).toBe(0)
+  return incremental
+}
+
+const ext = (d: MonthlyDemand, id: string, month: string) => d.mentions.get(id)?.external.get(month) ?? 0
+
+describe('demand aggregates kept by the map stage', () => {
+  it('equal the full recomputation after import, map, a second import, requests and reposts', async () => {
+    const db = openDb(':memory:')
+    const first = postings('a', 1, 6, 12)
+    // exact reposts of some postings (other identifiers): stored as duplicates, never counted
+    const reposts = first.filter((_, i) => i % 9 === 0).map((p) => ({ ...p, identifier: `${p.identifier}-repost` }))
+    await importPostings(db, [...first, ...reposts])
+    await importRequests(db, [
+      { timestamp: '2024-02-03T10:00:00Z', text: 'Need a Python course for the depot team', channel: 'portal', team: 'north' },
+      { timestamp: '2024-02-09T10:00:00Z', text: 'Kubernetes training please', channel: 'portal', team: 'south' },
+      { timestamp: '2024-05-01T10:00:00Z', text: 'Excel refresher for the finance office', channel: 'ticket', team: 'north' },
+    ])
+    await map(db)
+    expect(countUnmapped(db)).toBe(0)
+    const d = expectInStep(db)
+    // a real corpus: both series, direct mentions and roll-ups (PyTorch counts for its broader concept)
+    expect(d.totals.external.get('2024-01')).toBe(12)
+    expect(d.totals.internal.get('2024-02')).toBe(2)
+    expect(ext(d, 'kubernetes', '2024-01')).toBeGreaterThan(0)
+    expect([...(d.mentions.get('machine-learning')?.external.values() ?? [])].reduce((a, b) => a + b, 0)).toBeGreaterThan(0)
+    const dupes = db.prepare('SELECT COUNT(*) FROM documents WHERE duplicate_of IS NOT NULL').pluck().get() as number
+    expect(dupes).toBe(reposts.length)
+
+    // a second import (later months, and more in a month already counted) adds only its own documents
+    await importPostings(db, [...postings('b', 6, 3, 10)])
+    const mappedBefore = db.prepare('SELECT COUNT(*) FROM documents WHERE mapped_version IS NOT NULL').pluck().get() as number
+    await map(db)
+    const after = expectInStep(db)
+    expect(db.prepare('SELECT COUNT(*) FROM documents WHERE mapped_version IS NOT NULL').pluck().get()).toBe(mappedBefore + 30)
+    expect(after.totals.external.get('2024-06')).toBe(22)
+    expect(after.totals.external.get('2024-08')).toBe(10)
+
+    // the fit stage reads the aggregate and stores the same demand rows the recomputation gives
+    runFit(db, config, { now: new Date('2024-09-01T00:00:00Z') })
+    const stored = db.prepare("SELECT n, total FROM demand WHERE concept_id = 'kubernetes' AND series = 'external' ORDER BY month").all() as { n: number; total: number }[]
+    const full = recomputeMonthlyDemand(db)
+    const months = full.months.filter((m) => (full.totals.external.get(m) ?? 0) > 0)
+    expect(stored).toEqual(months.map((m) => ({ n: full.mentions.get('kubernetes')?.external.get(m) ?? 0, total: full.totals.external.get(m)! })))
+  }, 60_000)
+
+  it('follow a re-map after an accepted candidate and after a replaced taxonomy', async () => {
+    const db = openDb(':memory:')
+    await importPostings(db, postings('c', 1, 4, 10))
+    await map(db)
+    expectInStep(db)
+    replaceOpenCandidates(db, [{ term: 'quillstream', score: 40, recentDf: 5, earlierDf: 0, trend: [], examples: [] }])
+    const accepted = acceptAsConcept(db, 'quillstream', { label: 'Quillstream', type: 'hard' }, 'curator')
+    expect(accepted.affected).toBeGreaterThan(0)
+    // the affected documents are out of the counts until they are mapped again
+    const between = expectInStep(db)
+    expect(between.totals.external.get('2024-01')! + accepted.affected).toBeGreaterThanOrEqual(10)
+    await map(db)
+    const remapped = expectInStep(db)
+    expect(ext(remapped, 'quillstream', '2024-01')).toBeGreaterThan(0)
+    expect(remapped.totals.external.get('2024-01')).toBe(10)
+
+    const file = path.join(tmp, 'mini.csv')
+    fs.writeFileSync(file, ['id,prefLabel,altLabel,hiddenLabel,broader,type', 'kubernetes,Kubernetes,K8s,,containers,hard', 'containers,containers,,,,hard', 'python,Python,,,,hard'].join('\n'))
+    expect((await importTaxonomy(db, file, { skipBad: false })).refused).toBe(false)
+    const cleared = expectInStep(db)
+    expect(cleared.totals.external.size).toBe(0)
+    await map(db)
+    const again = expectInStep(db)
+    expect([...again.mentions.keys()].sort()).toEqual(['containers', 'kubernetes'])
+    // containers counts by roll-up exactly where kubernetes does
+    expect(again.mentions.get('containers')!.external).toEqual(again.mentions.get('kubernetes')!.external)
+  }, 60_000)
+
+  it('follow deleted documents (an original with reposts), their re-import, and a document marked a repost later', async () => {
+    const db = openDb(':memory:')
+    const rows = postings('e', 1, 3, 8)
+    const reposts = [rows[0]!, rows[0]!, rows[5]!].map((p, i) => ({ ...p, identifier: `${p.identifier}-again${i}` }))
+    await importPostings(db, [...rows, ...reposts])
+    await map(db)
+    expectInStep(db)
+    const idOf = (external: string) => db.prepare('SELECT id FROM documents WHERE external_id = ?').pluck().get(external) as number
+    const original = idOf('e0')
+    const heir = idOf('e0-again0')
+    expect(db.prepare('SELECT duplicate_of FROM documents WHERE id = ?').pluck().get(heir)).toBe(original)
+
+    const deleted = db.transaction(() => deleteDocuments(db, [original, idOf('e3'), idOf('e9')]))()
+    expect(deleted).toBe(3)
+    const afterDelete = expectInStep(db)
+    expect(afterDelete.totals.external.get('2024-01')).toBe(6)
+    // the earliest repost is the original now, the other repost points at it; mapped by the next run
+    expect(db.prepare('SELECT duplicate_of FROM documents WHERE id = ?').pluck().get(heir)).toBeNull()
+    expect(db.prepare('SELECT duplicate_of FROM documents WHERE id = ?').pluck().get(idOf('e0-again1'))).toBe(heir)
+    await map(db)
+    expect(expectInStep(db).totals.external.get('2024-01')).toBe(7)
+
+    // re-importing the deleted documents stores them again (e0 is now a repost of its heir)
+    await importPostings(db, rows.filter((p) => ['e0', 'e3', 'e9'].includes(p.identifier)))
+    await map(db)
+    const reimported = expectInStep(db)
+    expect(reimported.totals.external.get('2024-01')).toBe(8)
+    expect(reimported.totals.external.get('2024-02')).toBe(8)
+
+    // a mapped original found to be a repost after it was stored leaves the counts
+    db.transaction(() => markDuplicate(db, idOf('e10'), idOf('e11'), 0.93))()
+    const marked = expectInStep(db)
+    expect(marked.totals.external.get('2024-02')).toBe(7)
+    expect(db.prepare('SELECT COUNT(*) FROM mentions WHERE document_id = ?').pluck().get(idOf('e10'))).toBe(0)
+    expect(() => db.transaction(() => markDuplicate(db, idOf('e11'), idOf('e10'), 0.9))()).toThrow(/cannot be its own original/)
+
+    // the repair recomputes the same rows
+    const before = db.prepare('SELECT * FROM demand_counts').all()
+    rebuildDemandCounts(db)
+    expect(db.prepare('SELECT * FROM demand_counts').all()).toEqual(before)
+  }, 60_000)
+
+  it('refuse to let an aggregate fall below zero silently (a writer that bypassed them)', async () => {
+    const db = openDb(':memory:')
+    await importPostings(db, postings('f', 1, 2, 5))
+    await map(db)
+    db.prepare('DELETE FROM demand_counts').run()
+    const id = db.prepare("SELECT id FROM documents WHERE external_id = 'f0'").pluck().get() as number
+    expect(() => db.transaction(() => deleteDocuments(db, [id]))()).toThrow(/fell below zero.*rebuildDemandCounts/)
+    // rolled back: the document is still there
+    expect(db.prepare('SELECT COUNT(*) FROM documents WHERE id = ?').pluck().get(id)).toBe(1)
+    rebuildDemandCounts(db)
+    expectInStep(db)
+  }, 60_000)
+})
+
+describe('migration 3', () => {
+  it('upgrades a version-2 database: aggregates filled from stored mentions, mentions and demand kept row for row without rowid', () => {
+    const file = path.join(tmp, 'v2.db')
+    const v2 = openDb(file, { upTo: 2 })
+    expect(schemaVersion(v2)).toBe(2)
+    v2.transaction(() => {
+      v2.prepare("INSERT INTO sources (id, kind, location) VALUES ('fern', 'import', 'test')").run()
+      for (const id of ['sql', 'python', 'data']) v2.prepare("INSERT INTO concepts (id, pref_label, type) VALUES (?, ?, 'hard')").run(id, id.toUpperCase())
+      const doc = v2.prepare(
+        `INSERT INTO documents (source_id, external_id, kind, posted_at, month, text_hash, duplicate_of, mapped_version) VALUES ('fern', ?, ?, ?, ?, ?, ?, ?)`,
+      )
+      const mention = v2.prepare('INSERT INTO mentions (document_id, concept_id, count, first_offset, via) VALUES (?, ?, ?, ?, ?)')
+      let serial = 0
+      for (const month of ['2024-01', '2024-02', '2024-03']) {
+        for (let i = 0; i < 6; i++) {
+          const kind = i < 5 ? 'posting' : 'request'
+          const mapped = i === 4 ? null : 1 // one unmapped posting a month: not counted
+          const id = Number(doc.run(`d${serial}`, kind, `${month}-05`, month, `h${serial++}`, null, mapped).lastInsertRowid)
+          mention.run(id, i % 2 ? 'sql' : 'python', 2, 7, 'text')
+          mention.run(id, 'data', 1, null, 'rollup')
+          if (i === 0) {
+            const repost = Number(doc.run(`d${serial}`, 'posting', `${month}-06`, month, `h${serial++}`, id, null).lastInsertRowid)
+            mention.run(repost, 'sql', 1, 0, 'text') // a repost's mention never counts
+          }
+        }
+      }
+      v2.prepare("INSERT INTO demand (concept_id, series, month, n, total) VALUES ('sql', 'external', '2024-01', 2, 4)").run()
+    })()
+    const mentionsBefore = v2.prepare('SELECT * FROM mentions ORDER BY document_id, concept_id').all()
+    const expected = recomputeMonthlyDemand(v2)
+    v2.close()
+
+    const db = openDb(file)
+    expect(schemaVersion(db)).toBe(3)
+    expect(db.prepare('SELECT * FROM mentions ORDER BY document_id, concept_id').all()).toEqual(mentionsBefore)
+    expect(db.prepare('SELECT * FROM demand').all()).toEqual([{ concept_id: 'sql', series: 'external', month: '2024-01', n: 2, total: 4 }])
+    const d = expectInStep(db)
+    expect(d).toEqual(expected)
+    expect(d.totals.external.get('2024-02')).toBe(4)
+    expect(d.totals.internal.get('2024-02')).toBe(1)
+    expect(d.mentions.get('data')!.external.get('2024-03')).toBe(4)
+    expect(d.mentions.get('sql')!.external.get('2024-01')).toBe(2)
+    // one B-tree per table: no rowid, no separate primary-key index; the concept index is kept
+    const sql = (name: string) => db.prepare('SELECT sql FROM sqlite_master WHERE name = ?').pluck().get(name) as string
+    expect(sql('mentions')).toMatch(/WITHOUT ROWID/)
+    expect(sql('demand')).toMatch(/WITHOUT ROWID/)
+    expect(sql('mentions_concept')).toMatch(/mentions\(concept_id\)/)
+    expect(db.prepare("SELECT COUNT(*) FROM sqlite_master WHERE name = 'sqlite_autoindex_mentions_1'").pluck().get()).toBe(0)
+    // foreign keys still hold on the rebuilt table
+    expect(() => db.prepare("INSERT INTO mentions (document_id, concept_id, count, via) VALUES (1, 'nowhere', 1, 'text')").run()).toThrow(/FOREIGN KEY/)
+    expect(new Database(file, { readonly: true }).pragma('integrity_check', { simple: true })).toBe('ok')
+    db.close()
+  })
+})
