@@ -90,16 +90,23 @@ export function skillKeys(db: Db): SkillKeyRow[] {
   })
 }
 
+/** What the data stamp is made of: changes by this connection, and commits by any connection. */
+export interface DataStamp {
+  /** total_changes(): rows this connection changed, whether or not an event announced them */
+  own: string
+  /** the latest outbox event (every stage and dashboard change emits one) and SQLite's data_version
+   *  (commits by other connections, e.g. a `tides run` in another process) */
+  shared: string
+}
+
 /**
- * A stamp that changes whenever the data may have: the latest outbox event (every stage and every
- * dashboard change emits one in its transaction), SQLite's data_version (commits by other
- * connections, e.g. a `tides run` in another process) and total_changes() (rows this connection
- * changed, whether or not an event announced them).
+ * A stamp that changes whenever the data may have. Its two parts let a reader treat its own writes
+ * (seen at once) apart from other processes' commits (which a dashboard may pick up a moment later).
  */
-export function dataStamp(db: Db): string {
+export function dataStamp(db: Db): DataStamp {
   const row = stmt(db, 'SELECT (SELECT COALESCE(MAX(id), 0) FROM events) AS e, total_changes() AS t').get() as { e: number; t: number }
   const version = db.pragma('data_version', { simple: true }) as number
-  return `${row.e}:${version}:${row.t}`
+  return { own: String(row.t), shared: `${row.e}:${version}` }
 }
 
 /** The plan's per-role ranking: role -> skill id -> rank and score (keys are JSON [role, skill id]). */

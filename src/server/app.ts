@@ -19,6 +19,7 @@ import { dataStamp } from '../db/dashboard.ts'
 import { defaultActions, type Actions } from './actions.ts'
 import { loadAssets, mountAssets } from './assets.ts'
 import { responseCache } from './cache.ts'
+import { DEFAULT_GRACE_MS } from './freshness.ts'
 import type { Deps, Env, NextRun } from './deps.ts'
 import { mountFeeds } from './feeds.ts'
 import { page } from './layout.ts'
@@ -46,6 +47,8 @@ export interface AppOptions {
   log?: (message: string) => void
   /** cache rendered GET responses until the data changes (default true; benchmarks of render time turn it off) */
   cache?: boolean
+  /** how long another process's commits may go unseen by cached pages (default 2 s; see server/freshness) */
+  graceMs?: number
 }
 
 /** Builds the overview's skill index ahead of the first visitor (a few hundred ms for 20,000 skills). */
@@ -66,6 +69,7 @@ export function createApp(db: Db, config: Config, options: AppOptions = {}): Hon
     nextRuns: options.nextRuns ?? (() => []),
     actions: options.actions ?? defaultActions(),
     afterWrite: options.afterWrite ?? (() => {}),
+    graceMs: options.graceMs ?? DEFAULT_GRACE_MS,
   }
   const log = options.log ?? ((m: string) => console.error(m))
   const getToken = () => config.server.token
@@ -81,7 +85,7 @@ export function createApp(db: Db, config: Config, options: AppOptions = {}): Hon
   app.use('*', bodyLimit({ maxSize: MAX_BODY_BYTES, onError: (c) => c.text(`request body larger than ${MAX_BODY_BYTES} bytes`, 413) }))
   app.use('*', csrf())
   app.use('*', sessionMiddleware(getToken))
-  if (options.cache !== false) app.use('*', responseCache(() => dataStamp(db)))
+  if (options.cache !== false) app.use('*', responseCache(() => dataStamp(db), { graceMs: deps.graceMs }))
   const guard = requireWriter(getToken)
 
   mountFeeds(app as unknown as Hono, config.dataDir)

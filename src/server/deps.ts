@@ -22,6 +22,8 @@ export interface Deps {
   actions: Actions
   /** called after a write that emitted events, so subscribed stages run (re-map, refit, re-plan) */
   afterWrite: () => void
+  /** how long other processes' commits may go unseen by cached pages and the skill index (server/freshness) */
+  graceMs: number
 }
 
 export type Env = SecurityEnv

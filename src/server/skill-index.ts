@@ -9,7 +9,8 @@
  * sort column come last in either direction; ties fall back to the need rank, then the id.
  */
 import type { Db } from '../db/connection.ts'
-import { allCoverage, dataStamp, demandFor, demandMonths, needRoleRanks, roleSkillIds, skillKeys, teamSkillIds, type SkillKeyRow } from '../db/dashboard.ts'
+import { allCoverage, dataStamp, demandFor, demandMonths, needRoleRanks, roleSkillIds, skillKeys, teamSkillIds, type DataStamp, type SkillKeyRow } from '../db/dashboard.ts'
+import { DEFAULT_GRACE_MS, stillFresh } from './freshness.ts'
 import { coverageBySkill, figureFor } from './privacy.ts'
 
 export const OVERVIEW_SORTS = ['rank', 'label', 'state', 'growth', 'halflife', 'share', 'coverage', 'score'] as const
@@ -52,8 +53,9 @@ export class SkillIndex {
 
   constructor(
     private readonly db: Db,
-    readonly stamp: string,
+    readonly stamp: DataStamp,
     readonly minGroup: number,
+    readonly builtAt: number = Date.now(),
   ) {
     // explicit object literals (one hidden class) rather than spread rows: property access in the
     // per-request filter and sort stays fast
@@ -214,11 +216,14 @@ export class SkillIndex {
 
 const INDEXES = new WeakMap<Db, SkillIndex>()
 
-/** The current index of a database, rebuilt when its data stamp changed. */
-export function skillIndex(db: Db, minGroup: number): SkillIndex {
+/**
+ * The current index of a database, rebuilt when the data changed (this connection's writes at once,
+ * other processes' commits after the grace period: see server/freshness).
+ */
+export function skillIndex(db: Db, minGroup: number, graceMs = DEFAULT_GRACE_MS): SkillIndex {
   const stamp = dataStamp(db)
   const current = INDEXES.get(db)
-  if (current && current.stamp === stamp && current.minGroup === minGroup) return current
+  if (current && current.minGroup === minGroup && stillFresh(current.stamp, current.builtAt, stamp, Date.now(), graceMs)) return current
   const fresh = new SkillIndex(db, stamp, minGroup)
   INDEXES.set(db, fresh)
   return fresh

@@ -103,7 +103,7 @@ function toNeed(r: OverviewDbRow, trend: (number | null)[], coverage: CoverageFi
 /** The overview's data: one page of rows (or all matching rows for CSV, without trends). */
 export function buildOverview(deps: Deps, q: OverviewQuery & { page: number; pageSize: number }, all = false): OverviewData {
   const { db } = deps
-  const index = skillIndex(db, minGroup(deps))
+  const index = skillIndex(db, minGroup(deps), deps.graceMs)
   const { role, team, type, state, search } = q
   const selection = index.select({ role, team, type, state, search }, q.sort, q.dir, all ? 0 : q.offset, all ? CSV_MAX_ROWS : q.limit)
   const total = selection.total
@@ -278,7 +278,7 @@ export function mountOverview(app: Hono<Env>, deps: Deps): void {
     return c.json(buildOverview(deps, q))
   })
   app.get('/api/states', (c) => {
-    const counts = skillIndex(deps.db, minGroup(deps)).stateCounts().map((s) => ({ state: s.state ?? 'not fitted', count: s.count }))
+    const counts = skillIndex(deps.db, minGroup(deps), deps.graceMs).stateCounts().map((s) => ({ state: s.state ?? 'not fitted', count: s.count }))
     return wantsCsv(c) ? csv(c, 'skill-states', counts, ['state', 'count']) : c.json(counts)
   })
 }
