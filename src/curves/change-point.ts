@@ -4,7 +4,6 @@
  * segmented Poisson regression, on the stacked sources.
  */
 import { hingeScores, segmentedPoisson } from '../stats/segmented-poisson.ts'
-import { buildDesign } from './trend-model.ts'
 import type { TrendFit } from './trend-model.ts'
 
 export interface ChangeEvidence {
@@ -46,7 +45,7 @@ export function detectChange(linearFit: TrendFit, options: { minSegment: number;
   const coefficients = linearFit.glm.coefficients
   const cols = linearFit.columns.length
   const rows = observations.rows
-  const { design } = buildDesign(observations, linearFit.spec)
+  const design = linearFit.design
   const offset = Float64Array.from(observations.logTotal)
   // everything but the first source's intercept and the slope goes into the offset; the other
   // sources' intercepts count relative to the first source's

@@ -544,7 +544,8 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
     alternativeForecast12: forecast?.alternative12 ?? null,
     holt: forecast?.holt ?? null,
     // bands in the shape the plan stage reads (low/high = 95%) and the dashboard reads (lo80 … hi95)
-    forecast: points.map((p) => ({ ...p, low: p.lo95, high: p.hi95 })),
+    // (an explicit literal: object spread is several times slower and this runs for every skill)
+    forecast: points.map((p) => ({ month: p.month, monthsAhead: p.monthsAhead, share: p.share, lo80: p.lo80, hi80: p.hi80, lo95: p.lo95, hi95: p.hi95, low: p.lo95, high: p.hi95 })),
     omittedParts: omitted,
   }
   const curve: SkillCurve = {

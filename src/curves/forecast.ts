@@ -10,7 +10,7 @@ import { normalQuantile } from '../stats/normal-distribution.ts'
 import { monthOfYear } from './months.ts'
 import type { SkillGrid } from './series.ts'
 import { gridMonth } from './series.ts'
-import { buildDesign, combinedAt, designRow } from './trend-model.ts'
+import { combinedAt, designRowInto } from './trend-model.ts'
 import type { TrendFit } from './trend-model.ts'
 
 export type ForecastMethod = 'regression' | 'damped-holt'
@@ -120,7 +120,7 @@ function rollingOrigin(grid: SkillGrid, trend: TrendFit, holt: DampedHoltFit | n
   const cols = trend.columns.length
   const beta = trend.glm.coefficients
   const mu = trend.glm.fitted
-  const { design } = buildDesign(obs, trend.spec)
+  const design = trend.design
   const x = new Float64Array(cols)
   const coefficients = new Float64Array(cols)
   const gradient = new Float64Array(cols)
@@ -129,6 +129,7 @@ function rollingOrigin(grid: SkillGrid, trend: TrendFit, holt: DampedHoltFit | n
   const system = new Float64Array(cols * cols)
   const step = new Float64Array(cols)
   const active: number[] = []
+  const originRow = new Float64Array(cols)
   let afterBreak = 0
   let row = 0
   let regressionSse = 0
@@ -184,9 +185,9 @@ function rollingOrigin(grid: SkillGrid, trend: TrendFit, holt: DampedHoltFit | n
     let predicted = 0
     for (let s = 0; s < grid.sources.length; s++) {
       const source = grid.sources[s]!
-      const x = designRow(trend.spec, obs.sourceCount, s, origin, month, obs.centre)
+      designRowInto(originRow, trend.spec, obs.sourceCount, s, origin, month, obs.centre)
       let eta = 0
-      for (let j = 0; j < cols; j++) eta += x[j]! * coefficients[j]!
+      for (let j = 0; j < cols; j++) eta += originRow[j]! * coefficients[j]!
       predicted += (grid.combinedLevel * source.weight * Math.exp(eta)) / source.level
     }
     const actual = grid.combined[origin]!

@@ -56,7 +56,7 @@ export function chooseSeasonalTerms(
   // approximates 2ΔlnL from the linear fit alone, so when S_K/φ̂ stays below 0.9 · 4K for every K,
   // the linear model is kept without fitting any seasonal candidate
   const maxHarmonics = Math.min(5, options.maxHarmonics)
-  const base = buildDesign(observations, { harmonics: 0, breakpoint: null })
+  const base = { design: linear.design, cols: linear.columns.length }
   const seasonalColumns = buildDesign(observations, { harmonics: maxHarmonics, breakpoint: null })
   const dispersion0 = Number.isFinite(linear.glm.dispersion) && linear.glm.dispersion > 0 ? linear.glm.dispersion : 1
   let worthFitting = false

@@ -197,8 +197,17 @@ export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillG
 
 /** 'YYYY-MM' of a grid position. */
 export function gridMonth(grid: SkillGrid, position: number): string {
-  return monthLabel(grid.firstMonth + position)
+  // one string per month for the whole run: thousands of curves keep month labels (forecast points),
+  // and shared strings keep them small
+  const index = grid.firstMonth + position
+  const slot = index - LABEL_BASE
+  if (slot >= 0 && slot < monthLabels.length) return (monthLabels[slot] ??= monthLabel(index))
+  return monthLabel(index)
 }
+
+/** month labels by month index from year 1900 to 2199 (filled on demand) */
+const LABEL_BASE = 1900 * 12
+const monthLabels: (string | undefined)[] = new Array<string | undefined>(300 * 12).fill(undefined)
 
 const labelCache = new Map<string, readonly string[]>()
 

@@ -51,6 +51,8 @@ export interface TrendFit {
   slopeColumn: number
   hingeColumn: number
   observations: StackedObservations
+  /** the column-major design the model was fitted with (rows × columns; read-only) */
+  design: Float64Array
 }
 
 /**
@@ -134,6 +136,28 @@ export function designRow(spec: TrendSpec, sourceCount: number, sourceIndex: num
   return row
 }
 
+/**
+ * designRow written into a reused array (same values; no allocation for the hot callers).
+ *
+ * @example
+ * ```ts
+ * designRowInto(new Float64Array(4), { harmonics: 0, breakpoint: 10 }, 2, 1, 12, 0, 6) // => [0, 1, 6, 2]
+ * ```
+ */
+export function designRowInto(row: Float64Array, spec: TrendSpec, sourceCount: number, sourceIndex: number, position: number, month: number, centre: number): Float64Array {
+  for (let s = 0; s < sourceCount; s++) row[s] = 0
+  row[sourceIndex] = 1
+  let j = sourceCount
+  row[j++] = position - centre
+  if (spec.breakpoint !== null) row[j++] = Math.max(0, position - spec.breakpoint)
+  for (let k = 1; k <= spec.harmonics; k++) {
+    const angle = (2 * Math.PI * k * month) / 12
+    row[j++] = Math.sin(angle)
+    row[j++] = Math.cos(angle)
+  }
+  return row
+}
+
 /** sin and cos of 2πk m/12 for k = 1..5 and m = 0..11, row k−1 (the design's month-of-year terms). */
 const HARMONIC_TABLE = Array.from({ length: 5 }, (_, k) =>
   Array.from({ length: 12 }, (_, m) => [Math.sin((2 * Math.PI * (k + 1) * m) / 12), Math.cos((2 * Math.PI * (k + 1) * m) / 12)] as const),
@@ -181,7 +205,7 @@ export function fitTrend(observations: StackedObservations, spec: TrendSpec, sta
   const { design, cols, columns } = buildDesign(observations, spec)
   const glm = poissonGlm({ design, rows: observations.rows, cols, counts: observations.counts, offset: observations.logTotal, start })
   const slopeColumn = observations.sourceCount
-  return { spec, glm, columns, slopeColumn, hingeColumn: spec.breakpoint !== null ? slopeColumn + 1 : -1, observations }
+  return { spec, glm, columns, slopeColumn, hingeColumn: spec.breakpoint !== null ? slopeColumn + 1 : -1, observations, design }
 }
 
 /**
@@ -226,6 +250,9 @@ export function fittedIndex(fit: TrendFit, grid: SkillGrid): Float64Array {
   return values
 }
 
+/** combinedAt's gradient, reused (it is called for every forecast month of every skill) */
+let gradientScratch = new Float64Array(16)
+
 export interface CombinedValue {
   /** fitted combined index on the share scale */
   share: number
@@ -249,7 +276,8 @@ export function combinedAt(fit: TrendFit, grid: SkillGrid, position: number): Co
   const sourceCount = fit.observations.sourceCount
   const beta = fit.glm.coefficients
   // every source's row is its intercept indicator plus the same time, hinge and season columns
-  const gradient = designRow(fit.spec, sourceCount, 0, position, monthOfYear(grid.firstMonth + position), fit.observations.centre)
+  if (gradientScratch.length < cols) gradientScratch = new Float64Array(2 * cols)
+  const gradient = designRowInto(gradientScratch, fit.spec, sourceCount, 0, position, monthOfYear(grid.firstMonth + position), fit.observations.centre)
   gradient[0] = 0
   let common = 0
   for (let j = sourceCount; j < cols; j++) common += gradient[j]! * beta[j]!
