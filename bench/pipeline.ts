@@ -3,10 +3,14 @@
  * on a synthetic corpus of N postings (about 2 KB of text each) over 60 months with the generated
  * 20,000-concept / 80,000-label taxonomy (bench/corpus.ts):
  *   tides import taxonomy TAXONOMY.csv   ->  tides import postings POSTINGS.jsonl  ->  tides run all
- * then an incremental run after 10,000 new postings (import + run all). Per stage: time, throughput
- * and, where the machine has one, the ratio to its limit measured in this same process (raw regex
- * tokenisation MB/s for map, raw SQLite insert rate for ingest). Across sizes: the time ratio (linear
- * means about 10 for 10x the data) and the fit stage's ratio (it works on monthly series: about 1).
+ * then an incremental run after 10,000 new postings (import + run all). The first run goes stage by
+ * stage (`tides run STAGE --only`, one process each, in pipeline order: what `run all` does, plus a
+ * process start per stage), so that every stage has its own time and peak RSS. Per stage: time,
+ * throughput and, where the machine has one, the ratio to its limit measured in this same process
+ * (raw regex tokenisation MB/s for map, raw SQLite insert rate for ingest and for the mention rows
+ * map writes). Database size per 100,000 postings, and the mention storage in it. Across sizes: the
+ * time ratio (linear means about 10 for 10x the data) and the fit stage's ratio (it works on the
+ * monthly demand aggregates, whose size does not depend on N: about 1).
  *
  * Sizes: env BENCH_N, comma-separated (default "10000,100000", a 10x step that finishes in a few
  * minutes). The issue's sizes, N = 100,000 and 1,000,000, are opt-in because the 1M corpus is 2.3 GB
@@ -37,6 +41,9 @@ const MONTHS = Number(process.env['BENCH_MONTHS'] ?? 60)
 const INCREMENT = Number(process.env['BENCH_INCREMENT'] ?? 10_000)
 
 const log = (m: string) => process.stderr.write(m + '\n')
+
+/** The pipeline order of src/stages.ts (not imported: that would load every stage into this process). */
+const STAGE_ORDER = ['ingest', 'map', 'fit', 'ability', 'plan'] as const
 
 interface Step {
   seconds: number
@@ -86,6 +93,12 @@ interface SizeResult {
   ingest: Step
   runAll: Step
   stages: Map<string, Outcome>
+  /** peak RSS of each stage's own process */
+  stageRss: Map<string, number>
+  /** database file size after the first run (MiB), and the mentions table with its index */
+  dbMiB: number
+  mentionsMiB: number
+  mentionRows: number
   endToEnd: number
   peakMiB: number
   incremental?: { importStep: Step; runStep: Step; seconds: number; mapped: number; stages: Map<string, Outcome> }
@@ -141,6 +154,26 @@ function count(db: string, sql: string): number {
   }
 }
 
+/** File size and the mention storage (table and indexes, from dbstat) of a benchmark database. */
+function mentionStorage(db: string): { dbMiB: number; mentionsMiB: number; mentionRows: number } {
+  const d = new Database(db)
+  try {
+    d.pragma('wal_checkpoint(TRUNCATE)')
+    const page = d.pragma('page_size', { simple: true }) as number
+    const used = (d.pragma('page_count', { simple: true }) as number) - (d.pragma('freelist_count', { simple: true }) as number)
+    let mentionsMiB = NaN
+    try {
+      const names = (d.prepare("SELECT name FROM sqlite_master WHERE tbl_name = 'mentions'").pluck().all() as string[]).map((x) => `'${x.replace(/'/g, "''")}'`)
+      mentionsMiB = (d.prepare(`SELECT COALESCE(SUM(pgsize), 0) AS b FROM dbstat WHERE name IN (${names.join(', ')})`).pluck().get() as number) / 2 ** 20
+    } catch {
+      // dbstat is not compiled in everywhere
+    }
+    return { dbMiB: (used * page) / 2 ** 20, mentionsMiB, mentionRows: d.prepare('SELECT COUNT(*) FROM mentions').pluck().get() as number }
+  } finally {
+    d.close()
+  }
+}
+
 async function runSize(n: number): Promise<SizeResult> {
   log(`\npipeline N=${n.toLocaleString('en-GB')}, ${MONTHS} months`)
   const corpus = ensureCorpus({ n, months: MONTHS, log })
@@ -155,9 +188,19 @@ async function runSize(n: number): Promise<SizeResult> {
   const taxonomy = await tides(config, ['import', 'taxonomy', corpus.taxonomyFile])
   log('  import postings')
   const ingest = await tides(config, ['import', 'postings', corpus.postingsFile])
-  log('  run all')
-  const runAll = await tides(config, ['run', 'all', '--json'])
-  const stages = sumStage(JSON.parse(runAll.stdout) as Outcome[])
+  log('  run all, stage by stage')
+  const outcomes: Outcome[] = []
+  const stageRss = new Map<string, number>()
+  const runAll: Step = { seconds: 0, peakMiB: 0, stdout: '', stderr: '' }
+  for (const stage of STAGE_ORDER) {
+    const step = await tides(config, ['run', stage, '--only', '--json'])
+    outcomes.push(...(JSON.parse(step.stdout) as Outcome[]))
+    stageRss.set(stage, step.peakMiB)
+    runAll.seconds += step.seconds
+    runAll.peakMiB = Math.max(runAll.peakMiB, step.peakMiB)
+  }
+  const stages = sumStage(outcomes)
+  const storage = mentionStorage(db)
   const result: SizeResult = {
     n,
     textMB: corpus.truth.textBytes / 1e6,
@@ -165,6 +208,8 @@ async function runSize(n: number): Promise<SizeResult> {
     ingest,
     runAll,
     stages,
+    stageRss,
+    ...storage,
     endToEnd: taxonomy.seconds + ingest.seconds + runAll.seconds,
     peakMiB: Math.max(taxonomy.peakMiB, ingest.peakMiB, runAll.peakMiB),
     planted: plantedAgreement(db, corpus.trends),
@@ -205,15 +250,23 @@ function stageFigures(r: SizeResult, limits: { tokenise: number; insert: number 
   for (const [name, o] of r.stages) {
     if (o.ms < 1) continue // a stage with nothing to do (no sources, no assessments)
     figures.push({ figure: `${tag} run all: ${name}`, value: o.ms / 1000, unit: 's' })
+    const rss = r.stageRss.get(name)
+    if (rss !== undefined && Number.isFinite(rss)) figures.push({ figure: `${tag} ${name} peak RSS (own process)`, value: rss, unit: 'MiB' })
     if (name === 'map' && o.ms > 0) {
       const mbps = r.textMB / (o.ms / 1000)
       figures.push({ figure: `${tag} map throughput`, value: mbps, unit: 'MB/s' })
       figures.push({ figure: `${tag} map vs raw regex tokenisation`, value: mbps / limits.tokenise, unit: 'ratio' })
+      // mention rows (direct + roll-up) stored per second of the whole map stage, beside a bare insert loop
+      const rowsPerS = r.mentionRows / (o.ms / 1000)
+      figures.push({ figure: `${tag} map: mention rows stored per second of map`, value: rowsPerS, unit: 'rows/s' })
+      figures.push({ figure: `${tag} map rows/s vs raw SQLite insert rate`, value: rowsPerS / limits.insert, unit: 'ratio' })
     }
     if (name === 'fit' && o.ms > 0 && r.curves > 0) figures.push({ figure: `${tag} fit throughput`, value: r.curves / (o.ms / 1000), unit: 'skills/s' })
   }
-  figures.push({ figure: `${tag} run all (process)`, value: r.runAll.seconds, unit: 's' })
+  figures.push({ figure: `${tag} run all (one process per stage)`, value: r.runAll.seconds, unit: 's' })
   figures.push({ figure: `${tag} run all peak RSS`, value: r.runAll.peakMiB, unit: 'MiB' })
+  figures.push({ figure: `${tag} database size per 100,000 postings`, value: (r.dbMiB * 100_000) / r.n, unit: 'MiB' })
+  if (Number.isFinite(r.mentionsMiB)) figures.push({ figure: `${tag} mentions (table + indexes) per 100,000 postings`, value: (r.mentionsMiB * 100_000) / r.n, unit: `MiB (${(r.mentionRows / 1e6).toFixed(2)} M rows in all)` })
   const big = r.n >= 1_000_000
   figures.push({ figure: `${tag} end to end`, value: r.endToEnd, unit: 's', ...(big ? { goal: '< 300', met: r.endToEnd < 300 } : {}) })
   figures.push({ figure: `${tag} peak RSS of any step`, value: r.peakMiB, unit: 'MiB', ...(big ? { goal: '< 1536', met: r.peakMiB < 1536 } : {}) })
@@ -223,7 +276,9 @@ function stageFigures(r: SizeResult, limits: { tokenise: number; insert: number 
     figures.push({ figure: `${tag} incremental (+${INCREMENT} postings: import + run all)`, value: inc.seconds, unit: 's', goal: '< 15', met: inc.seconds < 15 })
     // reposts among the new postings are stored but not mapped, so a few under INCREMENT is right
     figures.push({ figure: `${tag} incremental: documents mapped`, value: inc.mapped, unit: 'docs', goal: `<= ${INCREMENT} (only the new ones)`, met: inc.mapped <= INCREMENT })
+    figures.push({ figure: `${tag} incremental: import`, value: inc.importStep.seconds, unit: 's' })
     for (const [name, o] of inc.stages) if (o.ms >= 1) figures.push({ figure: `${tag} incremental ${name}`, value: o.ms / 1000, unit: 's' })
+    figures.push({ figure: `${tag} incremental run all peak RSS`, value: inc.runStep.peakMiB, unit: 'MiB' })
   }
   return figures
 }
