@@ -113,29 +113,35 @@ function holtForecast(grid: SkillGrid, holt: DampedHoltFit, steps: number): Fore
  * Both methods thus borrow a little from the future; stated here rather than hidden.
  */
 function rollingOrigin(grid: SkillGrid, trend: TrendFit, holt: DampedHoltFit | null, origins: number, minTrain: number) {
-  const observed: number[] = []
-  for (let t = 0; t < grid.length; t++) if (!Number.isNaN(grid.combined[t]!)) observed.push(t)
-  const chosen = observed.slice(Math.max(minTrain, observed.length - origins))
+  // the origins: the last `origins` observed months with at least `minTrain` observed months before
+  let observedCount = 0
+  for (let t = 0; t < grid.length; t++) if (!Number.isNaN(grid.combined[t]!)) observedCount++
+  const skipObserved = Math.max(minTrain, observedCount - origins)
   const obs = trend.observations
   const cols = trend.columns.length
   const beta = trend.glm.coefficients
   const mu = trend.glm.fitted
   const design = trend.design
-  const x = new Float64Array(cols)
-  const coefficients = new Float64Array(cols)
-  const gradient = new Float64Array(cols)
-  const hessian = new Float64Array(cols * cols)
-  const seen = new Array<number>(obs.sourceCount).fill(0)
-  const system = new Float64Array(cols * cols)
-  const step = new Float64Array(cols)
-  const active: number[] = []
-  const originRow = new Float64Array(cols)
+  // work arrays reused across skills (zeroed here; a run computes this once per skill)
+  const work = rollingWork(cols, obs.sourceCount)
+  const x = work.x
+  const coefficients = work.coefficients
+  const gradient = work.gradient
+  const hessian = work.hessian
+  const seen = work.seen
+  const system = work.system
+  const step = work.step
+  const active = work.active
+  const originRow = work.originRow
   let afterBreak = 0
   let row = 0
   let regressionSse = 0
   let holtSse = 0
   let count = 0
-  for (const origin of chosen) {
+  let observedIndex = -1
+  for (let origin = 0; origin < grid.length; origin++) {
+    if (Number.isNaN(grid.combined[origin]!)) continue
+    if (++observedIndex < skipObserved) continue
     for (; row < obs.rows && obs.position[row]! < origin; row++) {
       for (let a = 0; a < cols; a++) x[a] = design[a * obs.rows + row]!
       const residual = obs.counts[row]! - mu[row]!
@@ -147,10 +153,11 @@ function rollingOrigin(grid: SkillGrid, trend: TrendFit, holt: DampedHoltFit | n
       seen[obs.source[row]!]!++
       if (trend.spec.breakpoint !== null && obs.position[row]! > trend.spec.breakpoint) afterBreak++
     }
-    if (seen.some((rows) => rows < cols)) continue
-    active.length = 0
-    for (let a = 0; a < cols; a++) if (a !== trend.hingeColumn || afterBreak >= 3 * obs.sourceCount) active.push(a)
-    const p = active.length
+    let thin = false
+    for (let s = 0; s < obs.sourceCount; s++) if (seen[s]! < cols) thin = true
+    if (thin) continue
+    let p = 0
+    for (let a = 0; a < cols; a++) if (a !== trend.hingeColumn || afterBreak >= 3 * obs.sourceCount) active[p++] = a
     // Cholesky of the active block, then solve for the step
     let singular = false
     for (let a = 0; a < p && !singular; a++) {
@@ -200,6 +207,48 @@ function rollingOrigin(grid: SkillGrid, trend: TrendFit, holt: DampedHoltFit | n
     regression: count > 0 ? regressionSse / count : null,
     dampedHolt: count > 0 && holt ? holtSse / count : null,
   }
+}
+
+interface RollingWork {
+  cols: number
+  sources: number
+  x: Float64Array
+  coefficients: Float64Array
+  gradient: Float64Array
+  hessian: Float64Array
+  system: Float64Array
+  step: Float64Array
+  originRow: Float64Array
+  seen: Int32Array
+  active: Int32Array
+}
+let rollingScratch: RollingWork | null = null
+
+/** rollingOrigin's work arrays for `cols` coefficients and `sources` sources, zeroed. */
+function rollingWork(cols: number, sources: number): RollingWork {
+  let work = rollingScratch
+  if (!work || work.cols !== cols || work.sources !== sources) {
+    work = {
+      cols,
+      sources,
+      x: new Float64Array(cols),
+      coefficients: new Float64Array(cols),
+      gradient: new Float64Array(cols),
+      hessian: new Float64Array(cols * cols),
+      system: new Float64Array(cols * cols),
+      step: new Float64Array(cols),
+      originRow: new Float64Array(cols),
+      seen: new Int32Array(sources),
+      active: new Int32Array(cols),
+    }
+    rollingScratch = work
+    return work
+  }
+  // system, step, coefficients, x, originRow and active are written before they are read
+  work.gradient.fill(0)
+  work.hessian.fill(0)
+  work.seen.fill(0)
+  return work
 }
 
 /**

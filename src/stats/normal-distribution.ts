@@ -71,6 +71,21 @@ export function normalCdf(x: number): number {
  * ```
  */
 export function normalQuantile(p: number): number {
+  // callers ask for the same few levels (0.9, 0.975) for every skill of a run: remember the last two
+  if (p === quantileMemo[0]) return quantileMemo[1]!
+  if (p === quantileMemo[2]) return quantileMemo[3]!
+  const value = computeNormalQuantile(p)
+  quantileMemo[2] = quantileMemo[0]!
+  quantileMemo[3] = quantileMemo[1]!
+  quantileMemo[0] = p
+  quantileMemo[1] = value
+  return value
+}
+
+/** [p, quantile] of the last two distinct requests (NaN never matches) */
+const quantileMemo = new Float64Array([Number.NaN, Number.NaN, Number.NaN, Number.NaN])
+
+function computeNormalQuantile(p: number): number {
   if (!(p >= 0 && p <= 1)) throw new RangeError(`normalQuantile requires p in [0, 1], got ${p}`)
   if (p === 0) return -Infinity
   if (p === 1) return Infinity
