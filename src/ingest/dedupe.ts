@@ -83,8 +83,13 @@ interface Known {
 }
 
 export class Deduper {
-  /** recently stored postings: candidates are checked without a query while they are here */
-  private readonly known = new Map<number, Known>()
+  /**
+   * recently stored postings, slot id % CACHE_SIZE: candidates are checked without a query while
+   * they are here (a ring, not a Map: evicting a Map's oldest entry walks over the holes that
+   * earlier evictions left, which cost more than the rest of the dedupe bookkeeping)
+   */
+  private readonly known: (Known | undefined)[] = new Array(CACHE_SIZE)
+  private readonly knownIds = new Float64Array(CACHE_SIZE).fill(-1)
   /** candidates whose estimate is this far below the threshold are not worth an exact check */
   private readonly slack: number
   /** in-memory filter over stored band keys and text hashes, built once enough lookups make it pay */
@@ -196,8 +201,9 @@ export class Deduper {
       f.addText(a.textHash)
       if (f.full) this.rebuildFilter(f.size)
     }
-    this.known.set(id, { signature: a.signature, root: decision.duplicateOf ?? id, shingles: a.shingles })
-    if (this.known.size > CACHE_SIZE) this.known.delete(this.known.keys().next().value!)
+    const slot = id % CACHE_SIZE
+    this.known[slot] = { signature: a.signature, root: decision.duplicateOf ?? id, shingles: a.shingles }
+    this.knownIds[slot] = id
   }
 
   /**
@@ -232,7 +238,8 @@ export class Deduper {
 
   /** Forgets what the rolled-back batch added (its ids will be reused). */
   forget(): void {
-    this.known.clear()
+    this.known.fill(undefined)
+    this.knownIds.fill(-1)
     this.pending.truncate(this.saved.mark)
     this.through = this.saved.through
     this.accounted = this.saved.accounted
@@ -250,8 +257,8 @@ export class Deduper {
   }
 
   private lookup(id: number): Known | null {
-    const k = this.known.get(id)
-    if (k) return k
+    const slot = id % CACHE_SIZE
+    if (this.knownIds[slot] === id) return this.known[slot]!
     const row = this.store.signature(id)
     if (!row || !row.signature) return null
     return { signature: signatureFromBytes(row.signature), root: row.duplicate_of ?? row.id, shingles: null }

@@ -20,7 +20,7 @@ import type { InputProblem } from '../util/csv.ts'
 import { checkDocument, type DocumentInput, ItemError, type ItemProblem } from './document.ts'
 import { readFeed } from './feed.ts'
 import { linesOfFile } from './lines.ts'
-import { LineParser, writeLinesInParallel } from './parse-pool.ts'
+import { LineParser, writeFileInParallel } from './parse-pool.ts'
 import { createProgress } from './progress.ts'
 import { type LineKind, documentFromLine, requestsFromCsv } from './readers.ts'
 import { decodeBytes } from './text.ts'
@@ -40,10 +40,13 @@ interface Checked {
   fatal: ItemProblem | null
 }
 
-function checkJsonLines(file: string, kind: LineKind, maxTextChars: number): Checked {
+function checkJsonLines(file: string, kind: LineKind, maxTextChars: number, endOffset: number | null = null): Checked & { nextLine: number } {
   const problems: ItemProblem[] = []
   let read = 0
+  let nextLine = 1
   for (const l of linesOfFile(file)) {
+    if (endOffset !== null && l.end > endOffset) break
+    nextLine = l.line + 1
     try {
       const doc = documentFromLine(l, kind)
       if (!doc) continue
@@ -54,7 +57,44 @@ function checkJsonLines(file: string, kind: LineKind, maxTextChars: number): Che
       problems.push({ file, line: l.line, field: err.field, reason: err.message })
     }
   }
-  return { docs: null, problems, read: read + problems.length, fatal: null }
+  return { docs: null, problems, read: read + problems.length, fatal: null, nextLine }
+}
+
+/** The byte after the first line break at or after `at` (null when there is none). */
+function lineStartAfter(file: string, at: number): number | null {
+  const fd = fs.openSync(file, 'r')
+  try {
+    const buf = Buffer.alloc(1 << 16)
+    for (let pos = at; ; pos += buf.length) {
+      const n = fs.readSync(fd, buf, 0, buf.length, pos)
+      if (n === 0) return null
+      const nl = buf.subarray(0, n).indexOf(0x0a)
+      if (nl !== -1) return pos + nl + 1
+    }
+  } finally {
+    fs.closeSync(fd)
+  }
+}
+
+/**
+ * The check pass on two threads: the main thread checks the first half of the file while the
+ * worker checks the rest; the worker's line numbers are shifted once the first half's are known.
+ */
+async function checkJsonLinesInParallel(parser: LineParser, file: string, size: number, kind: LineKind, maxTextChars: number): Promise<Checked> {
+  const mid = lineStartAfter(file, Math.floor(size / 2))
+  if (mid === null || mid >= size) return checkJsonLines(file, kind, maxTextChars)
+  const rest = parser.checkRange(file, kind, mid, 1)
+  let first: ReturnType<typeof checkJsonLines>
+  try {
+    first = checkJsonLines(file, kind, maxTextChars, mid)
+  } finally {
+    // the worker's answer is awaited below; a failure here must not leave it unhandled
+    rest.catch(() => {})
+  }
+  const second = await rest
+  const shift = first.nextLine - 1
+  const problems = [...first.problems, ...second.problems.map((p) => ({ file, line: p.line + shift, field: p.field, reason: p.reason }))]
+  return { docs: null, problems, read: first.read + second.read + second.problems.length, fatal: null }
 }
 
 async function checkWhole(file: string, kind: Kind, maxTextChars: number): Promise<Checked> {
@@ -111,7 +151,21 @@ export async function importDocuments(db: Db, config: Config, kind: Kind, file: 
   if (!lines && !whole) {
     return refuse([{ file, line: 0, reason: kind === 'postings' ? 'expected a .jsonl (JobPosting JSON Lines) or .xml/.rss/.atom (feed) file' : 'expected a .csv or .jsonl request log' }])
   }
-  const checked = lines ? checkJsonLines(file, kind, config.ingest.maxTextChars) : await checkWhole(file, kind, config.ingest.maxTextChars)
+  // large JSON Lines files: checked on both threads, then read and analysed on the worker while
+  // the main thread stores
+  const parallel = lines && config.ingest.parseWorkerMinBytes !== null && stat.size >= config.ingest.parseWorkerMinBytes
+  const parser = parallel ? await LineParser.start({ dedupe: config.ingest.dedupe, maxTextChars: config.ingest.maxTextChars }) : null
+  try {
+    return await importChecked(db, config, kind, file, opts, parser, stat.size, lines)
+  } finally {
+    await parser?.close()
+  }
+}
+
+async function importChecked(db: Db, config: Config, kind: Kind, file: string, opts: Pick<ImportOptions, 'skipBad'> & { log?: (m: string) => void }, parser: LineParser | null, size: number, lines: boolean): Promise<ImportResult> {
+  const refuse = (problems: InputProblem[], read = 0): ImportResult => ({ kind, file, read, imported: 0, skipped: 0, problems, refused: true })
+  const maxText = config.ingest.maxTextChars
+  const checked = !lines ? await checkWhole(file, kind, maxText) : parser ? await checkJsonLinesInParallel(parser, file, size, kind, maxText) : checkJsonLines(file, kind, maxText)
   if (checked.fatal) return refuse([toInputProblem(checked.fatal)])
   const bad = checked.problems.filter((p) => !p.warning).length
   const problems = checked.problems.map(toInputProblem)
@@ -124,14 +178,9 @@ export async function importDocuments(db: Db, config: Config, kind: Kind, file: 
   const writer = new BatchWriter(db, config, sourceId, runId, (c) => progress.update(c.read))
   try {
     if (checked.docs) for (const { line, doc } of checked.docs) writer.add(doc, { file, line })
-    else if (config.ingest.parseWorkerMinBytes !== null && stat.size >= config.ingest.parseWorkerMinBytes) {
-      const parser = await LineParser.start({ dedupe: config.ingest.dedupe, maxTextChars: config.ingest.maxTextChars })
-      try {
-        // bad lines were reported by the check above; here they are only skipped
-        await writeLinesInParallel(parser, linesOfFile(file), kind, writer, file, () => undefined, undefined, false)
-      } finally {
-        await parser.close()
-      }
+    else if (parser) {
+      // bad lines were reported by the check above; here they are only skipped
+      await writeFileInParallel(parser, file, { offset: 0, line: 1 }, kind, writer, file, () => undefined, undefined, false)
     } else {
       for (const l of linesOfFile(file)) {
         try {

@@ -1,9 +1,10 @@
 /**
  * @module ingest/parse-pool
- * Parsing on a second core for large JSON Lines inputs: the main thread reads lines and stores
- * documents while one worker thread parses the next chunk of lines and computes their dedupe
- * analysis. Results come back in order, so cursors, problems and dedupe decisions are exactly
- * those of the single-threaded path (tested by comparing database contents).
+ * Parsing on a second core for large JSON Lines inputs: one worker thread reads the file, parses
+ * its lines and computes their dedupe analysis while the main thread stores documents. Results
+ * come back in file order, so cursors, problems and dedupe decisions are exactly those of the
+ * single-threaded path (tested by comparing database contents). The worker also checks part of a
+ * file for `tides import`'s first pass while the main thread checks the rest.
  */
 import { Worker } from 'node:worker_threads'
 import type { Analysis, DedupeParams } from './dedupe.ts'
@@ -17,18 +18,35 @@ export interface ParserSetup {
   maxTextChars: number
 }
 
-/** A chunk of lines, sent as flat arrays (cheaper to clone than line objects). */
-export interface ParseRequest {
+/** A range of a file for the worker to read: parsed and analysed, or only checked. */
+export interface FileRequest {
   id: number
+  file: string
   kind: LineKind
-  lines: Int32Array
-  texts: (string | null)[]
-  invalidAt: (number | undefined)[]
-  tooLong: Uint8Array
+  /** byte offset (at a line start) and its line number */
+  offset: number
+  firstLine: number
+  /** stop before the first line that ends after this offset; null = read to the end */
+  endOffset: number | null
+  mode: 'parse' | 'check'
+  /** one Int32: chunks the reader may still send (raised by the main thread as it consumes them) */
+  credit: SharedArrayBuffer
+}
+
+/** What a check of a range found. */
+export interface CheckResult {
+  /** good lines (blank lines not counted) */
+  read: number
+  problems: { line: number; field?: string; reason: string }[]
+  /** the line number after the last line read */
+  nextLine: number
 }
 
 export interface ParsedLine {
   line: number
+  /** byte offset after the line and whether it had a line break (see Line) */
+  end?: number
+  terminated?: boolean
   doc?: DocumentInput
   /** index of its analysis in the chunk's packed analyses */
   analysis?: number
@@ -51,6 +69,8 @@ export interface ParseResponse {
   id: number
   out?: ParsedLine[]
   packed?: PackedAnalyses
+  /** the range is finished */
+  done?: CheckResult
   error?: string
 }
 
@@ -74,8 +94,19 @@ export interface ParsedChunk {
   packed: PackedAnalyses
 }
 
+/** Chunks a reader may send ahead of the main thread. */
+const AHEAD = 3
+
+interface Stream {
+  chunks: ParsedChunk[]
+  done: CheckResult | null
+  error: Error | null
+  wake: (() => void) | null
+  credit: Int32Array
+}
+
 export class LineParser {
-  private readonly waiting = new Map<number, { resolve: (r: ParsedChunk) => void; reject: (e: Error) => void }>()
+  private readonly streams = new Map<number, Stream>()
   private nextId = 0
   private failure: Error | null = null
 
@@ -84,16 +115,19 @@ export class LineParser {
     readonly setup: ParserSetup,
   ) {
     worker.on('message', (msg: ParseResponse) => {
-      const w = this.waiting.get(msg.id)
-      if (!w) return
-      this.waiting.delete(msg.id)
-      if (msg.error !== undefined) w.reject(new Error(`parse worker: ${msg.error}`))
-      else w.resolve({ out: msg.out ?? [], packed: msg.packed! })
+      const st = this.streams.get(msg.id)
+      if (!st) return
+      if (msg.error !== undefined) st.error = new Error(`parse worker: ${msg.error}`)
+      else if (msg.done) st.done = msg.done
+      else st.chunks.push({ out: msg.out ?? [], packed: msg.packed! })
+      st.wake?.()
     })
     worker.on('error', (err) => {
       this.failure = err
-      for (const w of this.waiting.values()) w.reject(err)
-      this.waiting.clear()
+      for (const st of this.streams.values()) {
+        st.error = err
+        st.wake?.()
+      }
     })
   }
 
@@ -118,75 +152,96 @@ export class LineParser {
     return new LineParser(worker, setup)
   }
 
-  parse(kind: LineKind, lines: Line[]): Promise<ParsedChunk> {
-    if (this.failure) return Promise.reject(this.failure)
-    return new Promise((resolve, reject) => {
-      const id = this.nextId++
-      this.waiting.set(id, { resolve, reject })
-      const req: ParseRequest = {
-        id,
-        kind,
-        lines: Int32Array.from(lines, (l) => l.line),
-        texts: lines.map((l) => l.text),
-        invalidAt: lines.map((l) => l.invalidAt),
-        tooLong: Uint8Array.from(lines, (l) => ((l as { tooLong?: boolean }).tooLong ? 1 : 0)),
+  private open(req: Omit<FileRequest, 'id' | 'credit'>): { id: number; st: Stream } {
+    if (this.failure) throw this.failure
+    const id = this.nextId++
+    const credit = new SharedArrayBuffer(4)
+    const st: Stream = { chunks: [], done: null, error: null, wake: null, credit: new Int32Array(credit) }
+    st.credit[0] = AHEAD
+    this.streams.set(id, st)
+    this.worker.postMessage({ ...req, id, credit } satisfies FileRequest)
+    return { id, st }
+  }
+
+  private static next(st: Stream): Promise<void> {
+    return new Promise((resolve) => (st.wake = resolve))
+  }
+
+  /** Parses and analyses a file from `offset` on; chunks of results in file order. */
+  async *parseFile(file: string, kind: LineKind, offset: number, firstLine: number): AsyncGenerator<ParsedChunk> {
+    const { id, st } = this.open({ file, kind, offset, firstLine, endOffset: null, mode: 'parse' })
+    try {
+      for (;;) {
+        const chunk = st.chunks.shift()
+        if (chunk) {
+          Atomics.add(st.credit, 0, 1)
+          Atomics.notify(st.credit, 0)
+          yield chunk
+          continue
+        }
+        if (st.error) throw st.error
+        if (st.done) return
+        await LineParser.next(st)
       }
-      this.worker.postMessage(req, [req.lines.buffer as ArrayBuffer, req.tooLong.buffer as ArrayBuffer])
-    })
+    } finally {
+      // a consumer that stopped early leaves the reader free to finish
+      Atomics.store(st.credit, 0, 1 << 30)
+      Atomics.notify(st.credit, 0)
+      this.streams.delete(id)
+    }
+  }
+
+  /** Checks the lines of a file range (as import's first pass does); line numbers from `firstLine`. */
+  async checkRange(file: string, kind: LineKind, offset: number, firstLine: number, endOffset: number | null = null): Promise<CheckResult> {
+    const { id, st } = this.open({ file, kind, offset, firstLine, endOffset, mode: 'check' })
+    try {
+      while (!st.done) {
+        if (st.error) throw st.error
+        await LineParser.next(st)
+      }
+      return st.done
+    } finally {
+      this.streams.delete(id)
+    }
   }
 
   async close(): Promise<void> {
+    // a reader waiting for credit is released first, then the thread ends
+    for (const st of this.streams.values()) {
+      Atomics.store(st.credit, 0, 1 << 30)
+      Atomics.notify(st.credit, 0)
+    }
     await this.worker.terminate()
   }
 }
 
 /**
- * Feeds lines through the worker into the writer, in order, keeping up to three chunks in flight.
+ * Reads a JSON Lines file on the worker and feeds its documents into the writer, in file order.
  * @param cursorOf the resume point after a line (undefined: do not move it)
  * @param reportProblems false when the lines were checked before and their problems reported
  */
-export async function writeLinesInParallel(
+export async function writeFileInParallel(
   parser: LineParser,
-  lines: Iterable<Line>,
+  file: string,
+  start: { offset: number; line: number },
   kind: LineKind,
   writer: BatchWriter,
-  file: string,
-  cursorOf: (l: Line) => string | undefined,
-  onLine?: (l: Line) => void,
+  where: string,
+  cursorOf: (l: Pick<Line, 'line' | 'end' | 'terminated'>) => string | undefined,
+  onLine?: (l: Pick<Line, 'line' | 'end' | 'terminated'>) => void,
   reportProblems = true,
 ): Promise<void> {
-  const queue: { lines: Line[]; result: Promise<ParsedChunk> }[] = []
   const { numHashes: k, bands } = parser.setup.dedupe
-  const drain = async (keep: number) => {
-    while (queue.length > keep) {
-      const c = queue.shift()!
-      const { out: results, packed } = await c.result
-      results.forEach((r, i) => {
-        const l = c.lines[i]!
-        const cursor = cursorOf(l)
-        if (r.problem) {
-          if (reportProblems) writer.problem({ file, line: r.line, field: r.problem.field, reason: r.problem.reason })
-          if (cursor !== undefined) writer.advance(cursor)
-        } else if (r.doc) writer.add(r.doc, { file, line: r.line }, cursor, unpackAnalysis(packed, r.analysis!, k, bands))
-        else if (cursor !== undefined) writer.advance(cursor)
-        onLine?.(l)
-      })
+  for await (const { out, packed } of parser.parseFile(file, kind, start.offset, start.line)) {
+    for (const r of out) {
+      const l = { line: r.line, end: r.end!, terminated: r.terminated! }
+      const cursor = cursorOf(l)
+      if (r.problem) {
+        if (reportProblems) writer.problem({ file: where, line: r.line, field: r.problem.field, reason: r.problem.reason })
+        if (cursor !== undefined) writer.advance(cursor)
+      } else if (r.doc) writer.add(r.doc, { file: where, line: r.line }, cursor, unpackAnalysis(packed, r.analysis!, k, bands))
+      else if (cursor !== undefined) writer.advance(cursor)
+      onLine?.(l)
     }
-  }
-  let chunk: Line[] = []
-  try {
-    for (const l of lines) {
-      chunk.push(l)
-      if (chunk.length === CHUNK_LINES) {
-        queue.push({ lines: chunk, result: parser.parse(kind, chunk) })
-        chunk = []
-        await drain(2)
-      }
-    }
-    if (chunk.length) queue.push({ lines: chunk, result: parser.parse(kind, chunk) })
-    await drain(0)
-  } finally {
-    // results still in flight after an error are not wanted; their rejections are not either
-    for (const c of queue) c.result.catch(() => {})
   }
 }

@@ -16,7 +16,7 @@ import { ItemError } from './document.ts'
 import { readFeed } from './feed.ts'
 import { type FetchOptions, fetchSource } from './http-fetch.ts'
 import { type Line, linesOfBuffer, linesOfFile } from './lines.ts'
-import { LineParser, writeLinesInParallel } from './parse-pool.ts'
+import { LineParser, writeFileInParallel } from './parse-pool.ts'
 import { type LineKind, documentFromLine, requestsFromCsv } from './readers.ts'
 import { decodeBytes } from './text.ts'
 import type { BatchWriter } from './writer.ts'
@@ -161,22 +161,21 @@ export async function runJsonLines(env: SourceEnv, source: SourceConfig, row: So
   if (start.offset === size) return { ...OK, details: { unchanged: 'no new lines since the last run', resumedAt: start } }
   let n = 0
   // an unterminated last line may still be being written: read it, but resume before it next time
-  const cursorOf = (l: Line) => (l.terminated && env.track !== false ? JSON.stringify({ offset: l.end, line: l.line + 1, head } satisfies FileCursor) : undefined)
-  const progress = (l: Line) => {
+  const cursorOf = (l: Pick<Line, 'line' | 'end' | 'terminated'>) => (l.terminated && env.track !== false ? JSON.stringify({ offset: l.end, line: l.line + 1, head } satisfies FileCursor) : undefined)
+  const progress = (l: Pick<Line, 'end'>) => {
     if (onFraction && ++n % 1000 === 0) onFraction(l.end / size)
   }
-  const lines = linesOfFile(file, start.offset, start.line)
   const minBytes = env.config.ingest.parseWorkerMinBytes
   const parallel = minBytes !== null && size - start.offset >= minBytes
   if (parallel) {
     const parser = await LineParser.start({ dedupe: env.config.ingest.dedupe, maxTextChars: env.config.ingest.maxTextChars })
     try {
-      await writeLinesInParallel(parser, lines, kind, writer, where, cursorOf, progress)
+      await writeFileInParallel(parser, file, start, kind, writer, where, cursorOf, progress)
     } finally {
       await parser.close()
     }
   } else {
-    for (const l of lines) {
+    for (const l of linesOfFile(file, start.offset, start.line)) {
       const cursor = cursorOf(l)
       try {
         const doc = documentFromLine(l, kind)

@@ -5,6 +5,7 @@ import { afterAll, describe, expect, it } from 'vitest'
 import { parseConfig } from '../../src/config.ts'
 import { contentHash, openDb } from '../../src/db/connection.ts'
 import { listRuns } from '../../src/db/runs.ts'
+import { importDocuments } from '../../src/ingest/import.ts'
 import { ingestSources } from '../../src/ingest/stage.ts'
 import { postingsWithReposts, toJsonLines } from './corpus.ts'
 
@@ -48,5 +49,32 @@ describe('parsing on a worker thread', () => {
     expect(contentHash(db, ['documents', 'document_bands'])).toBe(contentHash(clean, ['documents', 'document_bands']))
     db.close()
     clean.close()
+  })
+
+  it('import: the check on two threads reports the same problems by line as one thread, strict refuses, skip-bad stores the same', async () => {
+    const { lines } = postingsWithReposts(33, 3000, 0.1, [1, 2])
+    const text = toJsonLines(lines).split('\n')
+    // bad lines in both halves of the file, one right at the middle, and a blank line
+    text.splice(2400, 0, '{"@type": "JobPosting", "identifier": "late", "title": 7}')
+    text.splice(1500, 0, 'not json at all', '')
+    text.splice(10, 0, '{"@type": "JobPosting", "identifier": "early"}')
+    const file = path.join(dir, 'imp.jsonl')
+    fs.writeFileSync(file, text.join('\n'))
+    const results: { problems: string; read: number; hash?: string }[] = []
+    for (const min of [null, 0]) {
+      const config = parseConfig({ ingest: { parseWorkerMinBytes: min, batchSize: 900 } })
+      const strict = openDb(path.join(dir, `imp-strict-${min}.db`))
+      const refused = await importDocuments(strict, config, 'postings', file, { skipBad: false })
+      expect(refused.refused).toBe(true)
+      expect(strict.prepare('SELECT COUNT(*) FROM documents').pluck().get()).toBe(0)
+      strict.close()
+      const db = openDb(path.join(dir, `imp-${min}.db`))
+      const r = await importDocuments(db, config, 'postings', file, { skipBad: true })
+      expect(r).toMatchObject({ refused: false, read: 3003, skipped: 3, imported: 3000 })
+      results.push({ problems: JSON.stringify(refused.problems), read: refused.read, hash: contentHash(db, ['documents', 'document_bands']) })
+      db.close()
+    }
+    expect(JSON.parse(results[0]!.problems).map((p: { line: number; column?: string }) => [p.line, p.column])).toEqual([[11, 'datePosted'], [1502, undefined], [2404, 'title']])
+    expect(results[1]).toEqual(results[0])
   })
 })
