@@ -16,7 +16,7 @@ import { seasonalKendall } from '../stats/seasonal-kendall.ts'
 import { theilSen } from '../stats/theil-sen.ts'
 import type { CurvesConfig } from './config.ts'
 import { forecastSkill } from './forecast.ts'
-import type { ForecastResult } from './forecast.ts'
+import type { ForecastPoint, ForecastResult } from './forecast.ts'
 import { monthOfYear } from './months.ts'
 import { buildGrid, gridMonth, gridMonths } from './series.ts'
 import type { SkillGrid, SkillSeriesInput } from './series.ts'
@@ -505,7 +505,20 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
   const fitted = trend ? attempt(omitted, 'fitted curve', () => column(fittedIndex(trend, grid)), null) : null
   const combined = column(grid.combined)
   const forecast = analysis.forecast
-  const points = forecast?.points ?? []
+  // bands in the shape the plan stage reads (low/high = 95%) and the dashboard reads (lo80 … hi95);
+  // the curve's own forecast points are the same objects (thousands of curves wait for the
+  // cross-skill adjustment, so each keeps one copy). An explicit literal: spread is much slower.
+  const bands: (ForecastPoint & { low: number; high: number })[] = (forecast?.points ?? []).map((p) => ({
+    month: p.month,
+    monthsAhead: p.monthsAhead,
+    share: p.share,
+    lo80: p.lo80,
+    hi80: p.hi80,
+    lo95: p.lo95,
+    hi95: p.hi95,
+    low: p.lo95,
+    high: p.hi95,
+  }))
   const details: Record<string, unknown> = {
     model: trend
       ? `quasi-Poisson log-linear trend, common to ${grid.sources.map((s) => `${s.name} (index weight ${(100 * s.weight).toFixed(0)}%)`).join(' and ')}` +
@@ -543,9 +556,7 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
     forecastOrigins: forecast?.origins ?? 0,
     alternativeForecast12: forecast?.alternative12 ?? null,
     holt: forecast?.holt ?? null,
-    // bands in the shape the plan stage reads (low/high = 95%) and the dashboard reads (lo80 … hi95)
-    // (an explicit literal: object spread is several times slower and this runs for every skill)
-    forecast: points.map((p) => ({ month: p.month, monthsAhead: p.monthsAhead, share: p.share, lo80: p.lo80, hi80: p.hi80, lo95: p.lo95, hi95: p.hi95, low: p.lo95, high: p.hi95 })),
+    forecast: bands,
     omittedParts: omitted,
   }
   const curve: SkillCurve = {
@@ -569,7 +580,7 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
     latestShare: analysis.latestShare,
     forecastShare12: forecast ? forecast.share12 : null,
     forecastMethod: forecast?.method ?? null,
-    forecast: points,
+    forecast: bands,
     details,
   }
   return { curve, evidence: stateEvidence(analysis, null), halfLifeMonths: analysis.halfLifeMonths, halfLifeInterval: analysis.halfLifeInterval }
