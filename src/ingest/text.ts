@@ -100,11 +100,45 @@ const HAS_RUN = /[\t\u00a0]| {2}|\n[ \n]| \n/
 const LINE_BREAK_RUN = /[ \t\u00a0]*\n[ \t\u00a0\n]*/g
 const BLANK_RUN = /[ \t\u00a0]{2,}|[\t\u00a0]/g
 
+const TIDY = 0
+const RUNS = 1
+const OTHER = 2
+
+/**
+ * One pass over the text instead of three regular expressions: TIDY (nothing to clean but the
+ * ends), RUNS (only what HAS_RUN finds: tabs, no-break spaces, double spaces, blank runs around
+ * line breaks) or OTHER (a control character or carriage return: the full path).
+ */
+function tidiness(t: string): number {
+  let runs = false
+  const n = t.length
+  for (let i = 0; i < n; i++) {
+    const c = t.charCodeAt(i)
+    if (c < 32) {
+      if (c === 10) {
+        const next = t.charCodeAt(i + 1)
+        if (next === 32 || next === 10) runs = true
+      } else if (c === 9) runs = true
+      else return OTHER
+    } else if (c === 32) {
+      const next = t.charCodeAt(i + 1)
+      if (next === 32 || next === 10) runs = true
+    } else if (c >= 127) {
+      if (c === 127 || c === 0x200b || c === 0xfeff) return OTHER
+      if (c === 0xa0) runs = true
+    }
+  }
+  return runs ? RUNS : TIDY
+}
+
 /**
  * Removes control characters (keeping line breaks), collapses runs of spaces and blank lines, trims.
  * @example cleanText(' a \t b\n\n\n c\u0007 ') // => 'a b\nc'
  */
 export function cleanText(text: string): string {
+  const state = tidiness(text)
+  if (state === TIDY) return text.trim()
+  if (state === RUNS) return text.replace(LINE_BREAK_RUN, '\n').replace(BLANK_RUN, ' ').trim()
   let t = text
   if (CONTROL.test(t)) t = t.replace(CONTROL_ALL, '')
   if (t.includes('\r')) t = t.replace(/\r\n?/g, '\n')
