@@ -67,6 +67,13 @@ export function analyseDocument(doc: Pick<DocumentInput, 'title' | 'body' | 'kin
 const CACHE_SIZE = 30_000
 
 /**
+ * Postings whose signature alone stays in memory (k * 4 bytes each, 60 MiB at k = 60): most LSH
+ * candidates are dismissed by the signature estimate, and reading it from the documents table
+ * costs a random page read each.
+ */
+const SIGNATURE_CACHE_SIZE = 262_144
+
+/**
  * Band keys gathered in memory before they are written in one sorted run (about 12 bytes each,
  * plus the lookup table): 3,000,000 is 300,000 postings at 10 bands. Written with every batch,
  * each batch's random keys rewrote most pages of the band index: at a million postings that was
@@ -90,6 +97,10 @@ export class Deduper {
    */
   private readonly known: (Known | undefined)[] = new Array(CACHE_SIZE)
   private readonly knownIds = new Float64Array(CACHE_SIZE).fill(-1)
+  /** signatures and roots of more recent postings (slot id % SIGNATURE_CACHE_SIZE), allocated on first use */
+  private sigs: Uint32Array | null = null
+  private readonly sigIds = new Float64Array(SIGNATURE_CACHE_SIZE).fill(-1)
+  private readonly sigRoots = new Float64Array(SIGNATURE_CACHE_SIZE)
   /** candidates whose estimate is this far below the threshold are not worth an exact check */
   private readonly slack: number
   /** in-memory filter over stored band keys and text hashes, built once enough lookups make it pay */
@@ -202,8 +213,17 @@ export class Deduper {
       if (f.full) this.rebuildFilter(f.size)
     }
     const slot = id % CACHE_SIZE
-    this.known[slot] = { signature: a.signature, root: decision.duplicateOf ?? id, shingles: a.shingles }
+    const root = decision.duplicateOf ?? id
+    this.known[slot] = { signature: a.signature, root, shingles: a.shingles }
     this.knownIds[slot] = id
+    const k = this.params.numHashes
+    if (a.signature.length === k) {
+      this.sigs ??= new Uint32Array(SIGNATURE_CACHE_SIZE * k)
+      const s = id % SIGNATURE_CACHE_SIZE
+      this.sigs.set(a.signature, s * k)
+      this.sigIds[s] = id
+      this.sigRoots[s] = root
+    }
   }
 
   /**
@@ -240,6 +260,7 @@ export class Deduper {
   forget(): void {
     this.known.fill(undefined)
     this.knownIds.fill(-1)
+    this.sigIds.fill(-1)
     this.pending.truncate(this.saved.mark)
     this.through = this.saved.through
     this.accounted = this.saved.accounted
@@ -259,6 +280,11 @@ export class Deduper {
   private lookup(id: number): Known | null {
     const slot = id % CACHE_SIZE
     if (this.knownIds[slot] === id) return this.known[slot]!
+    const s = id % SIGNATURE_CACHE_SIZE
+    if (this.sigs && this.sigIds[s] === id) {
+      const k = this.params.numHashes
+      return { signature: this.sigs.subarray(s * k, (s + 1) * k), root: this.sigRoots[s]!, shingles: null }
+    }
     const row = this.store.signature(id)
     if (!row || !row.signature) return null
     return { signature: signatureFromBytes(row.signature), root: row.duplicate_of ?? row.id, shingles: null }
