@@ -6,6 +6,7 @@
  */
 import { dampedHoltForecast, fitDampedHolt } from '../stats/damped-holt-fit.ts'
 import type { DampedHoltFit } from '../stats/damped-holt-fit.ts'
+import { dampedTrendForecast } from '../stats/exponential-smoothing.ts'
 import { normalQuantile } from '../stats/normal-distribution.ts'
 import { monthOfYear } from './months.ts'
 import type { SkillGrid } from './series.ts'
@@ -271,18 +272,21 @@ export function forecastSkill(grid: SkillGrid, trend: TrendFit, options: { horiz
     holt = null
   }
   const errors = rollingOrigin(grid, trend, holt, options.origins, options.minTrain)
-  const regressionPoints = regressionForecast(grid, trend, steps)
-  const holtPoints = holt ? holtForecast(grid, holt, steps) : null
-  const useHolt = holtPoints !== null && errors.dampedHolt !== null && errors.regression !== null && errors.dampedHolt < errors.regression
-  const chosen = useHolt ? holtPoints! : regressionPoints
-  const other = useHolt ? regressionPoints : holtPoints
+  const useHolt = holt !== null && errors.dampedHolt !== null && errors.regression !== null && errors.dampedHolt < errors.regression
+  // the chosen method's bands; of the other, only its 12-month point is reported
+  const chosen = useHolt ? holtForecast(grid, holt!, steps) : regressionForecast(grid, trend, steps)
+  const alternative12 = useHolt
+    ? combinedAt(trend, grid, grid.length + 11).share
+    : holt
+      ? Math.max(0, dampedTrendForecast(holt.run.level, holt.run.trend, holt.phi, 12)[11]!)
+      : null
   return {
     method: useHolt ? 'damped-holt' : 'regression',
     points: chosen.slice(0, options.horizon),
     share12: chosen[11]!.share,
     oneStepMse: { regression: errors.regression, 'damped-holt': errors.dampedHolt },
     origins: errors.origins,
-    alternative12: other ? other[11]!.share : null,
+    alternative12,
     holt: holt ? { alpha: holt.alpha, beta: holt.beta, phi: holt.phi } : null,
   }
 }
