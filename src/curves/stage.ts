@@ -1,14 +1,15 @@
 /**
  * @module curves/stage
- * The fit stage: builds every skill's monthly demand series from the mapped documents, fits the
- * demand curves (trend, half-life, significance across skills, change, emergence, forecast and
- * lifecycle state), and in one transaction replaces the `demand` and `curves` tables and emits
+ * The fit stage: builds every skill's monthly demand series from the demand aggregates the map stage
+ * keeps (so its cost does not grow with the number of documents), fits the demand curves (trend,
+ * half-life, significance across skills, change, emergence, forecast and lifecycle state), and in
+ * one transaction brings the `demand` table up to date (changed rows only), replaces `curves` and emits
  * `curves.fitted` plus one `skill.state-changed` per skill whose state moved. Runs after
  * `documents.mapped`.
  */
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
-import { readCurveStates, readMonthlyDemand, replaceCurves, replaceDemand } from '../db/curves.ts'
+import { readCurveStates, readMonthlyDemand, replaceCurves, syncDemand } from '../db/curves.ts'
 import type { CurveRow, DemandRow, DemandSeries, MonthlyDemand } from '../db/curves.ts'
 import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
@@ -161,7 +162,7 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
   let changed = 0
   let demandCount = 0
   db.transaction(() => {
-    demandCount = replaceDemand(db, demandRows(demand))
+    demandCount = syncDemand(db, demandRows(demand)).rows
     replaceCurves(db, result.curves.map((curve) => curveRow(curve, fittedAt)))
     for (const curve of result.curves) {
       states[curve.state] = (states[curve.state] ?? 0) + 1

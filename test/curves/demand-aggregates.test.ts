@@ -101,6 +101,25 @@ function expectInStep(db: Db): MonthlyDemand {
 
 const ext = (d: MonthlyDemand, id: string, month: string) => d.mentions.get(id)?.external.get(month) ?? 0
 
+/** The demand table a fit should leave, from the full recomputation: every month with documents, for skills mentioned at least once. */
+function expectDemandTable(db: Db): void {
+  const full = recomputeMonthlyDemand(db)
+  const expected: { concept_id: string; series: string; month: string; n: number; total: number }[] = []
+  for (const id of [...full.mentions.keys()].sort()) {
+    if (!full.labels.has(id)) continue
+    for (const series of ['external', 'internal'] as const) {
+      const counts = full.mentions.get(id)![series]
+      if (counts.size === 0) continue
+      for (const month of full.months) {
+        const total = full.totals[series].get(month) ?? 0
+        if (total > 0) expected.push({ concept_id: id, series, month, n: counts.get(month) ?? 0, total })
+      }
+    }
+  }
+  expect(db.prepare('SELECT * FROM demand ORDER BY concept_id, series, month').all()).toEqual(expected)
+}
+const fit = (db: Db) => runFit(db, config, { now: new Date('2024-12-01T00:00:00Z') })
+
 describe('demand aggregates kept by the map stage', () => {
   it('equal the full recomputation after import, map, a second import, requests and reposts', async () => {
     const db = openDb(':memory:')
@@ -124,6 +143,9 @@ describe('demand aggregates kept by the map stage', () => {
     const dupes = db.prepare('SELECT COUNT(*) FROM documents WHERE duplicate_of IS NOT NULL').pluck().get() as number
     expect(dupes).toBe(reposts.length)
 
+    fit(db)
+    expectDemandTable(db)
+
     // a second import (later months, and more in a month already counted) adds only its own documents
     await importPostings(db, [...postings('b', 6, 3, 10)])
     const mappedBefore = db.prepare('SELECT COUNT(*) FROM documents WHERE mapped_version IS NOT NULL').pluck().get() as number
@@ -133,8 +155,9 @@ describe('demand aggregates kept by the map stage', () => {
     expect(after.totals.external.get('2024-06')).toBe(22)
     expect(after.totals.external.get('2024-08')).toBe(10)
 
-    // the fit stage reads the aggregate and stores the same demand rows the recomputation gives
-    runFit(db, config, { now: new Date('2024-09-01T00:00:00Z') })
+    // the fit stage reads the aggregate and brings the demand table to the rows the recomputation gives
+    fit(db)
+    expectDemandTable(db)
     const stored = db.prepare("SELECT n, total FROM demand WHERE concept_id = 'kubernetes' AND series = 'external' ORDER BY month").all() as { n: number; total: number }[]
     const full = recomputeMonthlyDemand(db)
     const months = full.months.filter((m) => (full.totals.external.get(m) ?? 0) > 0)
@@ -156,6 +179,8 @@ describe('demand aggregates kept by the map stage', () => {
     const remapped = expectInStep(db)
     expect(ext(remapped, 'quillstream', '2024-01')).toBeGreaterThan(0)
     expect(remapped.totals.external.get('2024-01')).toBe(10)
+    fit(db)
+    expectDemandTable(db)
 
     const file = path.join(tmp, 'mini.csv')
     fs.writeFileSync(file, ['id,prefLabel,altLabel,hiddenLabel,broader,type', 'kubernetes,Kubernetes,K8s,,containers,hard', 'containers,containers,,,,hard', 'python,Python,,,,hard'].join('\n'))
@@ -167,6 +192,10 @@ describe('demand aggregates kept by the map stage', () => {
     expect([...again.mentions.keys()].sort()).toEqual(['containers', 'kubernetes'])
     // containers counts by roll-up exactly where kubernetes does
     expect(again.mentions.get('containers')!.external).toEqual(again.mentions.get('kubernetes')!.external)
+    // the next fit drops the demand rows of concepts no longer in the taxonomy
+    fit(db)
+    expectDemandTable(db)
+    expect(db.prepare("SELECT COUNT(*) FROM demand WHERE concept_id = 'quillstream'").pluck().get()).toBe(0)
   }, 60_000)
 
   it('follow deleted documents (an original with reposts), their re-import, and a document marked a repost later', async () => {
