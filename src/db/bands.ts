@@ -44,15 +44,14 @@ export function insertSortedBandRows(db: Db, keys: Float64Array, docs: Float64Ar
 }
 
 /**
- * The highest document id up to which every posting's band rows are stored. A database without the
- * setting was written with rows in every batch: all of it is covered.
+ * The highest document id up to which every posting's band rows are stored, and whether the setting
+ * exists. A database without it was written with rows in every batch: all of it is covered (the
+ * caller stores the value with its first batch, so that a run that fails changes nothing).
  */
-export function bandsThrough(db: Db): number {
+export function bandsThrough(db: Db): { through: number; stored: boolean } {
   const v = getSetting(db, THROUGH)
-  if (v !== undefined) return Number(v)
-  const max = db.prepare('SELECT COALESCE(MAX(id), 0) FROM documents').pluck().get() as number
-  setSetting(db, THROUGH, String(max))
-  return max
+  if (v !== undefined) return { through: Number(v), stored: true }
+  return { through: lastDocumentId(db), stored: false }
 }
 
 export function setBandsThrough(db: Db, id: number): void {

@@ -114,10 +114,12 @@ export class Deduper {
   /** documents above `through` that this deduper knows of (stored by it, or caught up) */
   private accounted = 0
   /** state when the open batch began, restored when it rolls back */
-  private saved = { mark: 0, through: 0, accounted: 0 }
+  private saved = { mark: 0, through: 0, accounted: 0, throughStored: false }
   /** the open batch wrote the pending keys (they are dropped from memory once it commits) */
   private wrote = false
   private readonly bandRun: number
+  /** false until the high-water mark is in the settings table (written with the first batch) */
+  private throughStored: boolean
 
   constructor(
     private readonly store: DocumentStore,
@@ -132,7 +134,9 @@ export class Deduper {
     // 30 of those, so the filter pays once a run has looked up a tenth of the stored documents
     this.buildAfter = 1000 + Math.ceil(maxDocumentId(store.db) / 10)
     this.bandRun = Math.max(1, bandRun)
-    this.through = bandsThrough(store.db)
+    const t = bandsThrough(store.db)
+    this.through = t.through
+    this.throughStored = t.stored
     this.catchUp()
   }
 
@@ -158,7 +162,7 @@ export class Deduper {
 
   /** Call at the start of each batch transaction. */
   beginBatch(): void {
-    this.saved = { mark: this.pending.size, through: this.through, accounted: this.accounted }
+    this.saved = { mark: this.pending.size, through: this.through, accounted: this.accounted, throughStored: this.throughStored }
     this.wrote = false
   }
 
@@ -233,20 +237,30 @@ export class Deduper {
    * another writer meanwhile; else the next writer catches up from the signatures).
    */
   flushBands(all = false): void {
-    if (this.pending.size > 0) {
-      if (!all && this.pending.size < this.bandRun) return
-      const { keys, docs } = this.pending.sortedFlat()
-      insertSortedBandRows(this.store.db, keys, docs)
-      this.wrote = true
-    }
     const db = this.store.db
-    const last = lastDocumentId(db)
-    // ids are handed out as max + 1 and documents are never deleted, so `last - through` is the
-    // count unless ids have gaps; only then is counting (which reads every row of the range) needed
-    if (last > this.through && (last - this.through === this.accounted || documentsBetween(db, this.through, last) === this.accounted)) {
-      setBandsThrough(db, last)
-      this.through = last
-      this.accounted = 0
+    let covered = this.pending.size === 0
+    if (!covered && (all || this.pending.size >= this.bandRun)) {
+      const { keys, docs } = this.pending.sortedFlat()
+      insertSortedBandRows(db, keys, docs)
+      this.wrote = true
+      covered = true
+    }
+    if (covered) {
+      const last = lastDocumentId(db)
+      // ids are handed out as max + 1 and documents are never deleted, so `last - through` is the
+      // count unless ids have gaps; only then is counting (which reads every row of the range) needed
+      if (last > this.through && (last - this.through === this.accounted || documentsBetween(db, this.through, last) === this.accounted)) {
+        setBandsThrough(db, last)
+        this.through = last
+        this.accounted = 0
+        this.throughStored = true
+      }
+    }
+    if (!this.throughStored) {
+      // the mark this writer started from is stored with its first batch: postings above it may
+      // then be committed without their rows, and a killed run leaves them to the next writer
+      setBandsThrough(db, this.through)
+      this.throughStored = true
     }
   }
 
@@ -264,6 +278,7 @@ export class Deduper {
     this.pending.truncate(this.saved.mark)
     this.through = this.saved.through
     this.accounted = this.saved.accounted
+    this.throughStored = this.saved.throughStored
     this.wrote = false
   }
 
