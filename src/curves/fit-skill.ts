@@ -25,7 +25,7 @@ import type { SkillState, StateEvidence } from './state.ts'
 import { detectChange } from './change-point.ts'
 import { chooseSeasonalTerms } from './seasonal-selection.ts'
 import type { SeasonalChoice } from './seasonal-selection.ts'
-import { combinedAt, currentSlope, fittedIndex, fitTrend, observationsFrom, stackObservations } from './trend-model.ts'
+import { combinedAt, currentSlope, currentSlopeWithBreak, fittedIndex, fitTrend, observationsFrom, stackObservations } from './trend-model.ts'
 import type { StackedObservations, TrendFit } from './trend-model.ts'
 
 /** A statistical test as recorded in the details (the dashboard lists them). */
@@ -165,6 +165,53 @@ function sourceSlopes(trend: TrendFit, grid: SkillGrid): { name: string; estimat
     const summary = summarizeCoefficient(glm, 1, { quasi: true })
     return { name: source.name, estimate: summary.estimate, lower: summary.lower, upper: summary.upper, p: summary.pValue }
   })
+}
+
+/**
+ * χ²₁ quantile at 0.95 (3.8415; NIST/SEMATECH e-Handbook §1.3.6.7.4, upper critical values of the
+ * chi-square distribution): the 95% profile-likelihood confidence set for the breakpoint
+ */
+const BREAK_SET_CHI2 = 3.8415
+
+/**
+ * The current slope after an accepted change, its interval widened for the uncertainty of the
+ * break's position: the union of the slope's intervals over every breakpoint in a 95% profile
+ * likelihood confidence set (candidates whose quasi-deviance is within χ²₁(0.95) of the best), with
+ * the widened interval of Muggeo's linearisation at the chosen one (currentSlopeWithBreak). The
+ * union covers with probability at least 1 − 0.05 − (1 − level) = 90% at the default level (the
+ * union over a confidence set for a nuisance parameter, Berger & Boos 1994, JASA 89:1012–1016, from
+ * memory); in the seeded simulations of test/curves/change-coverage.test.ts it covers about 98%,
+ * the plain interval at the chosen month about 70%. The estimate and its p-value are those of the
+ * chosen breakpoint (the p-value from Muggeo's widened standard error).
+ * Cost: one refit per candidate month of the change window, only for skills whose change was accepted.
+ */
+function slopeOverBreakSet(observations: StackedObservations, changed: TrendFit, config: CurvesConfig): CoefficientSummary {
+  const slope = currentSlopeWithBreak(changed, config.level)
+  const chosen = changed.spec.breakpoint!
+  const dispersion = Number.isFinite(changed.glm.dispersion) && changed.glm.dispersion > 0 ? changed.glm.dispersion : 1
+  const last = observations.position[observations.rows - 1]!
+  const first = observations.position[0]!
+  const fits: TrendFit[] = []
+  let best = changed.glm.deviance
+  for (let tau = Math.max(first + config.change.minSegment - 1, last - config.change.windowMonths); tau <= last - config.change.minSegment; tau++) {
+    if (tau === chosen) continue
+    try {
+      const fit = fitTrend(observations, { harmonics: changed.spec.harmonics, breakpoint: tau }, changed.glm.coefficients)
+      fits.push(fit)
+      best = Math.min(best, fit.glm.deviance)
+    } catch {
+      // a candidate that cannot be fitted is left out of the set
+    }
+  }
+  let lower = slope.lower
+  let upper = slope.upper
+  for (const fit of fits) {
+    if ((fit.glm.deviance - best) / dispersion > BREAK_SET_CHI2) continue
+    const other = currentSlope(fit, config.level)
+    if (Number.isFinite(other.lower)) lower = Math.min(lower, other.lower)
+    if (Number.isFinite(other.upper)) upper = Math.max(upper, other.upper)
+  }
+  return { ...slope, lower, upper }
 }
 
 function insufficient(
@@ -335,7 +382,8 @@ function analyseObserved(
   }
   const trend = regimeTrend ?? linear
   const changeAccepted = regimeKind === 'change'
-  const slope = regimeTrend ? currentSlope(trend, config.level) : fullSlope
+  // after a change, the interval also carries the uncertainty of the break's position
+  const slope = regimeKind === 'change' ? slopeOverBreakSet(observations, trend, config) : regimeTrend ? currentSlope(trend, config.level) : fullSlope
   // The months after a change were chosen by looking at the data, so the slope's own p-value is too
   // small. A skill flagged through a change must show both the change (search-corrected) and the
   // new slope: the larger of the two p-values is a valid test of "changed and now moving"
