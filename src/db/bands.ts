@@ -58,6 +58,11 @@ export function setBandsThrough(db: Db, id: number): void {
   setSetting(db, THROUGH, String(id))
 }
 
+/** After a full rebuild of the band rows: every stored posting is covered (a missing mark says so already). */
+export function markBandsComplete(db: Db): void {
+  if (getSetting(db, THROUGH) !== undefined) setBandsThrough(db, lastDocumentId(db))
+}
+
 /** How many documents have ids in (after, upTo]. */
 export function documentsBetween(db: Db, after: number, upTo: number): number {
   return db.prepare('SELECT COUNT(*) FROM documents WHERE id > ? AND id <= ?').pluck().get(after, upTo) as number

@@ -4,7 +4,7 @@
  * that built the stored index are recorded; when the configuration changes, every posting's
  * signature and band keys are rebuilt in one transaction before new postings are compared.
  */
-import { lastDocumentId, setBandsThrough } from '../db/bands.ts'
+import { markBandsComplete } from '../db/bands.ts'
 import type { Db } from '../db/connection.ts'
 import { getSetting, setSetting } from '../db/connection.ts'
 import { DocumentStore, clearBands, postingsForReindex, setSignature } from '../db/documents.ts'
@@ -38,7 +38,7 @@ export function ensureDedupeIndex(db: Db, params: DedupeParams): number {
       store.insertBands(row.id, bandKeys(sig, params.bands))
       n++
     }
-    setBandsThrough(db, lastDocumentId(db))
+    markBandsComplete(db)
     setSetting(db, SETTING, wanted)
   }).immediate()
   return n
