@@ -183,7 +183,8 @@ const BREAK_SET_CHI2 = 3.8415
  * memory); in the seeded simulations of test/curves/change-coverage.test.ts it covers about 98%,
  * the plain interval at the chosen month about 70%. The estimate and its p-value are those of the
  * chosen breakpoint (the p-value from Muggeo's widened standard error).
- * Cost: one refit per candidate month of the change window, only for skills whose change was accepted.
+ * Cost: one refit per candidate month walked (the set and one month beyond it on each side), only
+ * for skills whose change was accepted.
  */
 function slopeOverBreakSet(observations: StackedObservations, changed: TrendFit, config: CurvesConfig): CoefficientSummary {
   const slope = currentSlopeWithBreak(changed, config.level)
@@ -193,14 +194,21 @@ function slopeOverBreakSet(observations: StackedObservations, changed: TrendFit,
   const first = observations.position[0]!
   const fits: TrendFit[] = []
   let best = changed.glm.deviance
-  for (let tau = Math.max(first + config.change.minSegment - 1, last - config.change.windowMonths); tau <= last - config.change.minSegment; tau++) {
-    if (tau === chosen) continue
-    try {
-      const fit = fitTrend(observations, { harmonics: changed.spec.harmonics, breakpoint: tau }, changed.glm.coefficients)
+  // walk away from the chosen month on each side until a candidate falls outside the set (the
+  // profile deviance rises away from its minimum), refitting each with all terms free
+  const earliest = Math.max(first + config.change.minSegment - 1, last - config.change.windowMonths)
+  const latest = last - config.change.minSegment
+  for (const direction of [-1, 1]) {
+    for (let tau = chosen + direction; tau >= earliest && tau <= latest; tau += direction) {
+      let fit: TrendFit
+      try {
+        fit = fitTrend(observations, { harmonics: changed.spec.harmonics, breakpoint: tau }, changed.glm.coefficients)
+      } catch {
+        break // a candidate that cannot be fitted ends the walk on this side
+      }
       fits.push(fit)
       best = Math.min(best, fit.glm.deviance)
-    } catch {
-      // a candidate that cannot be fitted is left out of the set
+      if ((fit.glm.deviance - best) / dispersion > BREAK_SET_CHI2) break
     }
   }
   let lower = slope.lower
