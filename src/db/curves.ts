@@ -141,8 +141,6 @@ export function seriesOfKind(kind: string): DemandSeries | null {
   return kind === KIND_OF.external ? 'external' : kind === KIND_OF.internal ? 'internal' : null
 }
 
-const UPSERT_CHUNK = 100
-
 /**
  * Changes to the demand aggregates collected in memory while a batch of documents is written, then
  * applied in one pass per key ({@link DemandDelta.apply}) inside the same transaction. A document
@@ -188,26 +186,11 @@ export class DemandDelta {
     let touched = 0
     const zeroCounts: string[][] = []
     const counts = [...this.counts].filter(([, d]) => d !== 0).sort((a, b) => (a[0] < b[0] ? -1 : a[0] > b[0] ? 1 : 0))
-    const one = db.prepare('INSERT INTO demand_counts (concept_id, series, month, n) VALUES (?, ?, ?, ?) ON CONFLICT DO UPDATE SET n = n + excluded.n')
-    const many = counts.length >= UPSERT_CHUNK
-      ? db.prepare(`INSERT INTO demand_counts (concept_id, series, month, n) VALUES ${Array.from({ length: UPSERT_CHUNK }, () => '(?, ?, ?, ?)').join(', ')} ON CONFLICT DO UPDATE SET n = n + excluded.n`)
-      : undefined
-    const args: (string | number)[] = []
-    let i = 0
-    for (; many && i + UPSERT_CHUNK <= counts.length; i += UPSERT_CHUNK) {
-      args.length = 0
-      for (let j = i; j < i + UPSERT_CHUNK; j++) {
-        const [key, d] = counts[j]!
-        const parts = key.split('\u0000')
-        args.push(parts[0]!, parts[1]!, parts[2]!, d)
-        if (d < 0) zeroCounts.push(parts)
-      }
-      many.run(...args)
-    }
-    for (; i < counts.length; i++) {
-      const [key, d] = counts[i]!
+    // single-row statements: multi-row INSERTs measured slower here (see saveMappings in db/taxonomy.ts)
+    const upsert = db.prepare('INSERT INTO demand_counts (concept_id, series, month, n) VALUES (?, ?, ?, ?) ON CONFLICT DO UPDATE SET n = n + excluded.n')
+    for (const [key, d] of counts) {
       const parts = key.split('\u0000')
-      one.run(parts[0]!, parts[1]!, parts[2]!, d)
+      upsert.run(parts[0]!, parts[1]!, parts[2]!, d)
       if (d < 0) zeroCounts.push(parts)
     }
     touched += counts.length
@@ -241,7 +224,7 @@ export class DemandDelta {
 /**
  * Replace the demand table with the given rows (inside the caller's transaction). Rows should come
  * in primary-key order (concept, series, month), as {@link readMonthlyDemand} yields concepts: the
- * table is then written as one append, many rows per statement.
+ * table is then written as one append.
  *
  * @example
  * ```ts
@@ -250,27 +233,12 @@ export class DemandDelta {
  */
 export function replaceDemand(db: Db, rows: Iterable<DemandRow>): number {
   db.prepare('DELETE FROM demand').run()
-  const chunk = 200
-  const one = db.prepare('INSERT INTO demand (concept_id, series, month, n, total) VALUES (?, ?, ?, ?, ?)')
-  const many = db.prepare(`INSERT INTO demand (concept_id, series, month, n, total) VALUES ${Array.from({ length: chunk }, () => '(?, ?, ?, ?, ?)').join(', ')}`)
-  const args: (string | number)[] = new Array(chunk * 5)
-  let pending = 0
+  const insert = db.prepare('INSERT INTO demand (concept_id, series, month, n, total) VALUES (?, ?, ?, ?, ?)')
   let count = 0
   for (const row of rows) {
-    const at = pending * 5
-    args[at] = row.concept_id
-    args[at + 1] = row.series
-    args[at + 2] = row.month
-    args[at + 3] = row.n
-    args[at + 4] = row.total
-    pending++
+    insert.run(row.concept_id, row.series, row.month, row.n, row.total)
     count++
-    if (pending === chunk) {
-      many.run(...args)
-      pending = 0
-    }
   }
-  for (let i = 0; i < pending; i++) one.run(args[i * 5]!, args[i * 5 + 1]!, args[i * 5 + 2]!, args[i * 5 + 3]!, args[i * 5 + 4]!)
   return count
 }
 

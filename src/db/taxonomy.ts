@@ -160,9 +160,6 @@ export interface DocumentMapping {
   rows: readonly MentionRow[]
 }
 
-const MENTION_CHUNK = 100
-const INSERT_MENTION = 'INSERT INTO mentions(document_id, concept_id, count, first_offset, via) VALUES '
-
 /** Removes a counted document's current mentions and total from the delta (before they change). */
 function uncount(db: Db, delta: DemandDelta, id: number, kind: string, month: string): void {
   const concepts = stmt(db, 'SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(id) as string[]
@@ -172,18 +169,17 @@ function uncount(db: Db, delta: DemandDelta, id: number, kind: string, month: st
 /**
  * Replaces the mentions of a batch of documents, records the taxonomy version they were mapped
  * with, and keeps the demand aggregates in step (a document that counted before has its old
- * mentions taken out; an original counts with its new ones). Mentions are written many rows per
- * statement in key order. Call inside the batch's transaction.
+ * mentions taken out; an original counts with its new ones). Documents go in id order, each one's
+ * mentions in concept order (appends to the table's primary key). One prepared single-row INSERT:
+ * measured on the N = 100,000 benchmark database, 100-row INSERT statements stored 289,617 mention
+ * rows about 2.5 times slower than single-row ones. Call inside the batch's transaction.
  */
 export function saveMappings(db: Db, version: number, docs: readonly DocumentMapping[]): void {
   const delta = new DemandDelta()
   const state = stmt(db, 'SELECT kind, month, duplicate_of, mapped_version FROM documents WHERE id = ?')
   const clear = stmt(db, 'DELETE FROM mentions WHERE document_id = ?')
+  const insert = stmt(db, 'INSERT INTO mentions(document_id, concept_id, count, first_offset, via) VALUES (?, ?, ?, ?, ?)')
   const setVersion = stmt(db, 'UPDATE documents SET mapped_version = ? WHERE id = ?')
-  const pending: (string | number | null)[] = []
-  let rowsPending = 0
-  const many = stmt(db, INSERT_MENTION + Array.from({ length: MENTION_CHUNK }, () => '(?, ?, ?, ?, ?)').join(', '))
-  const one = stmt(db, INSERT_MENTION + '(?, ?, ?, ?, ?)')
   const sorted = [...docs].sort((a, b) => a.id - b.id)
   for (const d of sorted) {
     const doc = state.get(d.id) as { kind: string; month: string; duplicate_of: number | null; mapped_version: number | null } | undefined
@@ -191,18 +187,10 @@ export function saveMappings(db: Db, version: number, docs: readonly DocumentMap
     if (doc.duplicate_of === null && doc.mapped_version !== null) uncount(db, delta, d.id, doc.kind, doc.month)
     clear.run(d.id)
     const rows = [...d.rows].sort((a, b) => (a.conceptId < b.conceptId ? -1 : a.conceptId > b.conceptId ? 1 : 0))
-    for (const r of rows) {
-      pending.push(d.id, r.conceptId, r.count, r.firstOffset, r.via)
-      if (++rowsPending === MENTION_CHUNK) {
-        many.run(...pending)
-        pending.length = 0
-        rowsPending = 0
-      }
-    }
+    for (const r of rows) insert.run(d.id, r.conceptId, r.count, r.firstOffset, r.via)
     setVersion.run(version, d.id)
     if (doc.duplicate_of === null) delta.document(doc.kind, doc.month, rows.map((r) => r.conceptId), 1)
   }
-  for (let i = 0; i < rowsPending; i++) one.run(...pending.slice(i * 5, i * 5 + 5))
   delta.apply(db)
 }
 
