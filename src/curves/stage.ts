@@ -149,18 +149,22 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
   const log = options.log ?? (() => {})
   const started = performance.now()
   const demand = readMonthlyDemand(db)
+  const readMs = performance.now() - started
   const months = validMonths(demand)
   const badMonths = demand.months.filter((month) => !MONTH.test(month))
   if (badMonths.length) log(`fit: left out documents whose month is not YYYY-MM: ${badMonths.slice(0, 5).map((m) => JSON.stringify(m)).join(', ')}${badMonths.length > 5 ? ', …' : ''}`)
   const inputs = seriesInputs(demand)
   log(`fit: ${inputs.length} skills over ${months.length} months (${months[0] ?? '-'} to ${months.at(-1) ?? '-'})`)
+  const fitStarted = performance.now()
   const result = fitAll(inputs, config.curves)
+  const fitMs = performance.now() - fitStarted
   for (const failure of result.failures) log(`fit: skill ${failure.id} skipped: ${failure.error}`)
   const fittedAt = (options.now ?? new Date()).toISOString()
   const previous = readCurveStates(db)
   const states: Record<string, number> = {}
   let changed = 0
   let demandCount = 0
+  const writeStarted = performance.now()
   db.transaction(() => {
     demandCount = syncDemand(db, demandRows(demand)).rows
     replaceCurves(db, result.curves.map((curve) => curveRow(curve, fittedAt)))
@@ -183,6 +187,7 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
       q: config.curves.q,
     })
   })()
+  const writeMs = performance.now() - writeStarted
   const seconds = (performance.now() - started) / 1000
   const summary =
     `fitted ${result.curves.length} skills in ${seconds.toFixed(1)} s: ` +
@@ -191,7 +196,9 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
     (result.failures.length ? `; ${result.failures.length} skipped (bad input)` : '')
   return {
     summary,
-    counts: { skills: result.curves.length, tested: result.tested, stateChanges: changed, failures: result.failures.length, demandRows: demandCount, badMonths: badMonths.length },
+    counts: { skills: result.curves.length, tested: result.tested, stateChanges: changed, failures: result.failures.length, demandRows: demandCount, badMonths: badMonths.length,
+      // where the time went: reading the demand aggregates, fitting, writing demand, curves and events
+      readMs: Math.round(readMs), fitMs: Math.round(fitMs), writeMs: Math.round(writeMs) },
     status: result.failures.length || badMonths.length ? 'partial' : 'ok',
   }
 }
