@@ -150,6 +150,21 @@ export function oneSidedP(result: { s: number; pValue: number }, direction: numb
   return Math.sign(result.s) === direction ? result.pValue / 2 : 1 - result.pValue / 2
 }
 
+/**
+ * IRLS starting values for the fit with a breakpoint: the fitted model's coefficients with a zero
+ * slope change inserted after the slope column (the no-change fit is a point of the bigger model, a
+ * few IRLS steps from its optimum; the fit converges to the same tolerance as from a cold start,
+ * see test/curves/warm-start.test.ts).
+ */
+export function changedStart(linear: TrendFit): Float64Array {
+  const from = linear.glm.coefficients
+  const start = new Float64Array(from.length + 1)
+  const hinge = linear.slopeColumn + 1
+  for (let j = 0; j < hinge; j++) start[j] = from[j]!
+  for (let j = hinge; j < from.length; j++) start[j + 1] = from[j]!
+  return start
+}
+
 /** Each source's own log-linear slope (no seasonal terms, no change), for comparison in the details. */
 function sourceSlopes(trend: TrendFit, grid: SkillGrid): { name: string; estimate: number; lower: number; upper: number; p: number }[] {
   const obs = trend.observations
@@ -366,7 +381,7 @@ function analyseObserved(
   let confirmed = false
   if (change?.significant) {
     try {
-      const changed = fitTrend(observations, { harmonics: seasonal.harmonics, breakpoint: change.breakpoint })
+      const changed = fitTrend(observations, { harmonics: seasonal.harmonics, breakpoint: change.breakpoint }, changedStart(linear))
       const changedSlope = currentSlope(changed, config.level)
       if (!Number.isFinite(changedSlope.lower) || !Number.isFinite(changedSlope.upper)) throw new RangeError('the slope since the change has no finite interval')
       const after = pooledPositions.filter((t) => t > change.breakpoint)
