@@ -165,6 +165,20 @@ export function changedStart(linear: TrendFit): Float64Array {
   return start
 }
 
+/**
+ * The fit with a breakpoint, started from the no-change fit; when that start fails (on sparse
+ * skills its near-zero means can leave the weighted design without full rank), the cold start
+ * μ = y + 0.1, whose weights stay away from zero, is tried as before.
+ */
+export function fitChanged(observations: StackedObservations, linear: TrendFit, breakpoint: number, harmonics: number): TrendFit {
+  const spec = { harmonics, breakpoint }
+  try {
+    return fitTrend(observations, spec, changedStart(linear))
+  } catch {
+    return fitTrend(observations, spec)
+  }
+}
+
 /** Each source's own log-linear slope (no seasonal terms, no change), for comparison in the details. */
 function sourceSlopes(trend: TrendFit, grid: SkillGrid): { name: string; estimate: number; lower: number; upper: number; p: number }[] {
   const obs = trend.observations
@@ -381,7 +395,7 @@ function analyseObserved(
   let confirmed = false
   if (change?.significant) {
     try {
-      const changed = fitTrend(observations, { harmonics: seasonal.harmonics, breakpoint: change.breakpoint }, changedStart(linear))
+      const changed = fitChanged(observations, linear, change.breakpoint, seasonal.harmonics)
       const changedSlope = currentSlope(changed, config.level)
       if (!Number.isFinite(changedSlope.lower) || !Number.isFinite(changedSlope.upper)) throw new RangeError('the slope since the change has no finite interval')
       const after = pooledPositions.filter((t) => t > change.breakpoint)

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest'
-import { changedStart } from '../../src/curves/fit-skill.ts'
+import { changedStart, fitChanged } from '../../src/curves/fit-skill.ts'
 import { buildGrid } from '../../src/curves/series.ts'
 import type { SkillSeriesInput } from '../../src/curves/series.ts'
 import { fitTrend, stackObservations } from '../../src/curves/trend-model.ts'
@@ -73,5 +73,23 @@ describe('warm start of the fit with a breakpoint', () => {
     const linear = fitTrend(stackObservations(grid), { harmonics: 1, breakpoint: null })
     const c = linear.glm.coefficients
     expect(Array.from(changedStart(linear))).toEqual([c[0], c[1], 0, c[2], c[3]])
+  })
+
+  it('falls back to the cold start when the warm start fails (sparse skill)', () => {
+    // all 59 mentions in the first month: from the no-change fit the means of the empty months are
+    // near zero and IRLS cannot find a finite step; the cold start μ = y + 0.1 still fits
+    const months = monthRange('2021-01', 36)
+    const n = months.map((_, t) => (t === 0 ? 59 : 0))
+    const grid = buildGrid(
+      { id: 'sparse', months, external: { n, N: months.map(() => 1000) } },
+      { weights: DEFAULT_CURVES_CONFIG.weights, windowMonths: DEFAULT_CURVES_CONFIG.windowMonths, minMonths: 12 },
+    )
+    const observations = stackObservations(grid)
+    const linear = fitTrend(observations, { harmonics: 0, breakpoint: null })
+    const spec = { harmonics: 0, breakpoint: 8 }
+    expect(() => fitTrend(observations, spec, changedStart(linear))).toThrow()
+    const cold = fitTrend(observations, spec)
+    const fallback = fitChanged(observations, linear, 8, 0)
+    expect(Array.from(fallback.glm.coefficients)).toEqual(Array.from(cold.glm.coefficients))
   })
 })
