@@ -1,7 +1,7 @@
 /**
  * @module db/plan
- * SQL of the plan stage: it reads curves, coverage, mentions, documents, courses, people, roles and
- * abilities, and writes plan_outputs, course_flag_notes and the skill_id resolution of course_skills.
+ * SQL of the plan stage: it reads curves, coverage, mentions, documents, the demand aggregates,
+ * courses, people, roles and abilities, and writes plan_outputs, course_flag_notes and the skill_id resolution of course_skills.
  */
 import type { Db } from './connection.ts'
 import type { CurveRow } from './curves.ts'
@@ -145,7 +145,7 @@ export function latestDocumentMonth(db: Db, kind: 'posting' | 'request'): string
   return row.m
 }
 
-/** Distinct documents of a kind per month. */
+/** Distinct documents of a kind per month, mapped or not (a GROUP BY over the documents). */
 export function documentTotalsByMonth(db: Db, kind: 'posting' | 'request'): Map<string, number> {
   const rows = db
     .prepare('SELECT month, COUNT(*) AS n FROM documents WHERE kind = ? AND duplicate_of IS NULL GROUP BY month')
@@ -153,7 +153,33 @@ export function documentTotalsByMonth(db: Db, kind: 'posting' | 'request'): Map<
   return new Map(rows.map((r) => [r.month, r.n]))
 }
 
-/** Distinct documents of a kind mentioning each concept (directly or by roll-up), per month. */
+/**
+ * Original requests per month counted in the internal demand series (mapped documents), from the
+ * running aggregate `demand_totals`: its cost depends on the number of months, not of documents.
+ */
+export function requestTotalsByMonth(db: Db): Map<string, number> {
+  const rows = db.prepare("SELECT month, total FROM demand_totals WHERE series = 'internal'").raw().all() as [string, number][]
+  return new Map(rows)
+}
+
+/**
+ * Original requests mentioning each concept (directly or by roll-up) per month, from the running
+ * aggregate `demand_counts` (series 'internal'): concepts x months rows, however many requests there are.
+ * Requests not (yet) mapped are in neither this nor {@link requestTotalsByMonth}; after a map run
+ * every request is mapped and both equal the full readings {@link mentionCountsByMonth} and
+ * {@link documentTotalsByMonth} (test/plan/request-aggregates.test.ts).
+ */
+export function requestMentionCountsByMonth(db: Db): { concept_id: string; month: string; n: number }[] {
+  return db
+    .prepare("SELECT concept_id, month, n FROM demand_counts WHERE series = 'internal' AND n > 0 ORDER BY concept_id, month")
+    .all() as { concept_id: string; month: string; n: number }[]
+}
+
+/**
+ * Distinct documents of a kind mentioning each concept (directly or by roll-up), per month, read
+ * from every mention (its cost grows with the corpus): the reference for
+ * {@link requestMentionCountsByMonth}, which the plan stage uses.
+ */
 export function mentionCountsByMonth(db: Db, kind: 'posting' | 'request'): { concept_id: string; month: string; n: number }[] {
   return db
     .prepare(

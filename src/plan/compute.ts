@@ -54,7 +54,10 @@ function minMonth(a: string | null, b: string | null): string | null {
   return a < b ? a : b
 }
 
-/** Internal-request shares of each skill in the recent and the earlier window. */
+/**
+ * Internal-request shares of each skill in the recent and the earlier window, from the demand
+ * aggregates the map stage keeps (mapped original requests; the same population the fit uses).
+ */
 function pullInputs(db: Db, pullMonths: number): Map<string, PullInput> & { windows: { recentTotal: number; earlierTotal: number } } {
   const out = new Map<string, PullInput>() as Map<string, PullInput> & { windows: { recentTotal: number; earlierTotal: number } }
   const latest = store.latestDocumentMonth(db, 'request')
@@ -63,12 +66,12 @@ function pullInputs(db: Db, pullMonths: number): Map<string, PullInput> & { wind
   const recentStart = addMonths(latest, -(pullMonths - 1))
   const earlierStart = addMonths(recentStart, -pullMonths)
   const inWindow = (m: string): 'recent' | 'earlier' | null => (m >= recentStart && m <= latest ? 'recent' : m >= earlierStart && m < recentStart ? 'earlier' : null)
-  for (const [month, n] of store.documentTotalsByMonth(db, 'request')) {
+  for (const [month, n] of store.requestTotalsByMonth(db)) {
     const w = inWindow(month)
     if (w === 'recent') out.windows.recentTotal += n
     else if (w === 'earlier') out.windows.earlierTotal += n
   }
-  for (const r of store.mentionCountsByMonth(db, 'request')) {
+  for (const r of store.requestMentionCountsByMonth(db)) {
     const w = inWindow(r.month)
     if (!w) continue
     let p = out.get(r.concept_id)

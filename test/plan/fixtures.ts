@@ -83,6 +83,13 @@ export function addDocument(db: Db, doc: { month: string; concepts: string[]; ti
       .run(`d${docCounter}`, doc.kind ?? 'posting', doc.title ?? '', `${doc.month}-15`, doc.month, `h${docCounter}`, doc.occupation ?? null).lastInsertRowid,
   )
   for (const c of new Set(doc.concepts)) db.prepare("INSERT INTO mentions(document_id, concept_id, count, via) VALUES (?, ?, 1, 'text')").run(id, c)
+  // a mapped original: counted in the demand aggregates as the map stage would count it
+  db.prepare('UPDATE documents SET mapped_version = 1 WHERE id = ?').run(id)
+  const series = (doc.kind ?? 'posting') === 'posting' ? 'external' : 'internal'
+  db.prepare('INSERT INTO demand_totals(series, month, total) VALUES (?, ?, 1) ON CONFLICT DO UPDATE SET total = total + 1').run(series, doc.month)
+  for (const c of new Set(doc.concepts)) {
+    db.prepare('INSERT INTO demand_counts(concept_id, series, month, n) VALUES (?, ?, ?, 1) ON CONFLICT DO UPDATE SET n = n + 1').run(c, series, doc.month)
+  }
   return id
 }
 
