@@ -329,6 +329,22 @@ export function getCandidate(db: Db, term: string): CandidateTermRow | undefined
   return stmt(db, 'SELECT * FROM candidate_terms WHERE term = ?').get(term) as CandidateTermRow | undefined
 }
 
+const CANDIDATES_AT_KEY = 'candidates.computed_at'
+const CANDIDATES_VERSION_KEY = 'candidates.taxonomy_version'
+
+/** When the open candidate list was last computed, and against which taxonomy version (undefined: never). */
+export function candidatesComputed(db: Db): { at: string; taxonomyVersion: number } | undefined {
+  const at = getSetting(db, CANDIDATES_AT_KEY)
+  if (at === undefined) return undefined
+  return { at, taxonomyVersion: Number(getSetting(db, CANDIDATES_VERSION_KEY) ?? 0) }
+}
+
+/** Records that the open candidate list was computed at `at` against the current taxonomy version (inside the transaction that stores it). */
+export function markCandidatesComputed(db: Db, at: string): void {
+  setSetting(db, CANDIDATES_AT_KEY, at)
+  setSetting(db, CANDIDATES_VERSION_KEY, String(taxonomyVersion(db)))
+}
+
 /** Terms the curator has dismissed (kept out of future candidate lists). */
 export function dismissedTerms(db: Db): Set<string> {
   return new Set((stmt(db, "SELECT term FROM candidate_terms WHERE status = 'dismissed'").all() as { term: string }[]).map((r) => r.term))

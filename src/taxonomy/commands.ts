@@ -5,7 +5,7 @@
  */
 import fs from 'node:fs'
 import type { Db } from '../db/connection.ts'
-import { conceptCount, listCandidates } from '../db/taxonomy.ts'
+import { candidatesComputed, conceptCount, listCandidates } from '../db/taxonomy.ts'
 import { htmlToText } from '../ingest/text.ts'
 import type { DocumentMapping, MapInput, Matcher } from './matcher.ts'
 import { shippedMatcher } from './index.ts'
@@ -100,6 +100,7 @@ export function readPostingLines(file: string): { docs: { line: number; id?: str
 
 /** Rows for `tides report candidates`. */
 export function candidatesReport(db: Db, opts: { limit?: number; status?: string }) {
+  const computed = candidatesComputed(db)
   const rows = listCandidates(db, opts.status ?? 'open', opts.limit ?? 50).map((r) => {
     const examples = JSON.parse(r.examples_json) as { month: string; snippet: string }[]
     const trend = JSON.parse(r.trend_json) as { month: string; df: number; docs: number }[]
@@ -118,6 +119,8 @@ export function candidatesReport(db: Db, opts: { limit?: number; status?: string
     rows: rows.map(({ trend: _t, examples: _e, ...rest }) => rest),
     columns: ['term', 'score', 'recent_df', 'earlier_df', 'status', 'example'],
     json: rows,
-    footer: 'score: log-likelihood ratio (G²) of recent against earlier document frequency; accept or dismiss terms in the dashboard (/taxonomy)',
+    footer:
+      `${computed ? `list computed ${computed.at}; ` : ''}` +
+      'score: log-likelihood ratio (G²) of recent against earlier document frequency; accept or dismiss terms in the dashboard (/taxonomy)',
   }
 }

@@ -18,6 +18,12 @@ export const taxonomyConfigSchema = z
       .object({
         /** recompute candidate terms after each map run that mapped documents */
         enabled: z.boolean().default(true),
+        /**
+         * hours between recomputations of the candidate list (a review aid, not part of the demand
+         * figures): within them a map run keeps the stored list unless the taxonomy changed; 0
+         * recomputes after every map run that mapped documents
+         */
+        refreshHours: z.number().min(0).default(24),
         /** months in the recent window compared with the months before */
         recentMonths: z.number().int().min(1).max(60).default(6),
         /** months looked at in all (recent window and the earlier months it is compared with) */

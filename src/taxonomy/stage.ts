@@ -9,10 +9,12 @@
  */
 import type { Db } from '../db/connection.ts'
 import {
+  candidatesComputed,
   countUnmapped,
   dismissedTerms,
   iterateDocumentTexts,
   latestOriginalMonth,
+  markCandidatesComputed,
   replaceOpenCandidates,
   saveMappings,
   storedRules,
@@ -122,7 +124,7 @@ export function candidateWindowStart(latest: string, recentMonths: number, windo
  * latest month and the window before it are found through the (kind, month) index; documents of
  * earlier months never take part, so they are not read).
  */
-export function refreshCandidates(db: Db, config: Config, matcher: Matcher = matcherFromDb(db)): CandidateResult {
+export function refreshCandidates(db: Db, config: Config, matcher: Matcher = matcherFromDb(db), now: Date = new Date()): CandidateResult {
   const c = config.taxonomy.candidates
   const latest = latestOriginalMonth(db)
   // a malformed latest month: the discovery decides over every document, as before
@@ -143,7 +145,7 @@ export function refreshCandidates(db: Db, config: Config, matcher: Matcher = mat
       exclude: dismissedTerms(db),
     },
   )
-  db.transaction(() =>
+  db.transaction(() => {
     replaceOpenCandidates(
       db,
       result.candidates.map((t) => ({
@@ -154,24 +156,45 @@ export function refreshCandidates(db: Db, config: Config, matcher: Matcher = mat
         trend: t.trend,
         examples: t.examples,
       })),
-    ),
-  )()
+    )
+    markCandidatesComputed(db, now.toISOString())
+  })()
   return result
+}
+
+/**
+ * Whether a map run recomputes the candidate list: when it was never computed, the taxonomy
+ * changed since (an accepted term or a new taxonomy), or `refreshHours` have passed. Candidate
+ * discovery re-tokenises the whole window (about half of an incremental map at N = 100,000), and
+ * the list is a review aid: a list a few hours old misses at most the last hours' documents.
+ */
+export function candidatesDue(db: Db, config: Config, now: Date = new Date()): { due: boolean; computedAt: string | null } {
+  const last = candidatesComputed(db)
+  if (!last) return { due: true, computedAt: null }
+  const hours = config.taxonomy.candidates.refreshHours
+  const age = now.getTime() - Date.parse(last.at)
+  const due = hours === 0 || !(age >= 0) || age >= hours * 3_600_000 || last.taxonomyVersion !== taxonomyVersion(db)
+  return { due, computedAt: last.at }
 }
 
 async function run(ctx: StageContext): Promise<StageResult> {
   const loaded = await ensureTaxonomy(ctx.db, ctx.config, ctx.log)
   const counts = await mapUnmapped(ctx.db, ctx.config, ctx.log)
   let candidates = -1
-  if (counts.mapped > 0 && ctx.config.taxonomy.candidates.enabled) candidates = refreshCandidates(ctx.db, ctx.config).candidates.length
+  let kept = ''
+  if (counts.mapped > 0 && ctx.config.taxonomy.candidates.enabled) {
+    const due = candidatesDue(ctx.db, ctx.config)
+    if (due.due) candidates = refreshCandidates(ctx.db, ctx.config).candidates.length
+    else kept = `; candidate terms kept from ${due.computedAt} (recomputed every ${ctx.config.taxonomy.candidates.refreshHours} h or after a taxonomy change)`
+  }
   const after = ctx.trigger.includes('taxonomy.changed') ? ' after a taxonomy change' : ''
   const summary =
     `mapped ${counts.mapped} documents${after} (${counts.mentions} mentions, ${counts.rollups} rollups` +
     `${counts.workers ? `, ${counts.workers} worker threads` : ''})` +
-    `${loaded ? `; loaded ${loaded.concepts} concepts` : ''}${candidates >= 0 ? `; ${candidates} candidate terms` : ''}`
+    `${loaded ? `; loaded ${loaded.concepts} concepts` : ''}${candidates >= 0 ? `; ${candidates} candidate terms` : kept}`
   return {
     summary,
-    counts: { mapped: counts.mapped, mentions: counts.mentions, rollups: counts.rollups, candidates: Math.max(0, candidates), ...(loaded ? { concepts: loaded.concepts } : {}) },
+    counts: { mapped: counts.mapped, mentions: counts.mentions, rollups: counts.rollups, candidates: Math.max(0, candidates), candidatesRecomputed: candidates >= 0 ? 1 : 0, ...(loaded ? { concepts: loaded.concepts } : {}) },
   }
 }
 

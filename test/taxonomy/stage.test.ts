@@ -4,11 +4,11 @@ import os from 'node:os'
 import path from 'node:path'
 import { loadConfig } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
-import { conceptCount, countUnmapped, getCandidate, listCandidates, mentionSummary, replaceOpenCandidates, taxonomyVersion } from '../../src/db/taxonomy.ts'
+import { candidatesComputed, conceptCount, countUnmapped, getCandidate, listCandidates, mentionSummary, replaceOpenCandidates, taxonomyVersion } from '../../src/db/taxonomy.ts'
 import { pendingFor } from '../../src/events/outbox.ts'
 import { importDocuments } from '../../src/ingest/import.ts'
 import { acceptAsAltLabel, acceptAsConcept, DecisionError, dismissCandidate } from '../../src/taxonomy/decisions.ts'
-import { mapStage, mapUnmapped, refreshCandidates } from '../../src/taxonomy/stage.ts'
+import { candidatesDue, mapStage, mapUnmapped, refreshCandidates } from '../../src/taxonomy/stage.ts'
 import { ensureTaxonomy, importTaxonomy, matcherFromDb } from '../../src/taxonomy/store.ts'
 
 const config = loadConfig({ db: ':memory:' })
@@ -180,5 +180,69 @@ describe('candidate terms in the database', () => {
     const again = refreshCandidates(db, config)
     expect(again.candidates.map((c) => c.term)).not.toContain('quillstream orchestration')
     expect(getCandidate(db, 'quillstream orchestration')!.status).toBe('dismissed')
+  })
+})
+
+describe('candidate terms recomputed at most every refreshHours', () => {
+  /** Postings of months from..to, with 'Quillstream orchestration' rising from month 7. */
+  function risingRows(prefix: string, from: number, to: number): Parameters<typeof postingsFile>[1] {
+    const rows: Parameters<typeof postingsFile>[1] = []
+    const words = 'alder birch cedar damson elder fennel gorse hazel ivy juniper kale larch maple nettle oak poplar quince rowan sorrel thyme'.split(' ')
+    const filler = ['Python and SQL for reporting.', 'Stakeholder management across the cooperative.', 'Kubernetes and Terraform experience.', 'Month-end close with the finance office.']
+    let n = 0
+    for (let m = from; m <= to; m++) {
+      for (let i = 0; i < 20; i++, n++) {
+        const rising = m >= 7 && i < 4 + (m - 7) * 2
+        const local = Array.from({ length: 12 }, (_, k) => words[(n * 7 + k * 3 + m) % words.length]).join(' ')
+        rows.push({ id: `${prefix}${n}`, title: `Role ${prefix}${n}`, description: `${filler[i % 4]} Site ${local} depot ${prefix}${n}. ${filler[(i + 1) % 4]}${rising ? ' We run Quillstream orchestration daily.' : ''}`, date: `2024-${String(m).padStart(2, '0')}-05` })
+      }
+    }
+    return rows
+  }
+  const trendMonths = (db: Db) => (JSON.parse(getCandidate(db, 'quillstream orchestration')!.trend_json) as { month: string }[]).map((t) => t.month)
+
+  it('keeps the stored list within the interval, recomputes after it, after a taxonomy change and with refreshHours 0', async () => {
+    const db = await dbWith(risingRows('a', 1, 11))
+    const first = await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    expect(first.counts?.['candidatesRecomputed']).toBe(1)
+    const computed = candidatesComputed(db)!
+    expect(Date.now() - Date.parse(computed.at)).toBeLessThan(60_000)
+    expect(trendMonths(db).at(-1)).toBe('2024-11')
+
+    // a new month within the interval: mapped, but the list (and when it was computed) is kept
+    const more = await importDocuments(db, config, 'postings', postingsFile('p-b.jsonl', risingRows('b', 12, 12)), { skipBad: false })
+    expect(more.imported).toBe(20)
+    const second = await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    expect(second.counts?.['mapped']).toBe(20)
+    expect(second.counts?.['candidatesRecomputed']).toBe(0)
+    expect(second.summary).toContain(`candidate terms kept from ${computed.at}`)
+    expect(candidatesComputed(db)).toEqual(computed)
+    expect(trendMonths(db).at(-1)).toBe('2024-11')
+
+    // due again once refreshHours (default 24) have passed, and not a minute before
+    const at = Date.parse(computed.at)
+    expect(candidatesDue(db, config, new Date(at + 23.9 * 3_600_000)).due).toBe(false)
+    expect(candidatesDue(db, config, new Date(at + 24 * 3_600_000)).due).toBe(true)
+    // the recomputation then equals the one a fresh database with every document gives
+    const later = new Date(at + 25 * 3_600_000)
+    const recomputed = refreshCandidates(db, config, undefined, later)
+    expect(candidatesComputed(db)!.at).toBe(later.toISOString())
+    expect(trendMonths(db).at(-1)).toBe('2024-12')
+    const fresh = await dbWith([...risingRows('a', 1, 11), ...risingRows('b', 12, 12)])
+    await mapStage.run({ db: fresh, config, log: quiet, trigger: 'manual', options: {} })
+    expect(listCandidates(db, 'open', 50).map((r) => [r.term, r.score, r.trend_json])).toEqual(listCandidates(fresh, 'open', 50).map((r) => [r.term, r.score, r.trend_json]))
+    expect(recomputed.candidates.length).toBeGreaterThan(0)
+
+    // a taxonomy change makes the list due at once (its labels decide what a candidate is)
+    expect(candidatesDue(db, config, later).due).toBe(false)
+    acceptAsAltLabel(db, 'quillstream orchestration', 'python', 'curator')
+    expect(candidatesDue(db, config, later).due).toBe(true)
+
+    // refreshHours 0: every map run that maps documents recomputes
+    const every = { ...config, taxonomy: { ...config.taxonomy, candidates: { ...config.taxonomy.candidates, refreshHours: 0 } } }
+    expect(candidatesDue(fresh, every).due).toBe(true)
+    await importDocuments(fresh, every, 'postings', postingsFile('p-c.jsonl', risingRows('c', 12, 12)), { skipBad: false })
+    const third = await mapStage.run({ db: fresh, config: every, log: quiet, trigger: 'manual', options: {} })
+    expect(third.counts?.['candidatesRecomputed']).toBe(1)
   })
 })

@@ -11,6 +11,7 @@ import { html } from 'hono/html'
 import {
   candidateByTerm, candidateCounts, candidates, conceptById, conceptChoices, conceptsByLabel, consumerCursor, firstRunSince, latestEventOf, type CandidateRow,
 } from '../../db/dashboard.ts'
+import { candidatesComputed } from '../../db/taxonomy.ts'
 import { csv, intParam, wantsCsv, withQuery, type Ctx, type Deps, type Env } from '../deps.ts'
 import * as f from '../format.ts'
 import { csrfField, csvRows, dataTable, notice, page, type Column, type Html } from '../layout.ts'
@@ -113,6 +114,8 @@ export function buildTaxonomy(deps: Deps, status: string): TaxonomyData {
   const counts = candidateCounts(deps.db)
   const notes: string[] = []
   if (Object.keys(counts).length === 0) notes.push('No candidate terms yet: they appear after `tides run map` finds frequent unknown phrases.')
+  const computed = candidatesComputed(deps.db)
+  if (computed) notes.push(`Candidate list computed ${computed.at}; a map run recomputes it every ${deps.config.taxonomy.candidates.refreshHours} h or after a taxonomy change.`)
   return { status, counts, candidates: rows.map(toView), progress: buildProgress(deps), notes }
 }
 
