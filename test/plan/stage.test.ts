@@ -70,6 +70,17 @@ describe('plan stage on a small synthetic organisation', () => {
     expect(readCourseSkills(db).filter((r) => r.course_id === 'c-untagged')).toHaveLength(1)
   })
 
+  it('builds the taxonomy matcher only when a course is untagged', () => {
+    const db = freshDb()
+    loadScenario(db)
+    db.prepare("DELETE FROM course_skills WHERE course_id = 'c-untagged'").run()
+    db.prepare("DELETE FROM courses WHERE course_id = 'c-untagged'").run()
+    runPlan(db, testConfig())
+    const run = readPlanOutputs<{ assumptions: { courseSkillMapping: string } }>(db, 'plan-run')[0]!.payload
+    expect(run.assumptions.courseSkillMapping).toMatch(/by the taxonomy matcher \(not built: no untagged course\)$/)
+    expect(flags(db)).toEqual({ 'c-flash': 'retire', 'c-jquery': 'refresh', 'c-python': 'keep', 'c-perl': 'keep', 'c-unknown': 'keep' })
+  })
+
   it('announces only new flags, and again when a flag changes back', () => {
     const db = freshDb()
     loadScenario(db)
