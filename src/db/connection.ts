@@ -11,6 +11,9 @@ import { MIGRATIONS, SCHEMA_VERSION, type Migration } from './migrations.ts'
 
 export type Db = Database.Database
 
+/** Page size of new databases, in bytes. */
+export const PAGE_SIZE = 8192
+
 /** A database problem the user can act on (newer schema, unwritable file). */
 export class DbError extends Error {
   override name = 'DbError'
@@ -42,6 +45,9 @@ export function openDb(file: string, options: OpenOptions = {}): Db {
   }
   try {
     if (!options.readonly) {
+      // a new database gets 8 KiB pages: a posting row (about 2.3 KB of text) left most of a 4 KiB
+      // page unused (1.7 GB of 3.9 GB at a million postings); an existing one keeps its page size
+      if ((db.pragma('page_count', { simple: true }) as number) === 0) db.pragma(`page_size = ${PAGE_SIZE}`)
       db.pragma('journal_mode = WAL')
       db.pragma('synchronous = NORMAL')
     }

@@ -184,29 +184,6 @@ export class DocumentStore {
     this.insertBandsStmt.run(...args)
   }
 
-  private chunkStmt: Statement | null = null
-  private static readonly CHUNK = 100
-
-  /**
-   * Inserts (stored key, document id) pairs; callers pass them sorted by key, so the index pages
-   * are visited in order once per batch instead of at random once per document.
-   */
-  insertBandRows(rows: readonly (readonly [number, number])[]): void {
-    const n = DocumentStore.CHUNK
-    this.chunkStmt ??= this.db.prepare(`INSERT OR IGNORE INTO document_bands(key, document_id) VALUES ${Array.from({ length: n }, () => '(?, ?)').join(', ')}`)
-    const one = this.db.prepare('INSERT OR IGNORE INTO document_bands(key, document_id) VALUES (?, ?)')
-    let i = 0
-    const args: number[] = new Array(2 * n)
-    for (; i + n <= rows.length; i += n) {
-      for (let j = 0; j < n; j++) {
-        args[2 * j] = rows[i + j]![0]
-        args[2 * j + 1] = rows[i + j]![1]
-      }
-      this.chunkStmt.run(...args)
-    }
-    for (; i < rows.length; i++) one.run(rows[i]![0], rows[i]![1])
-  }
-
   /** Ids of documents sharing at least one band key. */
   candidates(keys: readonly number[]): number[] {
     // one indexed lookup per band: measured six times cheaper inside a large write transaction

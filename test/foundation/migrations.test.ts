@@ -3,7 +3,7 @@ import os from 'node:os'
 import path from 'node:path'
 import Database from 'better-sqlite3'
 import { afterEach, describe, expect, it } from 'vitest'
-import { DbError, contentHash, migrate, openDb, schemaVersion } from '../../src/db/connection.ts'
+import { DbError, PAGE_SIZE, contentHash, migrate, openDb, schemaVersion } from '../../src/db/connection.ts'
 import { MIGRATIONS, SCHEMA_VERSION } from '../../src/db/migrations.ts'
 
 const dirs: string[] = []
@@ -22,6 +22,22 @@ const EXPECTED_TABLES = [
 ]
 
 describe('migrations', () => {
+  it('gives a new database 8 KiB pages and leaves an existing database its page size', () => {
+    const fresh = tmpFile()
+    const db = openDb(fresh)
+    expect(db.pragma('page_size', { simple: true })).toBe(PAGE_SIZE)
+    db.close()
+    const old = tmpFile('old.db')
+    const raw = new Database(old)
+    raw.pragma('page_size = 4096')
+    raw.exec('CREATE TABLE keep_me (x)')
+    raw.close()
+    const reopened = openDb(old)
+    expect(reopened.pragma('page_size', { simple: true })).toBe(4096)
+    expect(reopened.prepare("SELECT name FROM sqlite_master WHERE name = 'keep_me'").get()).toBeTruthy()
+    reopened.close()
+  })
+
   it('create every table from an empty file, with WAL, foreign keys and synchronous=NORMAL', () => {
     const file = tmpFile()
     const db = openDb(file)
