@@ -132,7 +132,8 @@ export function setSetting(db: Db, key: string, value: string): void {
 
 /**
  * A digest of every table's rows in primary-key order, for determinism and crash-safety tests.
- * Columns that record wall-clock times are left out by name.
+ * Columns that record wall-clock times are left out by name, and so are settings whose key names a
+ * time (`..._at`, e.g. when the candidate terms were last computed).
  */
 export function contentHash(db: Db, tables?: readonly string[], ignoreColumns: readonly string[] = TIME_COLUMNS): string {
   const hash = crypto.createHash('sha256')
@@ -148,7 +149,8 @@ export function contentHash(db: Db, tables?: readonly string[], ignoreColumns: r
     if (cols.length === 0) continue
     const list = cols.map((c) => JSON.stringify(c)).join(', ')
     hash.update(`#${name}\n`)
-    for (const row of db.prepare(`SELECT ${list} FROM ${JSON.stringify(name)} ORDER BY ${list}`).raw().iterate()) {
+    const where = name === 'settings' && ignoreColumns.length > 0 ? ` WHERE key NOT LIKE '%\\_at' ESCAPE '\\'` : ''
+    for (const row of db.prepare(`SELECT ${list} FROM ${JSON.stringify(name)}${where} ORDER BY ${list}`).raw().iterate()) {
       hash.update(JSON.stringify(row))
       hash.update('\n')
     }
