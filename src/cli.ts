@@ -128,8 +128,8 @@ export const COMMANDS: Record<string, Command> = {
   },
   run: {
     summary: 'run a pipeline stage now (events then run the stages subscribed to it)',
-    usage: `tides run <${STAGE_ORDER.join('|')}|all> [--source ID] [--calibrate] [--only] [--wait SECONDS] [--json]`,
-    options: { source: { type: 'string' }, calibrate: { type: 'boolean' }, only: { type: 'boolean' }, wait: { type: 'string' }, json: { type: 'boolean' } },
+    usage: `tides run <${STAGE_ORDER.join('|')}|all> [--source ID] [--calibrate] [--rebuild] [--only] [--wait SECONDS] [--json]`,
+    options: { source: { type: 'string' }, calibrate: { type: 'boolean' }, rebuild: { type: 'boolean' }, only: { type: 'boolean' }, wait: { type: 'string' }, json: { type: 'boolean' } },
     async run(ctx, values, positionals) {
       if (positionals.length === 0) throw new UsageError(`run needs a stage: ${STAGE_ORDER.join(', ')}, all`)
       for (const p of positionals) {
@@ -139,6 +139,7 @@ export const COMMANDS: Record<string, Command> = {
       const options: Record<string, unknown> = {}
       if (values['source']) options['source'] = values['source']
       if (values['calibrate']) options['calibrate'] = true
+      if (values['rebuild']) options['rebuild'] = true
       const waitMs = values['wait'] === undefined ? 0 : intArg('--wait', values['wait']) * 1000
       const outcomes = await runPipeline(db, config, positionals, { log: (m) => ctx.io.err(m + '\n'), options, ripple: !values['only'], waitMs })
       if (values['json']) ctx.io.out(JSON.stringify(outcomes, null, 2) + '\n')

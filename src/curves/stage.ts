@@ -9,7 +9,7 @@
  */
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
-import { readCurveStates, readMonthlyDemand, replaceCurves, syncDemand } from '../db/curves.ts'
+import { readCurveStates, readMonthlyDemand, rebuildDemandCounts, replaceCurves, syncDemand } from '../db/curves.ts'
 import type { CurveRow, DemandRow, DemandSeries, MonthlyDemand } from '../db/curves.ts'
 import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
@@ -132,6 +132,8 @@ function stateEvent(curve: SkillCurve, before: string | null): Record<string, un
 }
 
 export interface FitRunOptions {
+  /** repair first: recompute the demand aggregates from documents and mentions (`tides run fit --rebuild`) */
+  rebuild?: boolean
   /** the moment recorded as fitted_at (default: now) */
   now?: Date
   log?: (message: string) => void
@@ -148,6 +150,7 @@ export interface FitRunOptions {
 export function runFit(db: Db, config: Config, options: FitRunOptions = {}): StageResult {
   const log = options.log ?? (() => {})
   const started = performance.now()
+  if (options.rebuild) log(`fit: demand aggregates rebuilt from documents and mentions (${rebuildDemandCounts(db)} rows)`)
   const demand = readMonthlyDemand(db)
   const readMs = performance.now() - started
   const months = validMonths(demand)
@@ -208,6 +211,6 @@ export const fitStage: Stage = {
   description: 'demand curves per skill: trend, half-life, significance (BH across skills), change, emergence, forecast and lifecycle state',
   subscribesTo: ['documents.mapped'],
   async run(ctx: StageContext): Promise<StageResult> {
-    return runFit(ctx.db, ctx.config, { log: ctx.log })
+    return runFit(ctx.db, ctx.config, { log: ctx.log, rebuild: ctx.options['rebuild'] === true })
   },
 }

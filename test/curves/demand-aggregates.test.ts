@@ -20,7 +20,7 @@ import { importDocuments } from '../../src/ingest/import.ts'
 import { acceptAsConcept } from '../../src/taxonomy/decisions.ts'
 import { mapStage } from '../../src/taxonomy/stage.ts'
 import { importTaxonomy } from '../../src/taxonomy/store.ts'
-import { runFit } from '../../src/curves/stage.ts'
+import { fitStage, runFit } from '../../src/curves/stage.ts'
 
 const config = loadConfig({ db: ':memory:' })
 const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'tides-demand-'))
@@ -251,6 +251,23 @@ describe('demand aggregates kept by the map stage', () => {
     expect(db.prepare('SELECT COUNT(*) FROM documents WHERE id = ?').pluck().get(id)).toBe(1)
     rebuildDemandCounts(db)
     expectInStep(db)
+  }, 60_000)
+
+  it('are repaired by `tides run fit --rebuild` after a writer bypassed them, and the fit then reads the repaired counts', async () => {
+    const db = openDb(':memory:')
+    await importPostings(db, postings('g', 1, 3, 6))
+    await map(db)
+    const before = expectInStep(db)
+    // a writer that bypassed the aggregates: counts and a month's total are off
+    db.prepare('UPDATE demand_counts SET n = n + 7').run()
+    db.prepare('DELETE FROM demand_totals WHERE (series, month) IN (SELECT series, month FROM demand_totals ORDER BY month LIMIT 1)').run()
+    expect(() => expectInStep(db)).toThrow()
+    const logged: string[] = []
+    const result = await fitStage.run({ db, config, log: (m) => logged.push(m), trigger: 'manual', options: { rebuild: true } })
+    expect(logged.some((m) => /demand aggregates rebuilt from documents and mentions \(\d+ rows\)/.test(m))).toBe(true)
+    expect(expectInStep(db)).toEqual(before)
+    expectDemandTable(db)
+    expect(result.counts['skills']).toBeGreaterThan(0)
   }, 60_000)
 })
 
