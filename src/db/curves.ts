@@ -199,7 +199,7 @@ export class DemandDelta {
       const negative = db.prepare('SELECT n FROM demand_counts WHERE concept_id = ? AND series = ? AND month = ?').pluck()
       for (const [id, series, month] of zeroCounts) {
         if (del.run(id, series, month).changes === 0 && ((negative.get(id, series, month) as number | undefined) ?? 0) < 0) {
-          throw new Error(`demand aggregate for ${id} ${series} ${month} fell below zero: run the repair (rebuildDemandCounts)`)
+          throw new Error(`demand aggregate for ${id} ${series} ${month} fell below zero: repair with 'tides run fit --rebuild'`)
         }
       }
     }
@@ -211,7 +211,7 @@ export class DemandDelta {
       const [series, month] = key.split('\u0000') as [string, string]
       totalUpsert.run(series, month, d)
       if (d < 0 && totalZero.run(series, month).changes === 0 && ((totalNow.get(series, month) as number | undefined) ?? 0) < 0) {
-        throw new Error(`demand total for ${series} ${month} fell below zero: run the repair (rebuildDemandCounts)`)
+        throw new Error(`demand total for ${series} ${month} fell below zero: repair with 'tides run fit --rebuild'`)
       }
       touched++
     }

@@ -246,7 +246,7 @@ describe('demand aggregates kept by the map stage', () => {
     await map(db)
     db.prepare('DELETE FROM demand_counts').run()
     const id = db.prepare("SELECT id FROM documents WHERE external_id = 'f0'").pluck().get() as number
-    expect(() => db.transaction(() => deleteDocuments(db, [id]))()).toThrow(/fell below zero.*rebuildDemandCounts/)
+    expect(() => db.transaction(() => deleteDocuments(db, [id]))()).toThrow(/fell below zero.*tides run fit --rebuild/)
     // rolled back: the document is still there
     expect(db.prepare('SELECT COUNT(*) FROM documents WHERE id = ?').pluck().get(id)).toBe(1)
     rebuildDemandCounts(db)
