@@ -123,8 +123,7 @@ export function recomputeMonthlyDemand(db: Db): MonthlyDemand {
  */
 export function rebuildDemandCounts(db: Db): number {
   return db.transaction(() => {
-    db.prepare('DELETE FROM demand_totals').run()
-    db.prepare('DELETE FROM demand_counts').run()
+    clearDemandCounts(db)
     db.prepare(`INSERT INTO demand_totals (series, month, total) ${TOTALS_FROM_DOCUMENTS}`).run()
     return db.prepare(`INSERT INTO demand_counts (concept_id, series, month, n) ${COUNTS_FROM_MENTIONS}`).run().changes
   })()
