@@ -21,6 +21,7 @@ import { fileURLToPath } from 'node:url'
 import autocannon from 'autocannon'
 import { parseConfig } from '../src/config.ts'
 import { openDb } from '../src/db/connection.ts'
+import { SCHEMA_VERSION } from '../src/db/migrations.ts'
 import { createApp } from '../src/server/app.ts'
 import { serve } from '../src/serve.ts'
 import { buildFixture } from '../test/server/fixture.ts'
@@ -47,7 +48,8 @@ async function child(file: string, cache: boolean): Promise<void> {
 function databaseFor(skills: number): string {
   const dir = path.join(here, '.work')
   fs.mkdirSync(dir, { recursive: true })
-  const file = path.join(dir, `server-${skills}.db`)
+  // the schema version in the name: a database built by an older schema is built again, not migrated
+  const file = path.join(dir, `server-${skills}-v${SCHEMA_VERSION}.db`)
   if (fs.existsSync(file)) return file
   log(`building ${file} (${skills} skills, plan stage included; once)...`)
   const t0 = performance.now()

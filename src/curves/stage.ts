@@ -3,14 +3,13 @@
  * The fit stage: builds every skill's monthly demand series from the demand aggregates the map stage
  * keeps (so its cost does not grow with the number of documents), fits the demand curves (trend,
  * half-life, significance across skills, change, emergence, forecast and lifecycle state), and in
- * one transaction brings the `demand` table up to date (changed rows only), replaces `curves` and emits
- * `curves.fitted` plus one `skill.state-changed` per skill whose state moved. Runs after
- * `documents.mapped`.
+ * one transaction replaces `curves` and emits `curves.fitted` plus one `skill.state-changed` per skill
+ * whose state moved. Runs after `documents.mapped`. (The dashboard charts the same aggregates.)
  */
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
-import { readCurveStates, readMonthlyDemand, rebuildDemandCounts, replaceCurves, syncDemand } from '../db/curves.ts'
-import type { CurveRow, DemandRow, DemandSeries, MonthlyDemand } from '../db/curves.ts'
+import { readCurveStates, readMonthlyDemand, rebuildDemandCounts, replaceCurves } from '../db/curves.ts'
+import type { CurveRow, MonthlyDemand } from '../db/curves.ts'
 import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
 import { fitAll } from './fit-all.ts'
@@ -18,7 +17,6 @@ import type { SkillCurve } from './fit-skill.ts'
 import type { SkillSeriesInput } from './series.ts'
 import type { SkillState } from './state.ts'
 
-const SERIES: readonly DemandSeries[] = ['external', 'internal']
 const FLAGGED: readonly string[] = ['emerging', 'rising', 'declining', 'fading']
 
 /**
@@ -56,21 +54,6 @@ function validMonths(demand: MonthlyDemand): string[] {
 }
 
 const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/
-
-/** Demand rows to store: every month with documents, for skills mentioned at least once. */
-function* demandRows(demand: MonthlyDemand): Generator<DemandRow> {
-  const months = validMonths(demand)
-  for (const [id, counts] of demand.mentions) {
-    if (!demand.labels.has(id)) continue
-    for (const series of SERIES) {
-      if (counts[series].size === 0) continue
-      for (const month of months) {
-        const total = demand.totals[series].get(month) ?? 0
-        if (total > 0) yield { concept_id: id, series, month, n: counts[series].get(month) ?? 0, total }
-      }
-    }
-  }
-}
 
 const finite = (x: number | null | undefined): number | null => (x !== null && x !== undefined && Number.isFinite(x) ? x : null)
 
@@ -166,10 +149,8 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
   const previous = readCurveStates(db)
   const states: Record<string, number> = {}
   let changed = 0
-  let demandCount = 0
   const writeStarted = performance.now()
   db.transaction(() => {
-    demandCount = syncDemand(db, demandRows(demand)).rows
     replaceCurves(db, result.curves.map((curve) => curveRow(curve, fittedAt)))
     for (const curve of result.curves) {
       states[curve.state] = (states[curve.state] ?? 0) + 1
@@ -199,8 +180,8 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
     (result.failures.length ? `; ${result.failures.length} skipped (bad input)` : '')
   return {
     summary,
-    counts: { skills: result.curves.length, tested: result.tested, stateChanges: changed, failures: result.failures.length, demandRows: demandCount, badMonths: badMonths.length,
-      // where the time went: reading the demand aggregates, fitting, writing demand, curves and events
+    counts: { skills: result.curves.length, tested: result.tested, stateChanges: changed, failures: result.failures.length, badMonths: badMonths.length,
+      // where the time went: reading the demand aggregates, fitting, writing curves and events
       readMs: Math.round(readMs), fitMs: Math.round(fitMs), writeMs: Math.round(writeMs) },
     status: result.failures.length || badMonths.length ? 'partial' : 'ok',
   }

@@ -14,14 +14,6 @@ export type DemandSeries = 'external' | 'internal'
 /** Document kind behind each demand series. */
 const KIND_OF: Record<DemandSeries, string> = { external: 'posting', internal: 'request' }
 
-export interface DemandRow {
-  concept_id: string
-  series: DemandSeries
-  month: string
-  n: number
-  total: number
-}
-
 export interface MonthlyDemand {
   /** every month with at least one mapped original document of either kind, oldest first */
   months: string[]
@@ -218,81 +210,6 @@ export class DemandDelta {
     this.totals.clear()
     return touched
   }
-}
-
-/**
- * Replace the demand table with the given rows (inside the caller's transaction). Rows should come
- * in primary-key order (concept, series, month), as {@link readMonthlyDemand} yields concepts: the
- * table is then written as one append.
- *
- * @example
- * ```ts
- * db.transaction(() => replaceDemand(db, rows))()
- * ```
- */
-export function replaceDemand(db: Db, rows: Iterable<DemandRow>): number {
-  db.prepare('DELETE FROM demand').run()
-  const insert = db.prepare('INSERT INTO demand (concept_id, series, month, n, total) VALUES (?, ?, ?, ?, ?)')
-  let count = 0
-  for (const row of rows) {
-    insert.run(row.concept_id, row.series, row.month, row.n, row.total)
-    count++
-  }
-  return count
-}
-
-/**
- * Brings the demand table to the given rows (inside the caller's transaction), writing only what
- * changed: after an increment most months keep their n and N, so most rows stay as they are. Rows
- * must come grouped by concept (as {@link readMonthlyDemand} yields them). An empty table is filled
- * by {@link replaceDemand}'s append instead.
- * @returns rows in the table afterwards, and rows inserted, updated or deleted
- *
- * @example
- * ```ts
- * db.transaction(() => syncDemand(db, rows))() // => { rows: 1200000, written: 40000 }
- * ```
- */
-export function syncDemand(db: Db, rows: Iterable<DemandRow>): { rows: number; written: number } {
-  const before = new Set(db.prepare('SELECT DISTINCT concept_id FROM demand').pluck().all() as string[])
-  if (before.size === 0) {
-    const count = replaceDemand(db, rows)
-    return { rows: count, written: count }
-  }
-  const existing = db.prepare('SELECT series, month, n, total FROM demand WHERE concept_id = ?').raw()
-  const upsert = db.prepare('INSERT INTO demand (concept_id, series, month, n, total) VALUES (?, ?, ?, ?, ?) ON CONFLICT DO UPDATE SET n = excluded.n, total = excluded.total')
-  const remove = db.prepare('DELETE FROM demand WHERE concept_id = ? AND series = ? AND month = ?')
-  let current: string | null = null
-  let old = new Map<string, [number, number]>()
-  let count = 0
-  let written = 0
-  const flush = () => {
-    if (current === null) return
-    for (const key of old.keys()) {
-      const [series, month] = key.split('\u0000') as [string, string]
-      written += remove.run(current, series, month).changes
-    }
-  }
-  for (const row of rows) {
-    if (row.concept_id !== current) {
-      flush()
-      current = row.concept_id
-      before.delete(current)
-      old = new Map()
-      for (const [series, month, n, total] of existing.all(current) as [string, string, number, number][]) old.set(`${series}\u0000${month}`, [n, total])
-    }
-    count++
-    const key = `${row.series}\u0000${row.month}`
-    const prev = old.get(key)
-    old.delete(key)
-    if (prev && prev[0] === row.n && prev[1] === row.total) continue
-    upsert.run(row.concept_id, row.series, row.month, row.n, row.total)
-    written++
-  }
-  flush()
-  const dropConcept = db.prepare('DELETE FROM demand WHERE concept_id = ?')
-  for (const id of before) written += dropConcept.run(id).changes
-  return { rows: count, written }
 }
 
 /** A fitted curve as stored (one row of `curves`). */

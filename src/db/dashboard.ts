@@ -178,26 +178,54 @@ export interface DemandPoint {
   total: number
 }
 
-/** The months of a demand series, oldest first. */
-export function demandMonths(db: Db, series: 'external' | 'internal'): string[] {
-  return stmt(db, 'SELECT DISTINCT month FROM demand WHERE series = ? ORDER BY month').pluck().all(series) as string[]
+const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/
+
+/**
+ * Documents per month of a demand series (the running aggregate `demand_totals`, months in the
+ * fit's YYYY-MM form only), oldest first.
+ */
+function seriesTotals(db: Db, series: 'external' | 'internal'): [string, number][] {
+  const rows = stmt(db, 'SELECT month, total FROM demand_totals WHERE series = ? AND total > 0 ORDER BY month').raw().all(series) as [string, number][]
+  return rows.filter(([month]) => MONTH.test(month))
 }
 
-/** Monthly demand rows of the given skills (one series or both), in month order. */
+/** The months of a demand series, oldest first. */
+export function demandMonths(db: Db, series: 'external' | 'internal'): string[] {
+  return seriesTotals(db, series).map(([month]) => month)
+}
+
+/**
+ * Monthly demand of the given skills (one series or both), from the running aggregates the map
+ * stage keeps (`demand_counts`, `demand_totals`): for each skill and series with at least one
+ * mention, every month with documents of that series, n = 0 where none mentioned it. Rows come per
+ * skill and series in month order (the series the fit stage reads, so the chart and the curve agree
+ * once the fit has run after the last map).
+ */
 export function demandFor(db: Db, ids: readonly string[], series?: 'external' | 'internal'): DemandPoint[] {
   if (ids.length === 0) return []
+  const kinds: ('external' | 'internal')[] = series ? [series] : ['external', 'internal']
+  const totals = new Map(kinds.map((kind) => [kind, seriesTotals(db, kind)]))
   const out: DemandPoint[] = []
   // chunks keep the statement count small and the parameter list under SQLite's limit
   for (let i = 0; i < ids.length; i += 100) {
-    const chunk = ids.slice(i, i + 100)
+    const chunk = [...new Set(ids.slice(i, i + 100))].sort()
     const marks = chunk.map(() => '?').join(',')
     const filter = series ? 'AND series = ?' : ''
     const params: unknown[] = series ? [...chunk, series] : [...chunk]
-    out.push(
-      ...(stmt(db, `SELECT concept_id, series, month, n, total FROM demand WHERE concept_id IN (${marks}) ${filter} ORDER BY concept_id, series, month`).all(
-        ...params,
-      ) as DemandPoint[]),
-    )
+    const counts = new Map<string, Map<string, number>>()
+    for (const [id, kind, month, n] of stmt(db, `SELECT concept_id, series, month, n FROM demand_counts WHERE concept_id IN (${marks}) ${filter}`).raw().all(...params) as [string, string, string, number][]) {
+      const key = `${id}\u0000${kind}`
+      let byMonth = counts.get(key)
+      if (!byMonth) counts.set(key, (byMonth = new Map()))
+      byMonth.set(month, n)
+    }
+    for (const id of chunk) {
+      for (const kind of kinds) {
+        const byMonth = counts.get(`${id}\u0000${kind}`)
+        if (!byMonth) continue
+        for (const [month, total] of totals.get(kind)!) out.push({ concept_id: id, series: kind, month, n: byMonth.get(month) ?? 0, total })
+      }
+    }
   }
   return out
 }

@@ -379,10 +379,22 @@ INSERT INTO demand_counts (concept_id, series, month, n)
   GROUP BY m.concept_id, d.kind, d.month;
 `
 
+/**
+ * Migration 4: the per-fit copy of the monthly demand (`demand`, every month of every mentioned
+ * skill, n and N on each row: about 1.2 million rows at 20,000 skills) goes. The dashboard reads the
+ * running aggregates `demand_counts` and `demand_totals` the fit reads, which hold only the non-zero
+ * counts (about a fifth of the rows) and are kept by the map stage anyway; the fit stage no longer
+ * compares and rewrites a million rows on every run.
+ */
+const V4_DROP_DEMAND_COPY = `
+DROP TABLE demand;
+`
+
 export const MIGRATIONS: readonly Migration[] = [
   { version: 1, name: 'core tables', sql: V1_CORE },
   { version: 2, name: 'indexes for duplicates, states and ranks', sql: V2_RUN_INDEXES },
   { version: 3, name: 'demand aggregates; mentions and demand without rowid', sql: V3_DEMAND_AGGREGATES },
+  { version: 4, name: 'dashboard reads the demand aggregates; per-fit demand copy dropped', sql: V4_DROP_DEMAND_COPY },
 ]
 
 /** The schema version this build of the program writes. */

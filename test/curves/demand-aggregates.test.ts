@@ -14,6 +14,7 @@ import Database from 'better-sqlite3'
 import { loadConfig } from '../../src/config.ts'
 import { openDb, schemaVersion, type Db } from '../../src/db/connection.ts'
 import { rebuildDemandCounts, readMonthlyDemand, recomputeMonthlyDemand, type MonthlyDemand } from '../../src/db/curves.ts'
+import { demandFor } from '../../src/db/dashboard.ts'
 import { deleteDocuments, markDuplicate } from '../../src/db/documents.ts'
 import { countUnmapped, replaceOpenCandidates } from '../../src/db/taxonomy.ts'
 import { importDocuments } from '../../src/ingest/import.ts'
@@ -101,7 +102,7 @@ function expectInStep(db: Db): MonthlyDemand {
 
 const ext = (d: MonthlyDemand, id: string, month: string) => d.mentions.get(id)?.external.get(month) ?? 0
 
-/** The demand table a fit should leave, from the full recomputation: every month with documents, for skills mentioned at least once. */
+/** The demand the dashboard charts (read from the aggregates) against the full recomputation: every month with documents, for skills mentioned at least once. */
 function expectDemandTable(db: Db): void {
   const full = recomputeMonthlyDemand(db)
   const expected: { concept_id: string; series: string; month: string; n: number; total: number }[] = []
@@ -116,7 +117,7 @@ function expectDemandTable(db: Db): void {
       }
     }
   }
-  expect(db.prepare('SELECT * FROM demand ORDER BY concept_id, series, month').all()).toEqual(expected)
+  expect(demandFor(db, [...full.labels.keys()].sort())).toEqual(expected)
 }
 const fit = (db: Db) => runFit(db, config, { now: new Date('2024-12-01T00:00:00Z') })
 
@@ -155,10 +156,10 @@ describe('demand aggregates kept by the map stage', () => {
     expect(after.totals.external.get('2024-06')).toBe(22)
     expect(after.totals.external.get('2024-08')).toBe(10)
 
-    // the fit stage reads the aggregate and brings the demand table to the rows the recomputation gives
+    // the fit stage and the dashboard read the aggregates: the rows the recomputation gives
     fit(db)
     expectDemandTable(db)
-    const stored = db.prepare("SELECT n, total FROM demand WHERE concept_id = 'kubernetes' AND series = 'external' ORDER BY month").all() as { n: number; total: number }[]
+    const stored = demandFor(db, ['kubernetes'], 'external').map(({ n, total }) => ({ n, total }))
     const full = recomputeMonthlyDemand(db)
     const months = full.months.filter((m) => (full.totals.external.get(m) ?? 0) > 0)
     expect(stored).toEqual(months.map((m) => ({ n: full.mentions.get('kubernetes')?.external.get(m) ?? 0, total: full.totals.external.get(m)! })))
@@ -192,10 +193,10 @@ describe('demand aggregates kept by the map stage', () => {
     expect([...again.mentions.keys()].sort()).toEqual(['containers', 'kubernetes'])
     // containers counts by roll-up exactly where kubernetes does
     expect(again.mentions.get('containers')!.external).toEqual(again.mentions.get('kubernetes')!.external)
-    // the next fit drops the demand rows of concepts no longer in the taxonomy
+    // concepts no longer in the taxonomy have no demand left
     fit(db)
     expectDemandTable(db)
-    expect(db.prepare("SELECT COUNT(*) FROM demand WHERE concept_id = 'quillstream'").pluck().get()).toBe(0)
+    expect(demandFor(db, ['quillstream'])).toEqual([])
   }, 60_000)
 
   it('follow deleted documents (an original with reposts), their re-import, and a document marked a repost later', async () => {
@@ -303,7 +304,7 @@ describe('migration 3', () => {
     const expected = recomputeMonthlyDemand(v2)
     v2.close()
 
-    const db = openDb(file)
+    const db = openDb(file, { upTo: 3 })
     expect(schemaVersion(db)).toBe(3)
     expect(db.prepare('SELECT * FROM mentions ORDER BY document_id, concept_id').all()).toEqual(mentionsBefore)
     expect(db.prepare('SELECT * FROM demand').all()).toEqual([{ concept_id: 'sql', series: 'external', month: '2024-01', n: 2, total: 4 }])
@@ -323,5 +324,14 @@ describe('migration 3', () => {
     expect(() => db.prepare("INSERT INTO mentions (document_id, concept_id, count, via) VALUES (1, 'nowhere', 1, 'text')").run()).toThrow(/FOREIGN KEY/)
     expect(new Database(file, { readonly: true }).pragma('integrity_check', { simple: true })).toBe('ok')
     db.close()
+
+    // migration 4: the per-fit demand copy goes; the dashboard charts the aggregates
+    const v4 = openDb(file)
+    expect(schemaVersion(v4)).toBe(4)
+    expect(v4.prepare("SELECT COUNT(*) FROM sqlite_master WHERE name = 'demand'").pluck().get()).toBe(0)
+    expect(demandFor(v4, ['sql'], 'external')).toEqual(
+      ['2024-01', '2024-02', '2024-03'].map((month) => ({ concept_id: 'sql', series: 'external', month, n: expected.mentions.get('sql')?.external.get(month) ?? 0, total: 4 })),
+    )
+    v4.close()
   })
 })

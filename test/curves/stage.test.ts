@@ -10,6 +10,7 @@ import { emit } from '../../src/events/outbox.ts'
 import { ripple } from '../../src/pipeline.ts'
 import { runFit } from '../../src/curves/stage.ts'
 import { rebuildDemandCounts } from '../../src/db/curves.ts'
+import { demandFor } from '../../src/db/dashboard.ts'
 import { monthRange } from './simulate.ts'
 import { seededRandom } from '../stats/seeded-random.ts'
 
@@ -75,19 +76,19 @@ const config = parseConfig({ db: ':memory:' })
 const NOW = new Date('2026-01-15T00:00:00Z')
 
 describe('fit stage', () => {
-  it('writes demand and curves in one go and emits curves.fitted and the flagged states', () => {
+  it('writes the curves in one go and emits curves.fitted and the flagged states', () => {
     const db = openDb(':memory:')
     const { mentions } = loadCorpus(db)
     const result = runFit(db, config, { now: NOW })
     expect(result.counts['skills']).toBe(5)
 
-    // demand: originals only, reposts left out of both counts and totals
-    const sql = db.prepare("SELECT month, n, total FROM demand WHERE concept_id = 'sql' AND series = 'external' ORDER BY month").all() as { month: string; n: number; total: number }[]
+    // the demand fitted and charted: originals only, reposts left out of both counts and totals
+    const sql = demandFor(db, ['sql'], 'external')
     expect(sql).toHaveLength(36)
     expect(sql.map((row) => row.n)).toEqual(mentions['sql'])
     expect(sql.every((row) => row.total === 300)).toBe(true)
-    expect(db.prepare("SELECT COUNT(*) AS c FROM demand WHERE series = 'internal' AND concept_id = 'sql'").get()).toEqual({ c: 36 })
-    expect(db.prepare("SELECT COUNT(*) AS c FROM demand WHERE concept_id = 'ghost'").get()).toEqual({ c: 0 })
+    expect(demandFor(db, ['sql'], 'internal')).toHaveLength(36)
+    expect(demandFor(db, ['ghost'])).toEqual([])
 
     const curves = Object.fromEntries((db.prepare('SELECT concept_id, state, half_life_months, fitted_at FROM curves').all() as { concept_id: string; state: string; half_life_months: number | null; fitted_at: string }[]).map((row) => [row.concept_id, row]))
     expect(curves['kubernetes']!.state).toBe('rising')
@@ -139,8 +140,10 @@ describe('fit stage', () => {
     const result = runFit(db, config, { now: NOW, log: (message) => logs.push(message) })
     expect(result.status).toBe('partial')
     expect(logs.join('\n')).toMatch(/month is not YYYY-MM: "2025-13"/)
-    expect(db.prepare("SELECT COUNT(*) AS c FROM demand WHERE month = '2025-12' AND series = 'external'").get()).toEqual({ c: 0 })
-    expect(db.prepare("SELECT COUNT(*) AS c FROM demand WHERE month = '2025-13'").get()).toEqual({ c: 0 })
+    const charted = demandFor(db, ['sql'])
+    expect(charted.filter((row) => row.month === '2025-12' && row.series === 'external')).toEqual([])
+    expect(charted.filter((row) => row.month === '2025-13')).toEqual([])
+    expect(charted.filter((row) => row.series === 'internal')).toHaveLength(35)
     expect((db.prepare("SELECT state FROM curves WHERE concept_id = 'sql'").get() as { state: string }).state).toBe('steady')
   })
 

@@ -17,7 +17,7 @@ afterEach(() => {
 })
 
 const EXPECTED_TABLES = [
-  'sources', 'documents', 'mentions', 'concepts', 'labels', 'concept_broader', 'demand', 'curves', 'people', 'roles',
+  'sources', 'documents', 'mentions', 'concepts', 'labels', 'concept_broader', 'demand_counts', 'demand_totals', 'curves', 'people', 'roles',
   'items', 'responses', 'abilities', 'coverage', 'courses', 'plan_outputs', 'job_runs', 'events',
 ]
 

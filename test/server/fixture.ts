@@ -84,21 +84,28 @@ export function buildFixture(db: Db, opts: FixtureOptions = {}): { months: strin
     db.prepare("INSERT INTO sources(id, kind, location) VALUES ('learning-requests', 'requests', 'requests.csv')").run()
     const concept = db.prepare('INSERT INTO concepts(id, pref_label, type) VALUES (?, ?, ?)')
     const label = db.prepare('INSERT INTO labels(concept_id, label, kind) VALUES (?, ?, ?)')
-    const demand = db.prepare('INSERT INTO demand(concept_id, series, month, n, total) VALUES (?, ?, ?, ?, ?)')
+    // the demand aggregates the map stage keeps: counts where non-zero, documents per month
+    const insertCount = db.prepare('INSERT INTO demand_counts(concept_id, series, month, n) VALUES (?, ?, ?, ?)')
+    const demand = { run: (id: string, series: string, month: string, n: number) => n > 0 && insertCount.run(id, series, month, n) }
+    const totals = db.prepare('INSERT OR REPLACE INTO demand_totals(series, month, total) VALUES (?, ?, ?)')
     const curve = db.prepare(
       `INSERT INTO curves(concept_id, state, annual_growth, growth_low, growth_high, half_life_months, half_life_low, half_life_high, p_value, p_adjusted,
         latest_share, forecast_share12, forecast_method, change_month, emerged_month, details_json, fitted_at) VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`,
     )
     const total = 400
     const forecastMonths = monthList(12, nextMonth(months[months.length - 1]!))
+    for (const m of months) {
+      totals.run('external', m, total)
+      totals.run('internal', m, 120)
+    }
     skills.forEach((s, idx) => {
       concept.run(s.id, s.label, s.type)
       label.run(s.id, s.label, 'pref')
       const rate = Math.log1p(s.growth) / 12
       const shares = months.map((_, i) => Math.max(0, s.base * Math.exp(rate * i) * (1 + (random() - 0.5) * 0.1)))
       months.forEach((m, i) => {
-        demand.run(s.id, 'external', m, Math.round(shares[i]! * total), total)
-        if (idx < NAMED_SKILLS.length) demand.run(s.id, 'internal', m, Math.round(shares[i]! * 0.8 * 120), 120)
+        demand.run(s.id, 'external', m, Math.round(shares[i]! * total))
+        if (idx < NAMED_SKILLS.length) demand.run(s.id, 'internal', m, Math.round(shares[i]! * 0.8 * 120))
       })
       const fitted = months.map((_, i) => s.base * Math.exp(rate * i))
       const last = fitted[fitted.length - 1]!
