@@ -16,7 +16,11 @@
  * Reference: https://en.wikipedia.org/wiki/Cosine_similarity
  *
  * Cost: counting is O(Σ_d k_d²) for documents with k_d skills; one PMI is O(1); one cosine is
- * O(min(deg a, deg b)) over the neighbour lists.
+ * O(min(deg a, deg b)) over the neighbour lists. With a focus set F (the skills whose adjacency is
+ * asked for), only pairs with a member in F are counted: O(Σ_d k_d + Σ_d f_d·k_d) for f_d focus
+ * skills in document d, and the pair table holds F's rows only. Support and PMI are then exact for a
+ * pair with a member in F, the cosine for a pair with both in F (the vectors are F's rows); asking
+ * for anything else is a RangeError, never a silently wrong number.
  *
  * @example
  * ```ts
@@ -36,6 +40,8 @@ export interface CoOccurrence {
   pairCounts: Map<number, number>
   /** neighbour lists, built on first use (cosine) */
   neighbours?: Map<number, Map<number, number>>
+  /** when set, only pairs with a member here were counted */
+  focus?: ReadonlySet<string>
 }
 
 /** Pair keys stay exact doubles for up to 2^21 (about two million) distinct skills. */
@@ -45,40 +51,60 @@ function pairKey(i: number, j: number): number {
   return i < j ? i * PAIR_SHIFT + j : j * PAIR_SHIFT + i
 }
 
-/** Counts single and pair document frequencies; a skill repeated in one document counts once. */
-export function countCoOccurrence(documents: Iterable<readonly string[]>): CoOccurrence {
+/**
+ * Counts single and pair document frequencies; a skill repeated in one document counts once. With
+ * `focus`, pairs are counted only when one of the two skills is in it (single counts always).
+ */
+export function countCoOccurrence(documents: Iterable<readonly string[]>, focus?: ReadonlySet<string>): CoOccurrence {
   const counts = new Map<string, number>()
   const index = new Map<string, number>()
   const pairCounts = new Map<number, number>()
+  /** by dense index: is the skill in the focus set (all true without one) */
+  const inFocus: boolean[] = []
   let n = 0
   const ids: number[] = []
   for (const doc of documents) {
     n++
     ids.length = 0
+    let focused = 0
     for (const s of doc) {
       let i = index.get(s)
       if (i === undefined) {
         i = index.size
         if (i >= PAIR_SHIFT) throw new RangeError(`countCoOccurrence supports at most ${PAIR_SHIFT} distinct skills`)
         index.set(s, i)
+        inFocus[i] = focus === undefined || focus.has(s)
       }
       if (!ids.includes(i)) {
         ids.push(i)
         counts.set(s, (counts.get(s) ?? 0) + 1)
+        if (inFocus[i]) focused++
       }
     }
+    if (focused === 0) continue
     for (let x = 0; x < ids.length; x++) {
+      const fx = inFocus[ids[x]!]
       for (let y = x + 1; y < ids.length; y++) {
+        if (!fx && !inFocus[ids[y]!]) continue
         const key = pairKey(ids[x]!, ids[y]!)
         pairCounts.set(key, (pairCounts.get(key) ?? 0) + 1)
       }
     }
   }
-  return { documents: n, counts, index, pairCounts }
+  return focus === undefined ? { documents: n, counts, index, pairCounts } : { documents: n, counts, index, pairCounts, focus }
+}
+
+/** A RangeError when the pair was left out of the counting by the focus set. */
+function checkFocus(co: CoOccurrence, a: string, b: string, both: boolean): void {
+  if (!co.focus) return
+  const fa = co.focus.has(a)
+  const fb = co.focus.has(b)
+  if (both ? !(fa && fb) : !(fa || fb)) throw new RangeError(`co-occurrence of ${a} and ${b} was not counted: ${both ? 'both' : 'one'} must be in the focus set`)
 }
 
 /** Documents mentioning both skills. */
 export function support(co: CoOccurrence, a: string, b: string): number {
+  checkFocus(co, a, b, false)
   const i = co.index.get(a)
   const j = co.index.get(b)
   if (i === undefined || j === undefined || i === j) return 0
@@ -122,6 +148,7 @@ export function ppmi(co: CoOccurrence, a: string, b: string, minSupport: number)
 
 /** Cosine of the co-occurrence vectors of a and b, 0 below the minimum support. */
 export function cosine(co: CoOccurrence, a: string, b: string, minSupport: number): number {
+  checkFocus(co, a, b, true)
   if (a === b || support(co, a, b) < minSupport) return 0
   const lists = neighbours(co)
   const va = lists.get(co.index.get(a)!)

@@ -13,7 +13,7 @@ import { matcherFromDb } from '../taxonomy/store.ts'
 import { buildLabelIndex, mapTitle, resolveSkillRef, type LabelIndex } from './course-skills.ts'
 import { RISING_STATES, readSkillCurve, type SkillCurve } from './curve-model.ts'
 import { rankNeeds, scoreNeed, type NeedInput, type PullInput, type RankedNeed } from './needs.ts'
-import { buildPathways, findCandidates, type CandidateGroup, type Pathway } from './pathways.ts'
+import { buildPathways, findCandidates, pathwaySkills, type CandidateGroup, type Pathway } from './pathways.ts'
 import { forecastTarget, type ForecastTarget, type QuarterForecast } from './reskilling-forecast.ts'
 import { addMonths, suggestRequirements, type RoleSuggestion } from './role-suggestions.ts'
 
@@ -219,7 +219,8 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
 
   // adjacency and pathways
   const adjacencyDocs = adjacencyStart ? postings.filter((d) => d.month >= adjacencyStart) : postings
-  const co = countCoOccurrence(adjacencyDocs.map((d) => d.concepts))
+  // pathways ask only for pairs of a declining and a rising skill: only those rows are counted
+  const co = countCoOccurrence(adjacencyDocs.map((d) => d.concepts), pathwaySkills(curves))
   const pathways = buildPathways(co, curves, labels, cfg.adjacency)
   const candidates = findCandidates({ people, abilities, requirements, pathways }, cfg.reskilling, true)
 

@@ -33,6 +33,11 @@ export interface Pathway {
 }
 
 /** For every declining skill with adjacent rising skills, its pathway (declining skills by id). */
+/** The skills whose adjacency {@link buildPathways} asks for: evidenced declining and rising ones. */
+export function pathwaySkills(curves: ReadonlyMap<string, SkillCurve>): Set<string> {
+  return new Set([...curves.values()].filter((c) => c.evidenced && (RISING_STATES.includes(c.state) || DECLINING_STATES.includes(c.state))).map((c) => c.id))
+}
+
 export function buildPathways(co: CoOccurrence, curves: ReadonlyMap<string, SkillCurve>, labels: ReadonlyMap<string, string>, cfg: PlanConfig['adjacency']): Pathway[] {
   const rising = [...curves.values()].filter((c) => c.evidenced && RISING_STATES.includes(c.state)).map((c) => c.id)
   const out: Pathway[] = []

@@ -96,3 +96,34 @@ describe('against a dense brute-force implementation', () => {
     )
   })
 })
+
+describe('co-occurrence counted for a focus set', () => {
+  const skill = fc.constantFrom('a', 'b', 'c', 'd', 'e', 'f')
+  it('gives the same support, PMI and cosine as the full count wherever it answers, and refuses elsewhere', () => {
+    fc.assert(
+      fc.property(
+        fc.array(fc.uniqueArray(skill, { maxLength: 6 }), { minLength: 1, maxLength: 40 }),
+        fc.uniqueArray(skill, { minLength: 1, maxLength: 4 }),
+        (docs, focusList) => {
+          const focus = new Set(focusList)
+          const full = countCoOccurrence(docs)
+          const focused = countCoOccurrence(docs, focus)
+          expect(focused.counts).toEqual(full.counts)
+          expect(focused.documents).toBe(full.documents)
+          for (const a of 'abcdef') {
+            for (const b of 'abcdef') {
+              if (a === b) continue
+              if (focus.has(a) || focus.has(b)) {
+                expect(support(focused, a, b)).toBe(support(full, a, b))
+                expect(pmi(focused, a, b)).toBe(pmi(full, a, b))
+              } else expect(() => support(focused, a, b)).toThrow(/not counted/)
+              if (focus.has(a) && focus.has(b)) expect(cosine(focused, a, b, 1)).toBeCloseTo(cosine(full, a, b, 1), 12)
+              else expect(() => cosine(focused, a, b, 1)).toThrow(RangeError)
+            }
+          }
+        },
+      ),
+      { seed: 20261202, numRuns: 200 },
+    )
+  })
+})
