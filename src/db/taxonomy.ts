@@ -142,6 +142,32 @@ export function countUnmapped(db: Db): number {
   return (stmt(db, 'SELECT COUNT(*) AS n FROM documents WHERE mapped_version IS NULL AND +duplicate_of IS NULL').get() as { n: number }).n
 }
 
+/** Mapped original postings and requests: the sum of the running totals (no scan of documents). */
+export function countMappedCounted(db: Db): number {
+  return stmt(db, 'SELECT COALESCE(SUM(total), 0) FROM demand_totals').pluck().get() as number
+}
+
+const MENTION_CONCEPT_INDEX = 'CREATE INDEX IF NOT EXISTS mentions_concept ON mentions(concept_id)'
+
+/**
+ * Drops the mentions-by-concept index for a bulk map. Every mention row inserted while it exists
+ * lands at a random place in it (about a third of map's time on the N = 100,000 benchmark, more as
+ * the index outgrows the page cache); one CREATE INDEX afterwards sorts instead.
+ * {@link ensureMentionConceptIndex} puts it back (the map stage also does so at its next start after
+ * a kill mid-way).
+ */
+export function dropMentionConceptIndex(db: Db): void {
+  db.exec('DROP INDEX IF EXISTS mentions_concept')
+}
+
+/** Creates the mentions-by-concept index if it is missing. @returns true when it had to be built */
+export function ensureMentionConceptIndex(db: Db): boolean {
+  const exists = db.prepare("SELECT COUNT(*) FROM sqlite_master WHERE type = 'index' AND name = 'mentions_concept'").pluck().get() as number
+  if (exists) return false
+  db.exec(MENTION_CONCEPT_INDEX)
+  return true
+}
+
 /** The next unmapped original documents after `afterId`, in id order. */
 export function unmappedAfter(db: Db, afterId: number, limit: number): DocumentToMap[] {
   return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents WHERE mapped_version IS NULL AND +duplicate_of IS NULL AND id > ? ORDER BY id LIMIT ?').all(afterId, limit) as DocumentToMap[]

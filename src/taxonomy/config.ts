@@ -14,6 +14,11 @@ export const taxonomyConfigSchema = z
     workerThreshold: z.number().int().min(1).default(20_000),
     /** worker threads for large mapping runs (0: one per core, at most 8) */
     workers: z.number().int().min(0).max(64).default(0),
+    /**
+     * a bulk map (the mentions-by-concept index dropped for the run, built once at its end): at least
+     * this many documents wait and they outnumber the documents already counted
+     */
+    bulkMapMin: z.number().int().min(1).default(20_000),
     candidates: z
       .object({
         /** recompute candidate terms after each map run that mapped documents */

@@ -221,6 +221,8 @@ export async function crashOnce(ws: Workspace, setup: CrashSetup, random: () => 
     for (const { id } of open) {
       expect(query(w.db, 'SELECT status, error FROM job_runs WHERE id = ?', id)[0]).toMatchObject({ status: 'failed', error: expect.stringMatching(/interrupted/) })
     }
+    // a kill inside a bulk map leaves the mentions-by-concept index dropped; the restart builds it
+    expect(query(w.db, "SELECT name FROM sqlite_master WHERE type = 'index' AND name = 'mentions_concept'")).toHaveLength(1)
     expect(resultHash(w.db), `results after a kill at ${delayMs} ms of ${setup.stage} (tables that differ: ${changedTables(setup.clean, w.db).join(', ')})`).toBe(setup.cleanHash)
     expectEventsBackedByWork(w.db, baseline)
     expectNothingPending(w.db, setup.stage, baseline)

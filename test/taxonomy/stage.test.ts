@@ -74,6 +74,46 @@ describe('map stage', () => {
     expect(many.mapped).toBe(one.mapped)
     expect(mentionSummary(db2)).toEqual(single)
   }, 60_000)
+
+  const hasConceptIndex = (d: Db) => d.prepare("SELECT COUNT(*) FROM sqlite_master WHERE type = 'index' AND name = 'mentions_concept'").pluck().get() === 1
+  const allMentions = (d: Db) => d.prepare('SELECT * FROM mentions ORDER BY document_id, concept_id').all()
+
+  it('a bulk map drops the mentions-by-concept index and builds it at the end, with the same mentions', async () => {
+    await ensureTaxonomy(db, config)
+    const logs: string[] = []
+    await mapUnmapped(db, config, (m) => logs.push(m), { threads: 1, bulkMin: 1 })
+    expect(logs.join('\n')).toMatch(/bulk map of 3 documents/)
+    expect(hasConceptIndex(db)).toBe(true)
+    const db2 = await dbWith(POSTINGS)
+    await ensureTaxonomy(db2, config)
+    await mapUnmapped(db2, config, quiet, { threads: 1 })
+    expect(allMentions(db)).toEqual(allMentions(db2))
+    // the index is what the by-concept readers use
+    expect(db.prepare("EXPLAIN QUERY PLAN SELECT document_id FROM mentions WHERE concept_id = 'kubernetes'").all().map((r) => (r as { detail: string }).detail).join(' ')).toMatch(/mentions_concept/)
+  })
+
+  it('an increment smaller than what is mapped keeps the index; a map after a stopped bulk map rebuilds it', async () => {
+    await ensureTaxonomy(db, config)
+    await mapUnmapped(db, config, quiet, { threads: 1, bulkMin: 1 })
+    // a bulk map killed before its end leaves the index dropped
+    db.exec('DROP INDEX mentions_concept')
+    const more = await importDocuments(db, config, 'postings', postingsFile('more.jsonl', [{ id: 'd', title: 'Data engineer', description: 'SQL and Python pipelines.', date: '2024-04-01' }]), { skipBad: false })
+    expect(more.refused).toBe(false)
+    const logs: string[] = []
+    const counts = await mapUnmapped(db, config, (m) => logs.push(m), { threads: 1, bulkMin: 1 })
+    expect(counts.mapped).toBe(1)
+    expect(logs.join('\n')).not.toMatch(/bulk map of/)
+    expect(logs.join('\n')).toMatch(/rebuilt the mentions-by-concept index/)
+    expect(hasConceptIndex(db)).toBe(true)
+  })
+
+  it('builds the index again when a bulk map fails part-way', async () => {
+    await ensureTaxonomy(db, config)
+    db.exec("CREATE TRIGGER refuse BEFORE INSERT ON mentions WHEN NEW.concept_id = 'kubernetes' BEGIN SELECT RAISE(ABORT, 'disk trouble'); END")
+    await expect(mapUnmapped(db, config, quiet, { threads: 1, bulkMin: 1 })).rejects.toThrow(/disk trouble/)
+    expect(hasConceptIndex(db)).toBe(true)
+    expect(countUnmapped(db)).toBe(3) // the failed batch was rolled back as a whole
+  })
 })
 
 describe('taxonomy import and changes', () => {
