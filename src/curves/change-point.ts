@@ -5,6 +5,7 @@
  */
 import { hingeScores, segmentedPoisson } from '../stats/segmented-poisson.ts'
 import type { TrendFit } from './trend-model.ts'
+import { slabFloat64Copy } from '../stats/typed-slab.ts'
 
 export interface ChangeEvidence {
   /** grid position after which the slope changes */
@@ -46,7 +47,7 @@ export function detectChange(linearFit: TrendFit, options: { minSegment: number;
   const cols = linearFit.columns.length
   const rows = observations.rows
   const design = linearFit.design
-  const offset = Float64Array.from(observations.logTotal)
+  const offset = slabFloat64Copy(observations.logTotal)
   // everything but the first source's intercept and the slope goes into the offset; the other
   // sources' intercepts count relative to the first source's
   for (let j = 1; j < cols; j++) {

@@ -27,6 +27,7 @@ import { chooseSeasonalTerms } from './seasonal-selection.ts'
 import type { SeasonalChoice } from './seasonal-selection.ts'
 import { combinedAt, currentSlope, currentSlopeWithBreak, fittedIndex, fitTrend, observationsFrom, stackObservations } from './trend-model.ts'
 import type { StackedObservations, TrendFit } from './trend-model.ts'
+import { slabFloat64 } from '../stats/typed-slab.ts'
 
 /** A statistical test as recorded in the details (the dashboard lists them). */
 export interface TestRecord {
@@ -185,7 +186,7 @@ function sourceSlopes(trend: TrendFit, grid: SkillGrid): { name: string; estimat
   return grid.sources.map((source, s) => {
     const rows: number[] = []
     for (let i = 0; i < obs.rows; i++) if (obs.source[i] === s) rows.push(i)
-    const design = new Float64Array(rows.length * 2)
+    const design = slabFloat64(rows.length * 2)
     rows.forEach((i, r) => {
       design[r] = 1
       design[rows.length + r] = obs.position[i]! - obs.centre

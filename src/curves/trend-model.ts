@@ -18,6 +18,7 @@ import { studentTQuantile, studentTTwoSidedP } from '../stats/student-t-distribu
 import type { CoefficientSummary, PoissonGlmFit } from '../stats/poisson-glm.ts'
 import { monthOfYear } from './months.ts'
 import type { SkillGrid } from './series.ts'
+import { slabFloat64, slabFloat64Copy, slabInt32, slabInt32Copy } from '../stats/typed-slab.ts'
 
 /** The observed (source, month) cells of a skill, stacked month by month. */
 export interface StackedObservations {
@@ -68,11 +69,11 @@ export function stackObservations(grid: SkillGrid): StackedObservations {
   const sourceCount = grid.sources.length
   let rows = 0
   for (let t = 0; t < grid.length; t++) for (let s = 0; s < sourceCount; s++) if (grid.sources[s]!.N[t]! > 0) rows++
-  const source = new Int32Array(rows)
-  const position = new Float64Array(rows)
-  const counts = new Float64Array(rows)
-  const logTotal = new Float64Array(rows)
-  const months = new Int32Array(rows)
+  const source = slabInt32(rows)
+  const position = slabFloat64(rows)
+  const counts = slabFloat64(rows)
+  const logTotal = slabFloat64(rows)
+  const months = slabInt32(rows)
   let centre = 0
   let i = 0
   for (let t = 0; t < grid.length; t++) {
@@ -102,17 +103,17 @@ export function stackObservations(grid: SkillGrid): StackedObservations {
 export function observationsFrom(observations: StackedObservations, from: number): StackedObservations {
   let first = 0
   while (first < observations.rows && observations.position[first]! < from) first++
-  const position = observations.position.slice(first)
+  const position = slabFloat64Copy(observations.position, first)
   let centre = 0
   for (let i = 0; i < position.length; i++) centre += position[i]! / position.length
   return {
     rows: observations.rows - first,
     sourceCount: observations.sourceCount,
-    source: observations.source.slice(first),
+    source: slabInt32Copy(observations.source, first),
     position,
-    counts: observations.counts.slice(first),
-    logTotal: observations.logTotal.slice(first),
-    monthOfYear: observations.monthOfYear.slice(first),
+    counts: slabFloat64Copy(observations.counts, first),
+    logTotal: slabFloat64Copy(observations.logTotal, first),
+    monthOfYear: slabInt32Copy(observations.monthOfYear, first),
     centre,
   }
 }
@@ -173,7 +174,7 @@ export function buildDesign(observations: StackedObservations, spec: TrendSpec):
   for (let k = 1; k <= spec.harmonics; k++) columns.push(`sin${k}`, `cos${k}`)
   const cols = columns.length
   const rows = observations.rows
-  const design = new Float64Array(rows * cols)
+  const design = slabFloat64(rows * cols)
   const slope = observations.sourceCount
   for (let i = 0; i < rows; i++) {
     const position = observations.position[i]!
@@ -255,7 +256,7 @@ export function currentSlopeWithBreak(fit: TrendFit, level: number): Coefficient
   const design = fit.design
   const breakpoint = fit.spec.breakpoint
   // information of the enlarged design (lower triangle), column `cols` is ∂η/∂ψ
-  const information = new Float64Array(size * size)
+  const information = slabFloat64(size * size)
   const row = new Float64Array(size)
   for (let i = 0; i < rows; i++) {
     for (let a = 0; a < cols; a++) row[a] = design[a * rows + i]!
@@ -268,7 +269,7 @@ export function currentSlopeWithBreak(fit: TrendFit, level: number): Coefficient
     }
   }
   // Cholesky, then solve for the contrast (slope + hinge); singular → the plain summary
-  const chol = new Float64Array(size * size)
+  const chol = slabFloat64(size * size)
   for (let a = 0; a < size; a++) {
     for (let b = 0; b <= a; b++) {
       let sum = information[a * size + b]!
@@ -313,7 +314,7 @@ export function currentSlopeWithBreak(fit: TrendFit, level: number): Coefficient
  * ```
  */
 export function fittedIndex(fit: TrendFit, grid: SkillGrid): Float64Array {
-  const values = new Float64Array(grid.length)
+  const values = slabFloat64(grid.length)
   const cols = fit.columns.length
   const beta = fit.glm.coefficients
   for (let t = 0; t < grid.length; t++) {

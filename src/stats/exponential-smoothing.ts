@@ -4,6 +4,7 @@
  * trend, in the error-correction form of the ETS(A,N,N)/(A,A,N)/(A,Ad,N) state-space models.
  * Parameter estimation lives in damped-holt-fit.ts; this file only runs the filter.
  */
+import { slabFloat64 } from './typed-slab.ts'
 
 export interface SmoothingParameters {
   /** level smoothing α in [0, 1] */
@@ -64,10 +65,10 @@ export function smoothSeries(values: ArrayLike<number>, parameters: SmoothingPar
   if (!(phi > 0 && phi <= 1)) throw new RangeError(`smoothSeries requires phi in (0, 1], got ${phi}`)
   if (!Number.isFinite(level0) || !Number.isFinite(trend0)) throw new RangeError('smoothSeries requires finite initial states')
   const n = values.length
-  const oneStep = new Float64Array(n)
-  const errors = new Float64Array(n)
-  const levels = new Float64Array(n)
-  const trends = new Float64Array(n)
+  const oneStep = slabFloat64(n)
+  const errors = slabFloat64(n)
+  const levels = slabFloat64(n)
+  const trends = slabFloat64(n)
   let level = level0
   let trend = trend0
   let sse = 0

@@ -4,6 +4,7 @@
  * least-squares problems without forming the normal equations X'X, whose condition number is the
  * square of X's.
  */
+import { slabFloat64 } from './typed-slab.ts'
 
 /** A QR factorisation of an m × n matrix (m >= n), stored compactly as in LINPACK/JAMA. */
 export interface QrDecomposition {
@@ -158,7 +159,7 @@ export function qrSolve(qr: QrDecomposition, rightHandSide: Float64Array): Float
 export function qrUnscaledCovariance(qr: QrDecomposition): Float64Array {
   const { rows, cols, packed, rDiagonal } = qr
   // inverse of the upper-triangular R, column by column (row-major storage)
-  const rInverse = new Float64Array(cols * cols)
+  const rInverse = slabFloat64(cols * cols)
   for (let column = 0; column < cols; column++) {
     rInverse[column * cols + column] = 1 / rDiagonal[column]!
     for (let row = column - 1; row >= 0; row--) {
@@ -167,7 +168,7 @@ export function qrUnscaledCovariance(qr: QrDecomposition): Float64Array {
       rInverse[row * cols + column] = -sum / rDiagonal[row]!
     }
   }
-  const covariance = new Float64Array(cols * cols)
+  const covariance = slabFloat64(cols * cols)
   for (let i = 0; i < cols; i++) {
     for (let j = i; j < cols; j++) {
       let sum = 0

@@ -6,6 +6,7 @@
  */
 import { burstsFromStates } from './kleinberg-bursts.ts'
 import type { Burst } from './kleinberg-bursts.ts'
+import { slabInt32 } from './typed-slab.ts'
 
 export interface BatchedBurstOptions {
   /** ratio between successive levels' probabilities (default 2) */
@@ -87,7 +88,7 @@ export function batchedBursts(
   cost[0] = 0
   let next = new Float64Array(k)
   // back pointers of all periods in one array: back[t·k + j] is the best predecessor of state j at t
-  const back = new Int32Array(n * k)
+  const back = slabInt32(n * k)
   for (let t = 0; t < n; t++) {
     const r = mentions[t]!
     const d = totals[t]!

@@ -10,6 +10,7 @@ import { logGamma } from './log-gamma.ts'
 import { qrDecomposeInPlace, qrSolveInPlace, qrUnscaledCovariance } from './householder-qr.ts'
 import { normalQuantile, normalSurvival } from './normal-distribution.ts'
 import { studentTQuantile, studentTTwoSidedP } from './student-t-distribution.ts'
+import { slabFloat64 } from './typed-slab.ts'
 
 export interface PoissonGlmInput {
   /** column-major design matrix, rows × cols (include the intercept column yourself) */
@@ -201,9 +202,9 @@ export function poissonGlm(input: PoissonGlmInput): PoissonGlmFit {
   }
   if (activeRows < cols) throw new RangeError(`poissonGlm requires at least ${cols} rows with positive weight, got ${activeRows}`)
 
-  const linearPredictor = new Float64Array(rows)
-  const fitted = new Float64Array(rows)
-  const coefficients = new Float64Array(cols)
+  const linearPredictor = slabFloat64(rows)
+  const fitted = slabFloat64(rows)
+  const coefficients = slabFloat64(cols)
   const workingDesign = work.design
   const workingResponse = work.response
   const rDiagonal = work.diagonal

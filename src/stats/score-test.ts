@@ -4,6 +4,7 @@
  * improve, judged from the current fit alone, without refitting the larger model.
  */
 import { chiSquareSurvival } from './chi-square-distribution.ts'
+import { slabFloat64, slabFloat64Copy } from './typed-slab.ts'
 
 export interface ScoreTestInput {
   /** column-major design of the fitted model, rows × cols */
@@ -76,10 +77,10 @@ export function poissonScoreTest(input: ScoreTestInput): ScoreTestResult {
   const { design, rows, cols, fitted, counts, extra, extraCols, priorWeights } = input
   const dispersion = input.dispersion ?? 1
   if (design.length !== rows * cols || extra.length !== rows * extraCols) throw new RangeError('poissonScoreTest requires designs of rows × columns values')
-  const xx = new Float64Array(cols * cols)
-  const xz = new Float64Array(cols * extraCols)
-  const zz = new Float64Array(extraCols * extraCols)
-  const score = new Float64Array(extraCols)
+  const xx = slabFloat64(cols * cols)
+  const xz = slabFloat64(cols * extraCols)
+  const zz = slabFloat64(extraCols * extraCols)
+  const score = slabFloat64(extraCols)
   for (let i = 0; i < rows; i++) {
     const prior = priorWeights ? priorWeights[i]! : 1
     if (prior === 0) continue
@@ -99,14 +100,14 @@ export function poissonScoreTest(input: ScoreTestInput): ScoreTestResult {
   }
   if (!cholesky(xx, cols)) throw new RangeError('poissonScoreTest: the fitted model\'s information matrix is singular')
   // V = ZᵀWZ − (XᵀWZ)ᵀ (XᵀWX)⁻¹ (XᵀWZ), column by column
-  const column = new Float64Array(cols)
-  const solved = new Float64Array(cols * extraCols)
+  const column = slabFloat64(cols)
+  const solved = slabFloat64(cols * extraCols)
   for (let c = 0; c < extraCols; c++) {
     for (let a = 0; a < cols; a++) column[a] = xz[a * extraCols + c]!
     choleskySolve(xx, cols, column)
     for (let a = 0; a < cols; a++) solved[a * extraCols + c] = column[a]!
   }
-  const v = new Float64Array(extraCols * extraCols)
+  const v = slabFloat64(extraCols * extraCols)
   for (let c = 0; c < extraCols; c++) {
     for (let d = 0; d <= c; d++) {
       let value = zz[c * extraCols + d]!
@@ -115,7 +116,7 @@ export function poissonScoreTest(input: ScoreTestInput): ScoreTestResult {
     }
   }
   if (!cholesky(v, extraCols)) return { statistic: 0, degreesOfFreedom: extraCols, pValue: 1 }
-  const u = Float64Array.from(score)
+  const u = slabFloat64Copy(score)
   choleskySolve(v, extraCols, u)
   let statistic = 0
   for (let c = 0; c < extraCols; c++) statistic += score[c]! * u[c]!

@@ -8,6 +8,7 @@ import { poissonGlm, summarizeContrast } from './poisson-glm.ts'
 import type { CoefficientSummary, PoissonGlmFit } from './poisson-glm.ts'
 import { fSurvival } from './f-distribution.ts'
 import { chiSquareSurvival } from './chi-square-distribution.ts'
+import { slabFloat64 } from './typed-slab.ts'
 
 export interface SegmentedPoissonInput {
   /** observation times (e.g. month index), non-decreasing; several series may share a time */
@@ -325,17 +326,17 @@ export function segmentedPoisson(input: SegmentedPoissonInput): SegmentedPoisson
   }
   let meanTime = 0
   for (let i = 0; i < n; i++) meanTime += times[i]! / n
-  const design = new Float64Array(n * 3)
+  const design = slabFloat64(n * 3)
   for (let i = 0; i < n; i++) {
     design[i] = 1
     design[n + i] = times[i]! - meanTime
   }
   const linear = poissonGlm({ design: design.subarray(0, 2 * n), rows: n, cols: 2, counts, offset, priorWeights, start: input.linearStart })
 
-  const centredTime = new Float64Array(n)
-  const scanCounts = new Float64Array(n)
-  const scanOffset = new Float64Array(n)
-  const scanWeights = new Float64Array(n)
+  const centredTime = slabFloat64(n)
+  const scanCounts = slabFloat64(n)
+  const scanOffset = slabFloat64(n)
+  const scanWeights = slabFloat64(n)
   for (let i = 0; i < n; i++) {
     centredTime[i] = times[i]! - meanTime
     scanCounts[i] = counts[i]!
@@ -377,7 +378,7 @@ export function segmentedPoisson(input: SegmentedPoissonInput): SegmentedPoisson
     const y = scanCounts[i]!
     if (y > 0) constant += 2 * scanWeights[i]! * (y * Math.log(y) - y)
   }
-  const hinge = new Float64Array(n)
+  const hinge = slabFloat64(n)
   const beta = Float64Array.from([linear.coefficients[0]!, linear.coefficients[1]!, 0])
   let bestBreakpoint = Number.NaN
   let bestDeviance = Infinity
