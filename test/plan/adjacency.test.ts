@@ -105,7 +105,7 @@ describe('co-occurrence counted for a focus set', () => {
         fc.array(fc.uniqueArray(skill, { maxLength: 6 }), { minLength: 1, maxLength: 40 }),
         fc.uniqueArray(skill, { minLength: 1, maxLength: 4 }),
         (docs, focusList) => {
-          const focus = new Set(focusList)
+          const focus = new Set<string>(focusList)
           const full = countCoOccurrence(docs)
           const focused = countCoOccurrence(docs, focus)
           expect(focused.counts).toEqual(full.counts)
