@@ -591,20 +591,9 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
   const fitted = trend ? attempt(omitted, 'fitted curve', () => column(fittedIndex(trend, grid)), null) : null
   const combined = column(grid.combined)
   const forecast = analysis.forecast
-  // bands in the shape the plan stage reads (low/high = 95%) and the dashboard reads (lo80 … hi95);
-  // the curve's own forecast points are the same objects (thousands of curves wait for the
-  // cross-skill adjustment, so each keeps one copy). An explicit literal: spread is much slower.
-  const bands: (ForecastPoint & { low: number; high: number })[] = (forecast?.points ?? []).map((p) => ({
-    month: p.month,
-    monthsAhead: p.monthsAhead,
-    share: p.share,
-    lo80: p.lo80,
-    hi80: p.hi80,
-    lo95: p.lo95,
-    hi95: p.hi95,
-    low: p.lo95,
-    high: p.hi95,
-  }))
+  // bands in the shape the plan stage reads (low/high = 95%) and the dashboard reads (lo80 … hi95):
+  // forecast.ts builds each point once with both, and the curve's forecast and its details share them
+  const bands: ForecastPoint[] = forecast?.points ?? []
   const details: Record<string, unknown> = {
     model: trend
       ? `quasi-Poisson log-linear trend, common to ${grid.sources.map((s) => `${s.name} (index weight ${(100 * s.weight).toFixed(0)}%)`).join(' and ')}` +

@@ -24,6 +24,18 @@ export interface ForecastPoint {
   hi80: number
   lo95: number
   hi95: number
+  /** the 95% band again under the names the plan stage reads (low = lo95, high = hi95) */
+  low: number
+  high: number
+}
+
+/**
+ * One forecast point, built once: the curve keeps these very objects (thousands of curves wait for
+ * the cross-skill adjustment, so no second copy is made). An explicit literal with one key order for
+ * both methods keeps every point on one hidden class.
+ */
+function forecastPoint(month: string, monthsAhead: number, share: number, lo80: number, hi80: number, lo95: number, hi95: number): ForecastPoint {
+  return { month, monthsAhead, share, lo80, hi80, lo95, hi95, low: lo95, high: hi95 }
 }
 
 export interface ForecastResult {
@@ -68,15 +80,17 @@ function regressionForecast(grid: SkillGrid, trend: TrendFit, steps: number): Fo
       noise += (scale * scale * dispersion * value.sourceShares[s]!) / Math.max(1, recentTotals[s]!)
     }
     const sd = Math.sqrt(value.logVariance + noise / (value.share * value.share))
-    points.push({
-      month: gridMonth(grid, position),
-      monthsAhead: h,
-      share: value.share,
-      lo80: value.share * Math.exp(-Z80 * sd),
-      hi80: value.share * Math.exp(Z80 * sd),
-      lo95: value.share * Math.exp(-Z95 * sd),
-      hi95: value.share * Math.exp(Z95 * sd),
-    })
+    points.push(
+      forecastPoint(
+        gridMonth(grid, position),
+        h,
+        value.share,
+        value.share * Math.exp(-Z80 * sd),
+        value.share * Math.exp(Z80 * sd),
+        value.share * Math.exp(-Z95 * sd),
+        value.share * Math.exp(Z95 * sd),
+      ),
+    )
   }
   return points
 }
@@ -86,15 +100,17 @@ function holtForecast(grid: SkillGrid, holt: DampedHoltFit, steps: number): Fore
   const inner = band.intervals['0.8']!
   const outer = band.intervals['0.95']!
   // shares cannot go below zero; the additive-error intervals are cut there
-  return band.mean.map((mean, h) => ({
-    month: gridMonth(grid, grid.length + h),
-    monthsAhead: h + 1,
-    share: Math.max(0, mean),
-    lo80: Math.max(0, inner.lower[h]!),
-    hi80: Math.max(0, inner.upper[h]!),
-    lo95: Math.max(0, outer.lower[h]!),
-    hi95: Math.max(0, outer.upper[h]!),
-  }))
+  return band.mean.map((mean, h) =>
+    forecastPoint(
+      gridMonth(grid, grid.length + h),
+      h + 1,
+      Math.max(0, mean),
+      Math.max(0, inner.lower[h]!),
+      Math.max(0, inner.upper[h]!),
+      Math.max(0, outer.lower[h]!),
+      Math.max(0, outer.upper[h]!),
+    ),
+  )
 }
 
 /**
