@@ -25,16 +25,28 @@ export interface TheilSenResult {
 }
 
 /**
- * k-th smallest value (0-based) of values[0..length), rearranging them in place (Hoare's quickselect
- * with median-of-three pivots): O(n) on average, so three order statistics of the ~n²/2 pairwise
- * slopes cost less than sorting them.
+ * Several order statistics at once: for the ascending 0-based ranks ranks[from..to), writes the
+ * ranks[r]-th smallest of values[left..right] into out[r], rearranging the values in place. Hoare's
+ * quickselect with median-of-three pivots, recursing only into the parts that hold a wanted rank,
+ * so the median and the two confidence ranks share their first partitions (O(n) on average, and
+ * less work than three separate selections); parts of 16 values or fewer are insertion-sorted.
  */
-function selectKth(values: Float64Array, length: number, k: number, from = 0, to = length - 1): number {
-  let left = from
-  let right = to
-  while (right > left) {
+function selectRanks(values: Float64Array, left: number, right: number, ranks: Float64Array, from: number, to: number, out: Float64Array): void {
+  while (from < to) {
+    if (right - left < 16) {
+      for (let i = left + 1; i <= right; i++) {
+        const value = values[i]!
+        let j = i - 1
+        while (j >= left && values[j]! > value) {
+          values[j + 1] = values[j]!
+          j--
+        }
+        values[j + 1] = value
+      }
+      for (let r = from; r < to; r++) out[r] = values[ranks[r]!]!
+      return
+    }
     const middle = (left + right) >> 1
-    // median of three to the middle
     if (values[middle]! < values[left]!) swap(values, middle, left)
     if (values[right]! < values[left]!) swap(values, right, left)
     if (values[right]! < values[middle]!) swap(values, right, middle)
@@ -50,11 +62,16 @@ function selectKth(values: Float64Array, length: number, k: number, from = 0, to
         j--
       }
     }
-    if (k <= j) right = j
-    else if (k >= i) left = i
-    else return values[k]!
+    // values[left..j] <= pivot, values[j+1..i-1] = pivot, values[i..right] >= pivot
+    let low = from
+    while (low < to && ranks[low]! <= j) low++
+    let high = low
+    while (high < to && ranks[high]! < i) out[high++] = pivot
+    // the lower part recursively, the upper part in this loop
+    if (low > from) selectRanks(values, left, j, ranks, from, low, out)
+    left = i
+    from = high
   }
-  return values[k]!
 }
 
 function swap(values: Float64Array, a: number, b: number): void {
@@ -63,36 +80,27 @@ function swap(values: Float64Array, a: number, b: number): void {
   values[b] = kept
 }
 
-/** Smallest value of values[from..to]. */
-function minimumOf(values: Float64Array, from: number, to: number): number {
-  let smallest = values[from]!
-  for (let i = from + 1; i <= to; i++) if (values[i]! < smallest) smallest = values[i]!
-  return smallest
-}
-
-/**
- * Value at a fractional 1-based rank of values[0..length), by linear interpolation between
- * neighbouring order statistics; after selecting order statistic k, every value above index k is at
- * least as large, so the next one is the minimum of that part.
- */
-function atRank(values: Float64Array, length: number, rank: number, from: number, to: number): number {
-  if (rank < 1) return -Infinity
-  if (rank > length) return Infinity
-  const below = Math.floor(rank)
-  const fraction = rank - below
-  const low = selectKth(values, length, below - 1, from, to)
-  return fraction === 0 || below >= length ? low : low + fraction * (minimumOf(values, below, to) - low)
+/** k-th smallest (0-based) of values[0..length), rearranging them. */
+function selectKth(values: Float64Array, length: number, k: number): number {
+  ONE_RANK[0] = k
+  selectRanks(values, 0, length - 1, ONE_RANK, 0, 1, ONE_VALUE)
+  return ONE_VALUE[0]!
 }
 
 function medianOf(values: Float64Array, length: number): number {
   const middle = length >> 1
-  const upper = selectKth(values, length, middle)
-  if (length % 2 === 1) return upper
-  // everything below index `middle` is at most `upper`; the lower middle is their maximum
-  let lower = values[0]!
-  for (let i = 1; i < middle; i++) if (values[i]! > lower) lower = values[i]!
-  return 0.5 * (lower + upper)
+  if (length % 2 === 1) return selectKth(values, length, middle)
+  RANKS[0] = middle - 1
+  RANKS[1] = middle
+  selectRanks(values, 0, length - 1, RANKS, 0, 2, VALUES)
+  return 0.5 * (VALUES[0]! + VALUES[1]!)
 }
+
+const ONE_RANK = new Float64Array(1)
+const ONE_VALUE = new Float64Array(1)
+// up to six ranks: the interval's two bounds and the median, each with its upper neighbour
+const RANKS = new Float64Array(6)
+const VALUES = new Float64Array(6)
 
 // reused work arrays (a run computes one Theil–Sen slope per skill)
 let slopeScratch = new Float64Array(1024)
@@ -142,24 +150,70 @@ export function theilSen(
     }
   }
   if (count === 0) throw new RangeError('theilSen requires at least two distinct x values')
-  const slope = medianOf(slopes, count)
+  const variance = options.mannKendallVariance ?? mannKendall(Array.from(y), Array.from(x)).variance
+  const critical = normalQuantile(0.5 + level / 2) * Math.sqrt(variance)
+  const lowerRank = (count - critical) / 2
+  const upperRank = (count + critical) / 2 + 1
+  // the slopes' median and the order statistics the bounds interpolate between, in one selection
+  const middle = count >> 1
+  const lowerBelow = Math.floor(lowerRank)
+  const upperBelow = Math.floor(upperRank)
+  let wanted = 0
+  const want = (rank: number): void => {
+    if (rank >= 0 && rank < count) RANKS[wanted++] = rank
+  }
+  // 1-based rank r is 0-based r − 1; interpolation also needs the next one (0-based r)
+  if (lowerRank >= 1 && lowerRank <= count) {
+    want(lowerBelow - 1)
+    want(lowerBelow)
+  }
+  if (count % 2 === 0) want(middle - 1)
+  want(middle)
+  if (upperRank >= 1 && upperRank <= count) {
+    want(upperBelow - 1)
+    want(upperBelow)
+  }
+  // ascending and distinct, as selectRanks needs them
+  for (let r = 1; r < wanted; r++) {
+    const rank = RANKS[r]!
+    let q = r - 1
+    while (q >= 0 && RANKS[q]! > rank) {
+      RANKS[q + 1] = RANKS[q]!
+      q--
+    }
+    RANKS[q + 1] = rank
+  }
+  let distinct = 0
+  for (let r = 0; r < wanted; r++) if (r === 0 || RANKS[r]! !== RANKS[distinct - 1]!) RANKS[distinct++] = RANKS[r]!
+  selectRanks(slopes, 0, count - 1, RANKS, 0, distinct, VALUES)
+  const orderStatistic = (rank: number): number => {
+    for (let r = 0; r < distinct; r++) if (RANKS[r] === rank) return VALUES[r]!
+    return Number.NaN
+  }
+  const slope = count % 2 === 1 ? orderStatistic(middle) : 0.5 * (orderStatistic(middle - 1) + orderStatistic(middle))
+  /** value at a fractional 1-based rank, interpolated between neighbouring order statistics */
+  const atRank = (rank: number): number => {
+    if (rank < 1) return -Infinity
+    if (rank > count) return Infinity
+    const below = Math.floor(rank)
+    const fraction = rank - below
+    const low = orderStatistic(below - 1)
+    return fraction === 0 || below >= count ? low : low + fraction * (orderStatistic(below) - low)
+  }
+  const lower = atRank(lowerRank)
+  const upper = atRank(upperRank)
+  // (after the slopes: medianOf reuses RANKS and VALUES)
   if (valueScratch.length < n) valueScratch = new Float64Array(n)
   for (let i = 0; i < n; i++) valueScratch[i] = y[i]!
   const medianY = medianOf(valueScratch, n)
   for (let i = 0; i < n; i++) valueScratch[i] = x[i]!
   const intercept = medianY - slope * medianOf(valueScratch, n)
-  const variance = options.mannKendallVariance ?? mannKendall(Array.from(y), Array.from(x)).variance
-  const critical = normalQuantile(0.5 + level / 2) * Math.sqrt(variance)
-  const lowerRank = (count - critical) / 2
-  const upperRank = (count + critical) / 2 + 1
   return {
     slope,
     intercept,
     medianY,
-    // the median selection left the slopes partitioned: the lower bound lies in the lower half and
-    // the upper bound in the upper half, so each search covers only its half
-    lower: atRank(slopes, count, lowerRank, 0, Math.min(count - 1, count >> 1)),
-    upper: atRank(slopes, count, upperRank, Math.max(0, (count >> 1) - 1), count - 1),
+    lower,
+    upper,
     level,
     pairCount: count,
     lowerRank,

@@ -78,6 +78,36 @@ describe('theilSen', () => {
     expect(oddCases).toBeGreaterThan(10)
   })
 
+  it('selects the same order statistics as a full sort (Gilbert interpolated ranks), with ties, gaps and short series', () => {
+    // reference: every pairwise slope sorted, the bounds read at Gilbert's fractional 1-based ranks
+    // M1 = (N′ − C)/2 and M2 + 1 = (N′ + C)/2 + 1 and interpolated (Gilbert 1987 §16.5); the result's
+    // own ranks are used so that only the selection is under test
+    const random = seededRandom(77)
+    for (let trial = 0; trial < 300; trial++) {
+      const n = 3 + Math.floor(random.uniform() * 70)
+      // tied times (two values a month) every fifth trial, skipped months every third
+      const x = Array.from({ length: n }, (_, i) => (trial % 5 === 0 ? Math.floor(i / 2) : trial % 3 === 0 ? i + Math.floor(i / 4) : i))
+      const y = x.map((t) => (trial % 4 === 0 ? Math.round(random.uniform() * 3) : 0.02 * t + random.normal()))
+      const ours = theilSen(x, y, { level: [0.8, 0.9, 0.95, 0.99][trial % 4]! })
+      const sorted: number[] = []
+      for (let i = 0; i < n; i++) for (let j = i + 1; j < n; j++) if (x[j] !== x[i]) sorted.push((y[j]! - y[i]!) / (x[j]! - x[i]!))
+      sorted.sort((a, b) => a - b)
+      const count = sorted.length
+      expect(ours.pairCount).toBe(count)
+      const median = count % 2 === 1 ? sorted[count >> 1]! : (sorted[count / 2 - 1]! + sorted[count / 2]!) / 2
+      expect(ours.slope).toBe(median)
+      const at = (rank: number): number => {
+        if (rank < 1) return -Infinity
+        if (rank > count) return Infinity
+        const below = Math.floor(rank)
+        const low = sorted[below - 1]!
+        return rank === below || below >= count ? low : low + (rank - below) * (sorted[below]! - low)
+      }
+      expect(ours.lower).toBe(at(ours.lowerRank))
+      expect(ours.upper).toBe(at(ours.upperRank))
+    }
+  })
+
   it('widens the interval as the level rises and marks unreachable ranks as infinite', () => {
     const x = [1, 2, 3, 4, 5, 6, 7, 8, 9, 10]
     const y = [1, 3, 2, 5, 4, 7, 6, 9, 8, 11]
