@@ -5,6 +5,7 @@
  * Months with N = 0 are missing, not zero demand.
  */
 import { monthIndex, monthLabel } from './months.ts'
+import { slabFloat64 } from '../stats/typed-slab.ts'
 
 export type SourceName = 'external' | 'internal'
 export const SOURCES: readonly SourceName[] = ['external', 'internal']
@@ -130,8 +131,8 @@ export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillG
     if (counts.n.length !== indices.length || counts.N.length !== indices.length) {
       throw new SeriesInputError(`${where}: ${name}.n and ${name}.N need one value per month (${indices.length}), got ${counts.n.length} and ${counts.N.length}`)
     }
-    const n = new Float64Array(length)
-    const N = new Float64Array(length)
+    const n = slabFloat64(length)
+    const N = slabFloat64(length)
     indices.forEach((index, position) => {
       const mentions = counts.n[position]!
       const total = counts.N[position]!
@@ -144,7 +145,7 @@ export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillG
       n[slot] = mentions
       N[slot] = total
     })
-    const share = new Float64Array(length)
+    const share = slabFloat64(length)
     let observedMonths = 0
     let mentionTotal = 0
     for (let t = 0; t < length; t++) {
@@ -175,10 +176,10 @@ export function buildGrid(input: SkillSeriesInput, options: GridOptions): SkillG
   const weightSum = sources.reduce((sum, source) => sum + source.weight, 0)
   for (const source of sources) source.weight /= weightSum
   const combinedLevel = sources.reduce((sum, source) => sum + source.weight * source.level, 0)
-  const combined = new Float64Array(length)
-  const pooled = new Float64Array(length)
-  const mentions = new Float64Array(length)
-  const documents = new Float64Array(length)
+  const combined = slabFloat64(length)
+  const pooled = slabFloat64(length)
+  const mentions = slabFloat64(length)
+  const documents = slabFloat64(length)
   for (let t = 0; t < length; t++) {
     let value = sources.length ? 0 : Number.NaN
     let expected = 0

@@ -209,14 +209,19 @@ export function fitDampedHolt(values: ArrayLike<number>, options: DampedHoltOpti
     maxEvaluations: options.maxEvaluations ?? 100,
   })
   const decodedBest = decode(optimum.point)
-  const parameters = { alpha: decodedBest[0]!, beta: decodedBest[1]!, phi: decodedBest[2]! }
+  const alpha = decodedBest[0]!
+  const beta = decodedBest[1]!
+  const phi = decodedBest[2]!
   sseAt(decodedBest)
   const level0 = INITIAL[0]!
   const trend0 = INITIAL[1]!
-  const run = smoothSeries(values, { ...parameters, level0, trend0 })
+  // explicit literals: object spread costs more than the rest of the fit's bookkeeping
+  const run = smoothSeries(values, { alpha, beta, phi, level0, trend0 })
   return {
     trend,
-    ...parameters,
+    alpha,
+    beta,
+    phi,
     level0,
     trend0,
     sse: run.sse,

@@ -100,7 +100,7 @@ export function nelderMead(
         break
       }
     }
-    centroid.fill(0)
+    for (let j = 0; j < dimension; j++) centroid[j] = 0
     for (let r = 0; r < dimension; r++) {
       const vertex = simplex[order[r]!]!
       for (let j = 0; j < dimension; j++) centroid[j]! += vertex[j]! / dimension
