@@ -88,7 +88,7 @@ function pullInputs(db: Db, pullMonths: number): Map<string, PullInput> & { wind
  * matcher is built on the first untagged course only (about 3 s for 20,000 concepts), so a run
  * without untagged courses never builds it.
  */
-function titleMapper(db: Db, index: LabelIndex): { readonly method: string; map: (title: string) => { id: string; label: string }[] } {
+function titleMapper(db: Db, index: () => LabelIndex): { readonly method: string; map: (title: string) => { id: string; label: string }[] } {
   let map: ((title: string) => { id: string; label: string }[]) | undefined
   let method = 'the taxonomy matcher (not built: no untagged course)'
   const build = (): ((title: string) => { id: string; label: string }[]) => {
@@ -102,7 +102,8 @@ function titleMapper(db: Db, index: LabelIndex): { readonly method: string; map:
           .sort((a, b) => (a.id < b.id ? -1 : a.id > b.id ? 1 : 0))
     } catch {
       method = 'whole-word label matching (the taxonomy matcher could not be built)'
-      return (title) => mapTitle(index, title)
+      const labels = index()
+      return (title) => mapTitle(labels, title)
     }
   }
   return {
@@ -225,7 +226,9 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
   const candidates = findCandidates({ people, abilities, requirements, pathways }, cfg.reskilling, true)
 
   // courses
-  const index = buildLabelIndex(labels.keys(), store.readLabels(db))
+  // the label index resolves course tags: built on the first course (none: never built)
+  let labelIndex: LabelIndex | undefined
+  const index = (): LabelIndex => (labelIndex ??= buildLabelIndex(labels.keys(), store.readLabels(db)))
   const titles = titleMapper(db, index)
   const courseSkillRows = store.readCourseSkills(db)
   const adjacent = new Map<string, AdjacentRising[]>(pathways.map((p) => [p.skillId, p.targets.map((t) => ({ id: t.id, label: t.label, score: t.score, support: t.support }))]))
@@ -238,7 +241,7 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
     const unresolved: string[] = []
     if (tagged.length) {
       for (const t of tagged) {
-        const hit = resolveSkillRef(index, t.skill_ref)
+        const hit = resolveSkillRef(index(), t.skill_ref)
         resolution.resolved.push({ ref: t.skill_ref, skillId: hit?.id ?? null })
         if (!hit) unresolved.push(t.skill_ref)
         else if (!inputs.some((i) => i.id === hit.id)) inputs.push({ ref: t.skill_ref, id: hit.id, label: label(hit.id), inferred: false, curve: curves.get(hit.id) ?? null })

@@ -5,8 +5,8 @@
  */
 import { describe, it, expect } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
-import { readCurves } from '../../src/db/plan.ts'
-import { readSkillCurve, type CurveRecord } from '../../src/plan/curve-model.ts'
+import { readCurves, type CurveRecord } from '../../src/db/plan.ts'
+import { readSkillCurve } from '../../src/plan/curve-model.ts'
 
 const FORECAST = [1, 2, 3].map((h) => ({ month: `2025-0${h}`, monthsAhead: h, share: 0.01 * h, lo80: 0.008 * h, hi80: 0.012 * h, lo95: 0.007 * h, hi95: 0.013 * h, low: 0.007 * h, high: 0.013 * h }))
 
