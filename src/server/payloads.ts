@@ -4,7 +4,10 @@
  * candidate_terms.trend_json/examples_json) into the shapes the pages use. Unknown or malformed
  * content degrades to "not available" instead of failing the page.
  */
+import { monthIndex, monthLabel } from '../curves/months.ts'
 import { finite } from './format.ts'
+
+const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/
 
 export function parseJson(text: string | null | undefined): unknown {
   if (!text) return null
@@ -49,6 +52,13 @@ export function readMonthSeries(x: unknown, valueKeys: string[] = ['value', 'sha
       values.push(finite(pick(p, ...valueKeys)))
     }
     return { months, values }
+  }
+  if (isRecord(x) && typeof x['start'] === 'string' && MONTH.test(x['start'])) {
+    // the stored compact form of consecutive months (curves/stage.ts compactSeries)
+    const values = numArray(x['values'])
+    if (!values) return null
+    const first = monthIndex(x['start'])
+    return { months: values.map((_, i) => monthLabel(first + i)), values }
   }
   if (isRecord(x)) {
     const months = strArray(x['months'])

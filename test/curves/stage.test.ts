@@ -8,7 +8,8 @@ import { parseConfig } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
 import { emit } from '../../src/events/outbox.ts'
 import { ripple } from '../../src/pipeline.ts'
-import { runFit } from '../../src/curves/stage.ts'
+import { compactSeries, runFit } from '../../src/curves/stage.ts'
+import { readCurveDetails, readMonthSeries } from '../../src/server/payloads.ts'
 import { rebuildDemandCounts } from '../../src/db/curves.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
 import { monthRange } from './simulate.ts'
@@ -203,5 +204,30 @@ describe('fit stage', () => {
     expect(lines[0]).toMatch(/^id,label,state,annualGrowth,growthLow,growthHigh,halfLifeMonths/)
     expect(lines).toHaveLength(6)
     fs.rmSync(dir, { recursive: true, force: true })
+  })
+})
+
+describe('fitted and combined series stored compactly', () => {
+  it('stores consecutive months as their start, and the dashboard reads back the same months and values', () => {
+    const db = openDb(':memory:')
+    loadCorpus(db)
+    runFit(db, config, { now: NOW })
+    const row = db.prepare("SELECT details_json FROM curves WHERE concept_id = 'kubernetes'").get() as { details_json: string }
+    const stored = JSON.parse(row.details_json) as { fitted: { start: string; values: number[] }; combined: { start: string; values: number[] } }
+    expect(stored.fitted).toEqual({ start: '2023-01', values: expect.any(Array) })
+    expect(stored.fitted.values).toHaveLength(36)
+    const read = readCurveDetails(row.details_json)
+    expect(read.fitted!.months).toEqual(monthRange('2023-01', 36))
+    expect(read.combined!.months).toEqual(monthRange('2023-01', 36))
+    expect(read.fitted!.values).toEqual(stored.fitted.values)
+  })
+
+  it('leaves a series with a gap in its months, or without months, as it is', () => {
+    const gap = { months: ['2024-01', '2024-03'], values: [1, 2] }
+    expect(compactSeries(gap)).toBe(gap)
+    expect(compactSeries(null)).toBeNull()
+    expect(compactSeries({ months: ['2024-11', '2024-12', '2025-01'], values: [1, 2, 3] })).toEqual({ start: '2024-11', values: [1, 2, 3] })
+    expect(readMonthSeries({ start: '2024-11', values: [1, 2, 3] })).toEqual({ months: ['2024-11', '2024-12', '2025-01'], values: [1, 2, 3] })
+    expect(readMonthSeries({ start: '2024-13', values: [1] })).toBeNull()
   })
 })
