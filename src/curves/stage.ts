@@ -179,7 +179,10 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
   let changed = 0
   const writeStarted = performance.now()
   db.transaction(() => {
-    replaceCurves(db, result.curves.map((curve) => curveRow(curve, fittedAt)))
+    // rows made one at a time as they are written: each details string can go once it is stored
+    replaceCurves(db, (function* () {
+      for (const curve of result.curves) yield curveRow(curve, fittedAt)
+    })())
     for (const curve of result.curves) {
       states[curve.state] = (states[curve.state] ?? 0) + 1
       const before = previous.get(curve.id) ?? null
