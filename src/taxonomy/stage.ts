@@ -44,8 +44,6 @@ const BATCH = 1000
 const GROUP_DOCS = 10_000
 const MAP_CACHE_KIB = -131_072
 
-
-
 /** The text a document is mapped as: its title, a line break, its body. Offsets refer to this. */
 export function documentInput(d: Pick<DocumentToMap, 'title' | 'body' | 'skills_json'>): MapInput {
   let skills: unknown
@@ -108,8 +106,9 @@ export async function mapUnmapped(
       log(`map: ${total} documents over ${pool.size} worker threads`)
     } else matcher = matcherFromDb(db)
     let after = 0
-    // with workers, read ahead so that every worker has a batch while the main thread writes
-    const ahead = pool ? pool.size : 1
+    // with workers, read ahead so that every worker has batches while the main thread writes a
+    // group (a group's worth beyond what is being written)
+    const ahead = pool ? pool.size + Math.ceil(GROUP_DOCS / BATCH) : 1
     const inflight: { docs: DocumentToMap[]; results: Promise<MentionRow[][]> }[] = []
     const fetchNext = (): boolean => {
       const docs = unmappedAfter(db, after, BATCH)
