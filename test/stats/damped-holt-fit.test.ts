@@ -48,6 +48,23 @@ describe('fitDampedHolt', () => {
     }
   })
 
+  it('solves the initial states exactly on odd and even lengths with missing values (the two-halves sums)', () => {
+    // the concentrated SSE is computed as two interleaved half-series whose sums are combined
+    // algebraically; if any combined sum were wrong, the solved initial states would not minimise
+    // the SSE of the plain filter (smoothSeries), and the reported SSE would not be the filter's
+    const random = seededRandom(31)
+    for (const length of [9, 10, 25, 60, 61]) {
+      const series = Array.from({ length }, (_, t) => (t % 9 === 4 ? Number.NaN : 0.02 + 0.0004 * t + 0.002 * random.normal()))
+      const fit = fitDampedHolt(series, { maxEvaluations: 200 })
+      const direct = smoothSeries(series, { alpha: fit.alpha, beta: fit.beta, phi: fit.phi, level0: fit.level0, trend0: fit.trend0 })
+      expect(direct.sse).toBeCloseTo(fit.sse, 12)
+      for (const [dl, db] of [[1e-3, 0], [-1e-3, 0], [0, 1e-4], [0, -1e-4]] as const) {
+        const perturbed = smoothSeries(series, { alpha: fit.alpha, beta: fit.beta, phi: fit.phi, level0: fit.level0 + dl, trend0: fit.trend0 + db })
+        expect(perturbed.sse).toBeGreaterThan(fit.sse)
+      }
+    }
+  })
+
   it('recovers the parameters of a long simulated damped-trend series', () => {
     const random = seededRandom(21)
     const [alpha, betaStar, phi] = [0.3, 0.4, 0.9]
