@@ -70,7 +70,9 @@ export function batchedBursts(
     totalSum += d
   }
   const baseProbability = totalSum > 0 ? mentionSum / totalSum : 0
-  const emptyBoundaries = Array.from({ length: n + 1 }, (_, t) => t)
+  // period boundaries 0..n (a plain loop: Array.from with a mapping function is the slow generic path)
+  const emptyBoundaries = new Array<number>(n + 1)
+  for (let t = 0; t <= n; t++) emptyBoundaries[t] = t
   if (n === 0 || baseProbability === 0 || baseProbability === 1) {
     return { states: new Array<number>(n).fill(0), baseProbability, bursts: burstsFromStates([], emptyBoundaries) }
   }

@@ -322,7 +322,9 @@ export function summarizeCoefficient(
   index: number,
   options: { quasi?: boolean; level?: number } = {},
 ): CoefficientSummary {
-  return summarizeContrast(fit, Array.from({ length: fit.coefficients.length }, (_, j) => (j === index ? 1 : 0)), options)
+  const contrast = new Array<number>(fit.coefficients.length).fill(0)
+  contrast[index] = 1
+  return summarizeContrast(fit, contrast, options)
 }
 
 /**
