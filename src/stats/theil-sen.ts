@@ -105,6 +105,24 @@ const ONE_VALUE = new Float64Array(1)
 const RANKS = new Float64Array(6)
 const VALUES = new Float64Array(6)
 
+const CANDIDATE_RANKS = new Float64Array(6)
+
+/** The selected order statistic of 0-based rank `rank` (one of RANKS[0..distinct)). */
+function orderStatistic(rank: number, distinct: number): number {
+  for (let r = 0; r < distinct; r++) if (RANKS[r] === rank) return VALUES[r]!
+  return Number.NaN
+}
+
+/** Value at a fractional 1-based rank, interpolated between neighbouring selected order statistics. */
+function valueAtRank(rank: number, count: number, distinct: number): number {
+  if (rank < 1) return -Infinity
+  if (rank > count) return Infinity
+  const below = Math.floor(rank)
+  const fraction = rank - below
+  const low = orderStatistic(below - 1, distinct)
+  return fraction === 0 || below >= count ? low : low + fraction * (orderStatistic(below, distinct) - low)
+}
+
 // reused work arrays (a run computes one Theil–Sen slope per skill)
 let slopeScratch = new Float64Array(1024)
 let valueScratch = new Float64Array(64)
@@ -161,21 +179,17 @@ export function theilSen(
   const middle = count >> 1
   const lowerBelow = Math.floor(lowerRank)
   const upperBelow = Math.floor(upperRank)
+  // 1-based rank r is 0-based r − 1; interpolation also needs the next one (0-based r); ranks
+  // outside 0..count−1 are left out (no closures here: they would be allocated on every call)
   let wanted = 0
-  const want = (rank: number): void => {
-    if (rank >= 0 && rank < count) RANKS[wanted++] = rank
-  }
-  // 1-based rank r is 0-based r − 1; interpolation also needs the next one (0-based r)
-  if (lowerRank >= 1 && lowerRank <= count) {
-    want(lowerBelow - 1)
-    want(lowerBelow)
-  }
-  if (count % 2 === 0) want(middle - 1)
-  want(middle)
-  if (upperRank >= 1 && upperRank <= count) {
-    want(upperBelow - 1)
-    want(upperBelow)
-  }
+  const candidates = CANDIDATE_RANKS
+  candidates[0] = lowerRank >= 1 && lowerRank <= count ? lowerBelow - 1 : -1
+  candidates[1] = lowerRank >= 1 && lowerRank <= count ? lowerBelow : -1
+  candidates[2] = count % 2 === 0 ? middle - 1 : -1
+  candidates[3] = middle
+  candidates[4] = upperRank >= 1 && upperRank <= count ? upperBelow - 1 : -1
+  candidates[5] = upperRank >= 1 && upperRank <= count ? upperBelow : -1
+  for (let c = 0; c < 6; c++) if (candidates[c]! >= 0 && candidates[c]! < count) RANKS[wanted++] = candidates[c]!
   // ascending and distinct, as selectRanks needs them
   for (let r = 1; r < wanted; r++) {
     const rank = RANKS[r]!
@@ -189,22 +203,9 @@ export function theilSen(
   let distinct = 0
   for (let r = 0; r < wanted; r++) if (r === 0 || RANKS[r]! !== RANKS[distinct - 1]!) RANKS[distinct++] = RANKS[r]!
   selectRanks(slopes, 0, count - 1, RANKS, 0, distinct, VALUES)
-  const orderStatistic = (rank: number): number => {
-    for (let r = 0; r < distinct; r++) if (RANKS[r] === rank) return VALUES[r]!
-    return Number.NaN
-  }
-  const slope = count % 2 === 1 ? orderStatistic(middle) : 0.5 * (orderStatistic(middle - 1) + orderStatistic(middle))
-  /** value at a fractional 1-based rank, interpolated between neighbouring order statistics */
-  const atRank = (rank: number): number => {
-    if (rank < 1) return -Infinity
-    if (rank > count) return Infinity
-    const below = Math.floor(rank)
-    const fraction = rank - below
-    const low = orderStatistic(below - 1)
-    return fraction === 0 || below >= count ? low : low + fraction * (orderStatistic(below) - low)
-  }
-  const lower = atRank(lowerRank)
-  const upper = atRank(upperRank)
+  const slope = count % 2 === 1 ? orderStatistic(middle, distinct) : 0.5 * (orderStatistic(middle - 1, distinct) + orderStatistic(middle, distinct))
+  const lower = valueAtRank(lowerRank, count, distinct)
+  const upper = valueAtRank(upperRank, count, distinct)
   // (after the slopes: medianOf reuses RANKS and VALUES)
   if (valueScratch.length < n) valueScratch = new Float64Array(n)
   for (let i = 0; i < n; i++) valueScratch[i] = y[i]!
