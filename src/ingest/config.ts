@@ -65,13 +65,15 @@ export const ingestConfigSchema = z
     /**
      * JSON Lines files with at least this many bytes left to read are read, parsed and analysed
      * (text hash, shingles, MinHash) on a second thread while the main thread stores; `tides
-     * import` also checks them on both threads (0 = always; null = never). The default, 16 MiB
-     * (about 8,000 postings), leaves small files on one thread, where starting the worker (about
-     * 0.3 s) would cost more than it saves. The worker costs about a tenth more CPU in all (results
-     * are copied between threads) and takes parsing and hashing, about 40 % of the work, off the
-     * thread that writes.
+     * import` also checks them on both threads (0 = always; null = never). The default, 64 MiB
+     * (about 30,000 postings), leaves smaller files on one thread: measured into the N = 100,000
+     * benchmark database on a quiet 2-core machine, 10,000 new postings (22 MB) took 3.7 s on one
+     * thread and 4.1-4.6 s with the worker (its start, loading and compiling the modules again, costs
+     * more than it saves), 40,000 (91 MB) 9.1 s on one thread and 8.2-9.4 s with it; larger files
+     * (the ingest benchmark's 150 MB) use it. It costs about a tenth more CPU in all (results are copied between
+     * threads) and takes parsing and hashing, about 40 % of the work, off the thread that writes.
      */
-    parseWorkerMinBytes: z.number().int().min(0).nullable().default(16 * 1024 * 1024),
+    parseWorkerMinBytes: z.number().int().min(0).nullable().default(64 * 1024 * 1024),
     /** a title plus description longer than this is rejected (with the reason), not cut */
     maxTextChars: z.number().int().positive().default(100_000),
     dedupe: z
