@@ -142,6 +142,29 @@ export function readDocumentConcepts(db: Db, kind: 'posting' | 'request', sinceM
   return out
 }
 
+/**
+ * The concept lists adjacency is counted from: for every distinct document of a kind from
+ * `sinceMonth` on, the concepts it mentions directly (not by roll-up), in id order, only those among
+ * `concepts` when given (PPMI asks for pairs of a few hundred skills only). Documents with none of
+ * them give an empty list: the count of documents is every document of the window. The documents
+ * come from the (kind, month) index alone, without reading their rows.
+ */
+export function readConceptLists(db: Db, kind: 'posting' | 'request', sinceMonth: string | null, concepts: readonly string[] | null): string[][] {
+  // `+m.concept_id`: filter each document's mentions by the list, instead of probing the primary
+  // key once per listed concept and document (measured 15 times slower)
+  const only = concepts ? 'AND +m.concept_id IN (SELECT value FROM json_each(?))' : ''
+  const rows = db
+    .prepare(
+      `SELECT (SELECT json_group_array(m.concept_id) FROM mentions m WHERE m.document_id = d.id AND m.via <> 'rollup' ${only})
+       FROM documents d WHERE d.kind = ? AND d.month >= ? AND d.id NOT IN (SELECT id FROM documents WHERE duplicate_of IS NOT NULL)`,
+    )
+    .pluck()
+    .iterate(...(concepts ? [JSON.stringify(concepts)] : []), kind, sinceMonth ?? '') as IterableIterator<string>
+  const out: string[][] = []
+  for (const list of rows) out.push(list === '[]' ? [] : (JSON.parse(list) as string[]))
+  return out
+}
+
 /** The latest month with a distinct document of this kind, or null. */
 export function latestDocumentMonth(db: Db, kind: 'posting' | 'request'): string | null {
   const row = db.prepare('SELECT MAX(month) AS m FROM documents WHERE kind = ? AND duplicate_of IS NULL').get(kind) as { m: string | null }

@@ -18,9 +18,10 @@
  * Cost: counting is O(Σ_d k_d²) for documents with k_d skills; one PMI is O(1); one cosine is
  * O(min(deg a, deg b)) over the neighbour lists. With a focus set F (the skills whose adjacency is
  * asked for), only pairs with a member in F are counted: O(Σ_d k_d + Σ_d f_d·k_d) for f_d focus
- * skills in document d, and the pair table holds F's rows only. Support and PMI are then exact for a
- * pair with a member in F, the cosine for a pair with both in F (the vectors are F's rows); asking
- * for anything else is a RangeError, never a silently wrong number.
+ * skills in document d, and the pair table holds F's rows only. Support, PMI and cosine are then
+ * answered for pairs within F only (a RangeError otherwise, never a silently wrong number); for
+ * PMI the documents may even list their F skills alone (the plan reads them so), the cosine needs
+ * the whole lists (its vectors run over every skill).
  *
  * @example
  * ```ts
@@ -94,17 +95,14 @@ export function countCoOccurrence(documents: Iterable<readonly string[]>, focus?
   return focus === undefined ? { documents: n, counts, index, pairCounts } : { documents: n, counts, index, pairCounts, focus }
 }
 
-/** A RangeError when the pair was left out of the counting by the focus set. */
-function checkFocus(co: CoOccurrence, a: string, b: string, both: boolean): void {
-  if (!co.focus) return
-  const fa = co.focus.has(a)
-  const fb = co.focus.has(b)
-  if (both ? !(fa && fb) : !(fa || fb)) throw new RangeError(`co-occurrence of ${a} and ${b} was not counted: ${both ? 'both' : 'one'} must be in the focus set`)
+/** A RangeError for a pair outside the focus set (its counts may be missing or partial). */
+function checkFocus(co: CoOccurrence, a: string, b: string): void {
+  if (co.focus && !(co.focus.has(a) && co.focus.has(b))) throw new RangeError(`co-occurrence of ${a} and ${b} was not counted: both must be in the focus set`)
 }
 
 /** Documents mentioning both skills. */
 export function support(co: CoOccurrence, a: string, b: string): number {
-  checkFocus(co, a, b, false)
+  checkFocus(co, a, b)
   const i = co.index.get(a)
   const j = co.index.get(b)
   if (i === undefined || j === undefined || i === j) return 0
@@ -148,7 +146,7 @@ export function ppmi(co: CoOccurrence, a: string, b: string, minSupport: number)
 
 /** Cosine of the co-occurrence vectors of a and b, 0 below the minimum support. */
 export function cosine(co: CoOccurrence, a: string, b: string, minSupport: number): number {
-  checkFocus(co, a, b, true)
+  checkFocus(co, a, b)
   if (a === b || support(co, a, b) < minSupport) return 0
   const lists = neighbours(co)
   const va = lists.get(co.index.get(a)!)

@@ -49,11 +49,6 @@ function currentMonth(now: Date): string {
   return `${now.getUTCFullYear()}-${String(now.getUTCMonth() + 1).padStart(2, '0')}`
 }
 
-function minMonth(a: string | null, b: string | null): string | null {
-  if (a === null || b === null) return null
-  return a < b ? a : b
-}
-
 /**
  * Internal-request shares of each skill in the recent and the earlier window, from the demand
  * aggregates the map stage keeps (mapped original requests; the same population the fit uses).
@@ -136,12 +131,12 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
   const requirementSets = new Map<string, Set<string>>([...requirements].map(([role, m]) => [role, new Set(m.keys())]))
   const roles = [...new Set([...requirements.keys(), ...headByRole.keys()])].sort()
 
-  // postings: one read for both the adjacency window and the two suggestion windows
   const latestPosting = store.latestDocumentMonth(db, 'posting')
   const baseMonth = latestPosting ?? currentMonth(now)
   const adjacencyStart = cfg.adjacency.months > 0 && latestPosting ? addMonths(latestPosting, -(cfg.adjacency.months - 1)) : null
   const suggestionStart = latestPosting ? addMonths(latestPosting, -(2 * cfg.suggestions.recentMonths - 1)) : null
-  const postings = store.readDocumentConcepts(db, 'posting', minMonth(adjacencyStart, suggestionStart))
+  // the postings of the suggestion windows, with title and occupation: only when there are roles
+  const postings = roles.length > 0 ? store.readDocumentConcepts(db, 'posting', suggestionStart) : []
 
   const suggestions = suggestRequirements({ roles, requirements: requirementSets, postings, latestMonth: latestPosting, curves, labels }, cfg)
   const suggestedBySkill = new Map<string, RoleSuggestion[]>()
@@ -219,9 +214,10 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
   }
 
   // adjacency and pathways
-  const adjacencyDocs = adjacencyStart ? postings.filter((d) => d.month >= adjacencyStart) : postings
-  // pathways ask only for pairs of a declining and a rising skill: only those rows are counted
-  const co = countCoOccurrence(adjacencyDocs.map((d) => d.concepts), pathwaySkills(curves))
+  // pathways ask only for pairs of a declining and a rising skill: only those rows are counted, and
+  // PPMI needs nothing but those skills' own mentions (the cosine needs their whole vectors)
+  const focus = pathwaySkills(curves)
+  const co = countCoOccurrence(store.readConceptLists(db, 'posting', adjacencyStart, cfg.adjacency.method === 'ppmi' ? [...focus].sort() : null), focus)
   const pathways = buildPathways(co, curves, labels, cfg.adjacency)
   const candidates = findCandidates({ people, abilities, requirements, pathways }, cfg.reskilling, true)
 

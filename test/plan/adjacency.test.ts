@@ -99,7 +99,7 @@ describe('against a dense brute-force implementation', () => {
 
 describe('co-occurrence counted for a focus set', () => {
   const skill = fc.constantFrom('a', 'b', 'c', 'd', 'e', 'f')
-  it('gives the same support, PMI and cosine as the full count wherever it answers, and refuses elsewhere', () => {
+  it('gives the same support, PMI and cosine as the full count within the focus set (PMI also from focus-only lists), and refuses outside it', () => {
     fc.assert(
       fc.property(
         fc.array(fc.uniqueArray(skill, { maxLength: 6 }), { minLength: 1, maxLength: 40 }),
@@ -108,17 +108,23 @@ describe('co-occurrence counted for a focus set', () => {
           const focus = new Set<string>(focusList)
           const full = countCoOccurrence(docs)
           const focused = countCoOccurrence(docs, focus)
+          const onlyFocus = countCoOccurrence(docs.map((d) => d.filter((x) => focus.has(x))), focus)
           expect(focused.counts).toEqual(full.counts)
           expect(focused.documents).toBe(full.documents)
           for (const a of 'abcdef') {
             for (const b of 'abcdef') {
               if (a === b) continue
-              if (focus.has(a) || focus.has(b)) {
+              if (focus.has(a) && focus.has(b)) {
                 expect(support(focused, a, b)).toBe(support(full, a, b))
                 expect(pmi(focused, a, b)).toBe(pmi(full, a, b))
-              } else expect(() => support(focused, a, b)).toThrow(/not counted/)
-              if (focus.has(a) && focus.has(b)) expect(cosine(focused, a, b, 1)).toBeCloseTo(cosine(full, a, b, 1), 12)
-              else expect(() => cosine(focused, a, b, 1)).toThrow(RangeError)
+                expect(cosine(focused, a, b, 1)).toBeCloseTo(cosine(full, a, b, 1), 12)
+                // PMI from documents that list their focus skills alone, as the plan reads them
+                expect(pmi(onlyFocus, a, b)).toBe(pmi(full, a, b))
+                expect(support(onlyFocus, a, b)).toBe(support(full, a, b))
+              } else {
+                expect(() => support(focused, a, b)).toThrow(/not counted/)
+                expect(() => cosine(focused, a, b, 1)).toThrow(RangeError)
+              }
             }
           }
         },

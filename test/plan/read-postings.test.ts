@@ -1,0 +1,50 @@
+/**
+ * The two readings of the postings window the plan makes (db/plan.ts): the documents with their
+ * concepts for role suggestions, and the concept lists adjacency is counted from (every concept, or
+ * only the listed ones). Both leave out reposts and roll-ups and agree with each other.
+ */
+import { describe, it, expect } from 'vitest'
+import { openDb } from '../../src/db/connection.ts'
+import { readConceptLists, readDocumentConcepts } from '../../src/db/plan.ts'
+
+function corpus() {
+  const db = openDb(':memory:')
+  db.prepare("INSERT INTO sources (id, kind, location) VALUES ('fern', 'import', 'test')").run()
+  for (const id of ['data', 'python', 'sql', 'excel']) db.prepare("INSERT INTO concepts (id, pref_label, type) VALUES (?, ?, 'hard')").run(id, id)
+  const doc = db.prepare(
+    "INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, text_hash, duplicate_of, mapped_version) VALUES ('fern', ?, ?, ?, 'text', ?, ?, ?, ?, 1)",
+  )
+  const mention = db.prepare('INSERT INTO mentions (document_id, concept_id, count, first_offset, via) VALUES (?, ?, 1, 0, ?)')
+  let serial = 0
+  const add = (kind: string, month: string, concepts: [string, string][], duplicateOf: number | null = null) => {
+    const id = Number(doc.run(`d${serial}`, kind, `Role ${serial}`, `${month}-03`, month, `h${serial++}`, duplicateOf).lastInsertRowid)
+    for (const [concept, via] of concepts) mention.run(id, concept, via)
+    return id
+  }
+  add('posting', '2023-12', [['python', 'text']]) // before the window
+  const a = add('posting', '2024-01', [['python', 'text'], ['sql', 'text'], ['data', 'rollup']])
+  add('posting', '2024-01', [['python', 'text']], a) // a repost of a
+  add('posting', '2024-02', [['excel', 'text']])
+  add('posting', '2024-03', []) // mapped, no skill
+  add('request', '2024-02', [['sql', 'text']]) // another kind
+  add('posting', '2024-03', [['sql', 'skills'], ['python', 'text']])
+  return db
+}
+
+describe('reading the postings window for the plan', () => {
+  it('gives every original posting of the window, its direct concepts in id order, and the same lists both ways', () => {
+    const db = corpus()
+    const docs = readDocumentConcepts(db, 'posting', '2024-01')
+    expect(docs.map((d) => [d.month, d.concepts])).toEqual([
+      ['2024-01', ['python', 'sql']],
+      ['2024-02', ['excel']],
+      ['2024-03', []],
+      ['2024-03', ['python', 'sql']],
+    ])
+    expect(readConceptLists(db, 'posting', '2024-01', null).sort()).toEqual(docs.map((d) => d.concepts).sort())
+    // only the listed concepts; documents without any of them stay, empty (they count as documents)
+    expect(readConceptLists(db, 'posting', '2024-01', ['sql', 'data']).sort()).toEqual([['sql'], ['sql'], [], []].sort())
+    expect(readConceptLists(db, 'posting', null, ['python'])).toHaveLength(5)
+    expect(readConceptLists(db, 'request', null, null)).toEqual([['sql']])
+  })
+})
