@@ -73,10 +73,33 @@ function collectDemand(
  */
 export function readMonthlyDemand(db: Db): MonthlyDemand {
   const totalRows = db.prepare('SELECT series, month, total FROM demand_totals').all() as { series: string; month: string; total: number }[]
-  // primary-key order: one concept's rows arrive together
-  const countRows = db.prepare('SELECT concept_id, series, month, n FROM demand_counts').raw().iterate() as IterableIterator<[string, string, string, number]>
-  return collectDemand(db, totalRows, countRows)
+  return collectDemand(db, totalRows, countsByConcept(db))
 }
+
+/**
+ * The rows of `demand_counts`, fetched as one row per concept and series (its months and counts
+ * joined into one string, in primary-key order): a row handed from SQLite to JavaScript costs about
+ * a microsecond, and concepts x series are a fifth to a twentieth of concepts x series x months
+ * (N = 100,000 benchmark: 0.6 -> 0.33 s). Months not of the form NNNN-NN (which the fit leaves
+ * out, but the counts keep) come one row each, after all the others.
+ */
+function* countsByConcept(db: Db): Generator<[string, string, string, number]> {
+  const grouped = db
+    .prepare(
+      `SELECT concept_id, series, group_concat(CASE WHEN month GLOB '${MONTH_GLOB}' THEN month || ' ' || n END, ' ')
+       FROM demand_counts GROUP BY concept_id, series`,
+    )
+    .raw()
+    .iterate() as IterableIterator<[string, string, string | null]>
+  for (const [conceptId, series, joined] of grouped) {
+    if (joined === null) continue
+    const parts = joined.split(' ')
+    for (let i = 0; i + 1 < parts.length; i += 2) yield [conceptId, series, parts[i]!, Number(parts[i + 1])]
+  }
+  yield* db.prepare(`SELECT concept_id, series, month, n FROM demand_counts WHERE NOT month GLOB '${MONTH_GLOB}'`).raw().iterate() as IterableIterator<[string, string, string, number]>
+}
+
+const MONTH_GLOB = '[0-9][0-9][0-9][0-9]-[0-9][0-9]'
 
 const TOTALS_FROM_DOCUMENTS = `SELECT CASE kind WHEN 'posting' THEN 'external' ELSE 'internal' END AS series, month, COUNT(*) AS total
   FROM documents WHERE duplicate_of IS NULL AND mapped_version IS NOT NULL AND kind IN ('posting','request')

@@ -10,7 +10,7 @@ import { emit } from '../../src/events/outbox.ts'
 import { ripple } from '../../src/pipeline.ts'
 import { compactSeries, runFit } from '../../src/curves/stage.ts'
 import { readCurveDetails, readMonthSeries } from '../../src/server/payloads.ts'
-import { rebuildDemandCounts } from '../../src/db/curves.ts'
+import { readMonthlyDemand, rebuildDemandCounts, recomputeMonthlyDemand } from '../../src/db/curves.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
 import { monthRange } from './simulate.ts'
 import { seededRandom } from '../stats/seeded-random.ts'
@@ -137,6 +137,10 @@ describe('fit stage', () => {
     db.prepare("UPDATE documents SET mapped_version = NULL WHERE month = '2025-12' AND kind = 'posting'").run()
     db.prepare("UPDATE documents SET month = '2025-13' WHERE month = '2025-11' AND kind = 'request'").run()
     rebuildDemandCounts(db) // the updates above bypass the writers that keep the aggregates
+    // the month that is not YYYY-MM is read back too (fetched apart from the grouped months)
+    const read = readMonthlyDemand(db)
+    expect(read).toEqual(recomputeMonthlyDemand(db))
+    expect(read.mentions.get('sql')!.internal.get('2025-13')).toBeGreaterThan(0)
     const logs: string[] = []
     const result = runFit(db, config, { now: NOW, log: (message) => logs.push(message) })
     expect(result.status).toBe('partial')
@@ -146,6 +150,19 @@ describe('fit stage', () => {
     expect(charted.filter((row) => row.month === '2025-13')).toEqual([])
     expect(charted.filter((row) => row.series === 'internal')).toHaveLength(35)
     expect((db.prepare("SELECT state FROM curves WHERE concept_id = 'sql'").get() as { state: string }).state).toBe('steady')
+  })
+
+  it('reads back counts of months that are not YYYY-MM, with spaces in them or not, like the recomputation', () => {
+    const db = openDb(':memory:')
+    loadCorpus(db)
+    db.prepare("UPDATE documents SET month = 'late 2025' WHERE month = '2025-10' AND kind = 'request'").run()
+    db.prepare("UPDATE documents SET month = '2025-13' WHERE month = '2025-11' AND kind = 'request'").run()
+    rebuildDemandCounts(db)
+    const read = readMonthlyDemand(db)
+    expect(read).toEqual(recomputeMonthlyDemand(db))
+    expect(read.mentions.get('sql')!.internal.get('late 2025')).toBeGreaterThan(0)
+    expect(read.mentions.get('sql')!.internal.get('2025-13')).toBeGreaterThan(0)
+    expect(read.mentions.get('sql')!.internal.get('2025-09')).toBeGreaterThan(0)
   })
 
   it('runs when documents.mapped is announced, and the plan follows curves.fitted', async () => {
