@@ -83,6 +83,11 @@ describe('describeCurve', () => {
     expect(words).toContain('unlikely to be chance')
     expect(words).toContain('demand halves about every 23 months (95% interval 16 months to 35 months)')
     expect(words).toContain('changed course around Nov 2023')
+    expect(words).toContain('p = 0.004, below the 0.05 false-discovery level')
+    // a p-value shown as "< 0.001" reads "p < 0.001", never "p = < 0.001"
+    const tiny = describeCurve({ ...base, pAdjusted: 2e-9 }, 0.05).join(' ')
+    expect(tiny).toContain('at once, p < 0.001, below')
+    expect(tiny).not.toContain('= <')
   })
   it('warns when the trend may be chance or the interval spans zero', () => {
     const words = describeCurve({ ...base, state: 'steady', annualGrowth: 0.01, growthLow: -0.09, growthHigh: 0.11, pAdjusted: 0.4, halfLifeMonths: null }, 0.05).join(' ')

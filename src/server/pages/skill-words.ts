@@ -4,7 +4,14 @@
  * trend survives the false-discovery correction across all skills, the half-life of a decline, the
  * change point and the forecast. Written for readers who do not read p-values.
  */
+
 import * as f from '../format.ts'
+
+/** "p = 0.012", or "p < 0.001" (not "p = < 0.001"). */
+function pIs(p: number | null | undefined): string {
+  const text = f.pValue(p)
+  return text.startsWith('<') ? `p ${text}` : `p = ${text}`
+}
 
 export interface CurveSummary {
   state: string
@@ -46,11 +53,11 @@ export function describeCurve(c: CurveSummary, q: number): string[] {
   if (c.pAdjusted !== null && Number.isFinite(c.pAdjusted)) {
     out.push(
       c.pAdjusted < q
-        ? `This trend is unlikely to be chance: after correcting for testing every skill at once, p = ${f.pValue(c.pAdjusted)}, below the ${q} false-discovery level.`
-        : `This trend could well be chance: after correcting for testing every skill at once, p = ${f.pValue(c.pAdjusted)}, not below the ${q} false-discovery level. Treat its direction as uncertain.`,
+        ? `This trend is unlikely to be chance: after correcting for testing every skill at once, ${pIs(c.pAdjusted)}, below the ${q} false-discovery level.`
+        : `This trend could well be chance: after correcting for testing every skill at once, ${pIs(c.pAdjusted)}, not below the ${q} false-discovery level. Treat its direction as uncertain.`,
     )
   } else if (c.pValue !== null && Number.isFinite(c.pValue)) {
-    out.push(`Trend test p = ${f.pValue(c.pValue)} (not corrected for testing many skills).`)
+    out.push(`Trend test ${pIs(c.pValue)} (not corrected for testing many skills).`)
   }
   if (c.halfLifeMonths !== null && Number.isFinite(c.halfLifeMonths)) {
     const iv = c.halfLifeLow !== null || c.halfLifeHigh !== null ? ` (95% interval ${f.interval(c.halfLifeLow, c.halfLifeHigh, f.months)})` : ''
