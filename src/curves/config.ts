@@ -71,6 +71,12 @@ export const curvesConfigSchema = z
     minAnnualChange: z.number().min(0).default(0.05),
     /** 'steady' needs the growth interval inside ±steadyBand per year; wider and unflagged is insufficient-evidence */
     steadyBand: z.number().gt(0).default(0.25),
+    /**
+     * a skill already steady stays steady while its growth interval is inside ±steadyBand × (1 +
+     * steadyHysteresis) (±30% with the defaults): an interval hovering at the band's edge would
+     * otherwise flip steady <-> insufficient-evidence, and send a state change, on every run
+     */
+    steadyHysteresis: z.number().min(0).default(0.2),
     /** a declining skill whose fitted latest share is below this is 'fading' (0.5% of documents) */
     fadingShare: z.number().gt(0).lt(1).default(0.005),
     /** level of the Mann-Kendall test that must agree with the regression */

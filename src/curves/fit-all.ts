@@ -23,13 +23,14 @@ export interface FitAllResult {
 /**
  * Fit all skills with a shared window end (the latest month of any skill) and BH across skills.
  * A skill whose input is malformed is reported in `failures` and does not stop the others.
+ * `previous`: each skill's state at the last fit (the steady band's hysteresis needs it).
  *
  * @example
  * ```ts
  * fitAll(inputs, DEFAULT_CURVES_CONFIG).curves.filter((c) => c.state === 'declining')
  * ```
  */
-export function fitAll(inputs: readonly SkillSeriesInput[], config: CurvesConfig): FitAllResult {
+export function fitAll(inputs: readonly SkillSeriesInput[], config: CurvesConfig, previous: ReadonlyMap<string, string> = new Map()): FitAllResult {
   let lastMonth = -Infinity
   for (const input of inputs) {
     for (const month of input.months) {
@@ -52,6 +53,6 @@ export function fitAll(inputs: readonly SkillSeriesInput[], config: CurvesConfig
   }
   const pValues = described.map((skill) => (skill.curve.pValue !== null && Number.isFinite(skill.curve.pValue) ? skill.curve.pValue : Number.NaN))
   const adjusted = benjaminiHochberg(pValues, config.q).adjusted
-  const curves = described.map((skill, i) => decideSkill(skill, Number.isNaN(adjusted[i]!) ? null : adjusted[i]!, config))
+  const curves = described.map((skill, i) => decideSkill(skill, Number.isNaN(adjusted[i]!) ? null : adjusted[i]!, config, previous.get(skill.curve.id) ?? null))
   return { curves, failures, tested: pValues.filter((p) => !Number.isNaN(p)).length }
 }

@@ -665,8 +665,8 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
  * Decide a described skill's state with its BH-adjusted p-value; the half-life is reported only for
  * declining and fading skills.
  */
-export function decideSkill(described: DescribedSkill, pAdjusted: number | null, config: CurvesConfig): SkillCurve {
-  const decision = classifyState({ ...described.evidence, pAdjusted }, config)
+export function decideSkill(described: DescribedSkill, pAdjusted: number | null, config: CurvesConfig, previous: string | null = null): SkillCurve {
+  const decision = classifyState({ ...described.evidence, pAdjusted }, config, previous)
   const declining = decision.state === 'declining' || decision.state === 'fading'
   const curve = described.curve
   curve.state = decision.state

@@ -169,12 +169,12 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
   if (badMonths.length) log(`fit: left out documents whose month is not YYYY-MM: ${badMonths.slice(0, 5).map((m) => JSON.stringify(m)).join(', ')}${badMonths.length > 5 ? ', …' : ''}`)
   const inputs = seriesInputs(demand)
   log(`fit: ${inputs.length} skills over ${months.length} months (${months[0] ?? '-'} to ${months.at(-1) ?? '-'})`)
+  const previous = readCurveStates(db)
   const fitStarted = performance.now()
-  const result = fitAll(inputs, config.curves)
+  const result = fitAll(inputs, config.curves, previous)
   const fitMs = performance.now() - fitStarted
   for (const failure of result.failures) log(`fit: skill ${failure.id} skipped: ${failure.error}`)
   const fittedAt = (options.now ?? new Date()).toISOString()
-  const previous = readCurveStates(db)
   const states: Record<string, number> = {}
   let changed = 0
   const writeStarted = performance.now()

@@ -10,7 +10,10 @@
  *   is at least `minAnnualChange` per year;
  * - emerging: rising, and the skill rose from near zero within the last `emergence.windowMonths`;
  * - fading: declining, and its fitted latest share is below `fadingShare`;
- * - steady: not rising or declining, with the growth interval inside ±`steadyBand` per year.
+ * - steady: not rising or declining, with the growth interval inside ±`steadyBand` per year; a skill
+ *   that was steady at the last fit stays steady inside ±`steadyBand` × (1 + `steadyHysteresis`), so
+ *   that an interval at the band's edge does not flip the state on every run (hysteresis: one
+ *   threshold to become steady, a wider one to stop being steady).
  */
 import type { CurvesConfig } from './config.ts'
 
@@ -53,7 +56,7 @@ const pText = (p: number): string => (p < 0.0001 ? p.toExponential(1) : p.toPrec
  *   insufficientReason: null }, DEFAULT_CURVES_CONFIG).state // => 'declining'
  * ```
  */
-export function classifyState(evidence: StateEvidence, config: CurvesConfig): StateDecision {
+export function classifyState(evidence: StateEvidence, config: CurvesConfig, previous: string | null = null): StateDecision {
   if (evidence.insufficientReason !== null) return { state: 'insufficient-evidence', reason: evidence.insufficientReason, flagged: false }
   const { annualGrowth, growthLower, growthUpper, pAdjusted, mannKendall } = evidence
   if (annualGrowth === null || growthLower === null || growthUpper === null || pAdjusted === null) {
@@ -82,10 +85,13 @@ export function classifyState(evidence: StateEvidence, config: CurvesConfig): St
     }
     return { state: 'declining', reason: `share falls ${interval}; ${tests}`, flagged }
   }
-  const within = growthLower >= -config.steadyBand && growthUpper <= config.steadyBand
-  if (within || (regressionSignificant && mannKendallAgrees && !largeEnough)) {
+  const inside = (band: number) => growthLower >= -band && growthUpper <= band
+  const within = inside(config.steadyBand)
+  const kept = !within && previous === 'steady' && inside(config.steadyBand * (1 + config.steadyHysteresis))
+  if (within || kept || (regressionSignificant && mannKendallAgrees && !largeEnough)) {
     const why = regressionSignificant && mannKendallAgrees && !largeEnough ? `a trend smaller than ${percent(config.minAnnualChange)} a year` : 'no established trend'
-    return { state: 'steady', reason: `${why}: ${interval}`, flagged: false }
+    const stays = kept && why === 'no established trend' ? `; still steady: the interval is inside ±${percent(config.steadyBand * (1 + config.steadyHysteresis))}, the band a steady skill keeps (±${percent(config.steadyBand)} to become steady)` : ''
+    return { state: 'steady', reason: `${why}: ${interval}${stays}`, flagged: false }
   }
   const missing = !regressionSignificant ? `adjusted p ${pText(pAdjusted)} >= q ${config.q}` : 'Mann–Kendall does not agree'
   return { state: 'insufficient-evidence', reason: `trend not established (${missing}) and the interval is wider than ±${percent(config.steadyBand)} a year: ${interval}`, flagged: false }

@@ -55,6 +55,24 @@ describe('classifyState', () => {
     expect(classifyState({ ...declining, pAdjusted: null }, CONFIG).state).toBe('insufficient-evidence')
   })
 
+  it('a steady skill stays steady while its interval is inside the wider band (hysteresis); others need the band itself', () => {
+    // the interval -27% to +13%: outside ±25%, inside ±30% (= 25% x 1.2)
+    const edge: StateEvidence = { ...declining, annualGrowth: -0.09, growthLower: -0.27, growthUpper: 0.13, pAdjusted: 0.55, mannKendall: { s: -20, pValue: 0.4 } }
+    expect(classifyState(edge, CONFIG).state).toBe('insufficient-evidence')
+    expect(classifyState(edge, CONFIG, 'insufficient-evidence').state).toBe('insufficient-evidence')
+    expect(classifyState(edge, CONFIG, 'declining').state).toBe('insufficient-evidence')
+    const kept = classifyState(edge, CONFIG, 'steady')
+    expect(kept.state).toBe('steady')
+    expect(kept.reason).toMatch(/still steady: the interval is inside ±30%, the band a steady skill keeps \(±25% to become steady\)/)
+    // beyond the wider band it stops being steady; without hysteresis it would not be kept at all
+    expect(classifyState({ ...edge, growthLower: -0.31 }, CONFIG, 'steady').state).toBe('insufficient-evidence')
+    expect(classifyState(edge, curvesConfigSchema.parse({ steadyHysteresis: 0 }), 'steady').state).toBe('insufficient-evidence')
+    // inside the band itself nothing changes, and the reason says nothing about hysteresis
+    const inside = classifyState({ ...edge, growthLower: -0.2 }, CONFIG, 'steady')
+    expect(inside.state).toBe('steady')
+    expect(inside.reason).not.toMatch(/still steady/)
+  })
+
   it('thresholds come from the config', () => {
     const strict = curvesConfigSchema.parse({ q: 0.001 })
     expect(classifyState({ ...declining, pAdjusted: 0.002 }, strict).flagged).toBe(false)
