@@ -8,7 +8,7 @@
  * - a feed that is not well-formed is read again item by item, so one broken item, a truncated
  *   body or an entity bomb in one item costs that item only, with the reason recorded.
  */
-import Parser from 'rss-parser'
+import type Parser from 'rss-parser'
 import { parsePostingDate } from './dates.ts'
 import { type DocumentInput, ItemError, type ItemProblem } from './document.ts'
 import { extractJsonLdPosting, postingFromJsonLd } from './job-posting.ts'
@@ -42,8 +42,10 @@ interface AtomHook {
   parseItemAtom(entry: Record<string, unknown>): RawItem
 }
 
-function makeParser(): Parser<Record<string, unknown>, RawItem> {
-  const parser = new Parser<Record<string, unknown>, RawItem>({ customFields: { item: ['id'] } })
+/** rss-parser (and the XML libraries under it) loaded on the first feed: most runs read none */
+async function makeParser(): Promise<Parser<Record<string, unknown>, RawItem>> {
+  const { default: RssParser } = await import('rss-parser')
+  const parser = new RssParser<Record<string, unknown>, RawItem>({ customFields: { item: ['id'] } })
   // rss-parser turns Atom published/updated into ISO strings with `new Date(x).toISOString()`, which
   // throws on a bad date and would fail the whole feed; keep the raw strings and judge them here
   const hook = parser as unknown as AtomHook
@@ -142,7 +144,7 @@ export async function readFeed(text: string, file: string, fetchedAt: string, co
   const starts = itemStarts(xml, tag)
   let raw: RawItem[]
   try {
-    const feed = await makeParser().parseString(xml)
+    const feed = await (await makeParser()).parseString(xml)
     raw = feed.items
   } catch (err) {
     const reason = (err as Error).message.replace(/\s+/g, ' ').trim()
@@ -189,7 +191,7 @@ async function recover(
     try {
       // a fresh parser each time: xml2js keeps state after an error, and a reused parser was seen
       // to let an undeclared entity through as literal text on the next document
-      const feed = await makeParser().parseString(wrapped)
+      const feed = await (await makeParser()).parseString(wrapped)
       for (const item of feed.items) addItem(item, format, file, line, fetchedAt, items, problems)
     } catch (err) {
       problems.push({ file, line, reason: `item is not well-formed XML: ${(err as Error).message.replace(/\s+/g, ' ').replace(/ Line: \d+ Column: \d+ Char: .*$/, '').trim()}` })

@@ -8,7 +8,7 @@
  * when that is unique, otherwise the full IRI. Lines are those of the statement that carried each
  * triple (n3 reports the line where the statement ended).
  */
-import { Parser, type Quad } from 'n3'
+import type { Quad } from 'n3'
 import type { ConceptRecord, Problem, SkillType } from './types.ts'
 import type { RecordsResult } from './csv-loader.ts'
 
@@ -53,9 +53,10 @@ export async function parseSkosTurtle(text: string, file: string): Promise<Recor
     }
     return d
   }
-  // n3 parses a string with a callback asynchronously (in a microtask), delivering the quads
-  // before a syntax error and then the error; the lexer's current line is the line of the
-  // statement's end when a quad is delivered.
+  // n3 is loaded here, on the first SKOS file (most runs read none). It parses a string with a
+  // callback asynchronously (in a microtask), delivering the quads before a syntax error and then
+  // the error; the lexer's current line is the line of the statement's end when a quad is delivered.
+  const { Parser } = await import('n3')
   const parser = new Parser()
   const lexer = (parser as unknown as { _lexer: { _line: number } })._lexer
   const onQuad = (quad: Quad): void => {
