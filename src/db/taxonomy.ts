@@ -369,6 +369,28 @@ export function candidatesComputed(db: Db): { at: string; taxonomyVersion: numbe
 export function markCandidatesComputed(db: Db, at: string): void {
   setSetting(db, CANDIDATES_AT_KEY, at)
   setSetting(db, CANDIDATES_VERSION_KEY, String(taxonomyVersion(db)))
+  settleCandidates(db)
+}
+
+const CANDIDATES_OWED_KEY = 'candidates.owed'
+
+/**
+ * Records, in the transaction that maps documents, that the map run owes a decision on the
+ * candidate list (refresh it or keep it): a run killed after its last mapping commit and before
+ * that decision leaves the flag, and the next map run makes the decision although it maps nothing.
+ */
+export function markCandidatesOwed(db: Db): void {
+  setSetting(db, CANDIDATES_OWED_KEY, '1')
+}
+
+/** Whether a map run's decision on the candidate list is still owed (see {@link markCandidatesOwed}). */
+export function candidatesOwed(db: Db): boolean {
+  return getSetting(db, CANDIDATES_OWED_KEY) !== undefined
+}
+
+/** The decision on the candidate list has been made (refreshed, or kept as not due). */
+export function settleCandidates(db: Db): void {
+  stmt(db, 'DELETE FROM settings WHERE key = ?').run(CANDIDATES_OWED_KEY)
 }
 
 /** Terms the curator has dismissed (kept out of future candidate lists). */

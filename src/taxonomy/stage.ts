@@ -10,6 +10,7 @@
 import type { Db } from '../db/connection.ts'
 import {
   candidatesComputed,
+  candidatesOwed,
   countMappedCounted,
   countUnmapped,
   dropMentionConceptIndex,
@@ -17,9 +18,11 @@ import {
   dismissedTerms,
   iterateDocumentTexts,
   latestOriginalMonth,
+  markCandidatesOwed,
   markCandidatesComputed,
   replaceOpenCandidates,
   saveMappings,
+  settleCandidates,
   storedRules,
   taxonomyVersion,
   unmappedAfter,
@@ -135,6 +138,7 @@ export async function mapUnmapped(
       readyDocs = 0
       db.transaction(() => {
         // mentions and the demand aggregates they feed, in one transaction per group
+        markCandidatesOwed(db)
         for (const { docs, results } of group) {
           saveMappings(db, version, docs.map((d, i) => ({ id: d.id, rows: results[i]! })))
           for (const rows of results) {
@@ -229,10 +233,14 @@ async function run(ctx: StageContext): Promise<StageResult> {
   const counts = await mapUnmapped(ctx.db, ctx.config, ctx.log)
   let candidates = -1
   let kept = ''
-  if (counts.mapped > 0 && ctx.config.taxonomy.candidates.enabled) {
-    const due = candidatesDue(ctx.db, ctx.config)
-    if (due.due) candidates = refreshCandidates(ctx.db, ctx.config).candidates.length
-    else kept = `; candidate terms kept from ${due.computedAt} (recomputed every ${ctx.config.taxonomy.candidates.refreshHours} h or after a taxonomy change)`
+  // also when this run mapped nothing but an earlier one was stopped before deciding
+  if (counts.mapped > 0 || candidatesOwed(ctx.db)) {
+    if (ctx.config.taxonomy.candidates.enabled) {
+      const due = candidatesDue(ctx.db, ctx.config)
+      if (due.due) candidates = refreshCandidates(ctx.db, ctx.config).candidates.length
+      else kept = `; candidate terms kept from ${due.computedAt} (recomputed every ${ctx.config.taxonomy.candidates.refreshHours} h or after a taxonomy change)`
+    }
+    settleCandidates(ctx.db)
   }
   const after = ctx.trigger.includes('taxonomy.changed') ? ' after a taxonomy change' : ''
   const summary =

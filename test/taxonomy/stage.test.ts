@@ -107,6 +107,22 @@ describe('map stage', () => {
     expect(hasConceptIndex(db)).toBe(true)
   })
 
+  it('a map run stopped after its last mapping commit leaves the candidate decision owed; the next run makes it', async () => {
+    await ensureTaxonomy(db, config)
+    // what a run killed between its last commit and the candidate refresh leaves behind
+    await mapUnmapped(db, config, quiet, { threads: 1 })
+    expect(countUnmapped(db)).toBe(0)
+    expect(candidatesComputed(db)).toBeUndefined()
+    const next = await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    expect(next.counts['mapped']).toBe(0)
+    expect(next.counts['candidatesRecomputed']).toBe(1)
+    expect(candidatesComputed(db)).toBeDefined()
+    // decided: a further run with nothing to map leaves the list alone
+    const after = await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    expect(after.counts['candidatesRecomputed']).toBe(0)
+    expect(db.prepare("SELECT COUNT(*) FROM settings WHERE key = 'candidates.owed'").pluck().get()).toBe(0)
+  })
+
   it('builds the index again when a bulk map fails part-way', async () => {
     await ensureTaxonomy(db, config)
     db.exec("CREATE TRIGGER refuse BEFORE INSERT ON mentions WHEN NEW.concept_id = 'kubernetes' BEGIN SELECT RAISE(ABORT, 'disk trouble'); END")
