@@ -6,6 +6,11 @@
 
 const MONTH_PATTERN = /^(\d{4})-(0[1-9]|1[0-2])$/
 
+/** Whether a string is a month as YYYY-MM. */
+export function isMonth(month: string): boolean {
+  return MONTH_PATTERN.test(month)
+}
+
 /**
  * Month index of a 'YYYY-MM' string.
  *

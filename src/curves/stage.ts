@@ -14,7 +14,7 @@ import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
 import { fitAll } from './fit-all.ts'
 import type { SkillCurve } from './fit-skill.ts'
-import { monthIndex } from './months.ts'
+import { isMonth, monthIndex } from './months.ts'
 import type { SkillSeriesInput } from './series.ts'
 import type { SkillState } from './state.ts'
 
@@ -51,10 +51,9 @@ export function seriesInputs(demand: MonthlyDemand): SkillSeriesInput[] {
 
 /** The run's months that are well-formed YYYY-MM (documents with another month value are left out). */
 function validMonths(demand: MonthlyDemand): string[] {
-  return demand.months.filter((month) => MONTH.test(month))
+  return demand.months.filter((month) => isMonth(month))
 }
 
-const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/
 
 type MonthSeries = { months: readonly string[]; values: number[] }
 
@@ -75,7 +74,7 @@ export function compactSeries<T>(series: T): T | { start: string; values: number
   let consecutive = consecutiveLists.get(series.months)
   if (consecutive === undefined) {
     const first = monthIndex(series.months[0]!)
-    consecutive = series.months.every((month, i) => MONTH.test(month) && monthIndex(month) === first + i)
+    consecutive = series.months.every((month, i) => isMonth(month) && monthIndex(month) === first + i)
     consecutiveLists.set(series.months, consecutive)
   }
   return consecutive ? { start: series.months[0]!, values: series.values } : series
@@ -165,7 +164,7 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
   const demand = readMonthlyDemand(db)
   const readMs = performance.now() - started
   const months = validMonths(demand)
-  const badMonths = demand.months.filter((month) => !MONTH.test(month))
+  const badMonths = demand.months.filter((month) => !isMonth(month))
   if (badMonths.length) log(`fit: left out documents whose month is not YYYY-MM: ${badMonths.slice(0, 5).map((m) => JSON.stringify(m)).join(', ')}${badMonths.length > 5 ? ', …' : ''}`)
   const inputs = seriesInputs(demand)
   log(`fit: ${inputs.length} skills over ${months.length} months (${months[0] ?? '-'} to ${months.at(-1) ?? '-'})`)

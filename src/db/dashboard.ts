@@ -6,6 +6,7 @@
  */
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
+import { isMonth } from '../curves/months.ts'
 import type { CurveRow } from './curves.ts'
 
 const CACHE = new WeakMap<Db, Map<string, Statement>>()
@@ -178,7 +179,6 @@ export interface DemandPoint {
   total: number
 }
 
-const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/
 
 /**
  * Documents per month of a demand series (the running aggregate `demand_totals`, months in the
@@ -186,7 +186,7 @@ const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/
  */
 function seriesTotals(db: Db, series: 'external' | 'internal'): [string, number][] {
   const rows = stmt(db, 'SELECT month, total FROM demand_totals WHERE series = ? AND total > 0 ORDER BY month').raw().all(series) as [string, number][]
-  return rows.filter(([month]) => MONTH.test(month))
+  return rows.filter(([month]) => isMonth(month))
 }
 
 /** The months of a demand series, oldest first. */

@@ -4,10 +4,8 @@
  * candidate_terms.trend_json/examples_json) into the shapes the pages use. Unknown or malformed
  * content degrades to "not available" instead of failing the page.
  */
-import { monthIndex, monthLabel } from '../curves/months.ts'
+import { isMonth, monthIndex, monthLabel } from '../curves/months.ts'
 import { finite } from './format.ts'
-
-const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/
 
 export function parseJson(text: string | null | undefined): unknown {
   if (!text) return null
@@ -53,7 +51,7 @@ export function readMonthSeries(x: unknown, valueKeys: string[] = ['value', 'sha
     }
     return { months, values }
   }
-  if (isRecord(x) && typeof x['start'] === 'string' && MONTH.test(x['start'])) {
+  if (isRecord(x) && typeof x['start'] === 'string' && isMonth(x['start'])) {
     // the stored compact form of consecutive months (curves/stage.ts compactSeries)
     const values = numArray(x['values'])
     if (!values) return null
