@@ -24,6 +24,7 @@ import { F_BREAK, F_LIST } from './chars.ts'
 import { lexiconTags } from './english.ts'
 import { compareRates } from './log-likelihood-ratio.ts'
 import type { Matcher } from './matcher.ts'
+import { PhraseCounter, TOKEN_MIDDLE, TOKEN_STOP, TOKEN_VALID } from './phrase-counter.ts'
 
 const require = createRequire(import.meta.url)
 const NATURAL_STOPWORDS = (require('natural/lib/natural/util/stopwords.js') as { words: string[] }).words
@@ -116,6 +117,15 @@ function monthOf(index: number): string {
 
 const WORDY = /^[\p{L}][\p{L}\p{N}+#./&]*$|^[\p{N}]+[\p{L}][\p{L}\p{N}]*$/u
 
+/** The TOKEN_* properties of a folded token for the phrase counter (the rules of documentPhrases). */
+function classifyToken(folded: string): number {
+  let bits = 0
+  if (WORDY.test(folded) && !(folded.length < 2 && !/[+#]/.test(folded))) bits |= TOKEN_VALID
+  if (CANDIDATE_STOPWORDS.has(folded)) bits |= TOKEN_STOP
+  if (MIDDLE_WORDS.has(folded)) bits |= TOKEN_MIDDLE
+  return bits
+}
+
 /** The distinct candidate phrases of one document, with the offset of their first occurrence. */
 export function documentPhrases(matcher: Matcher, text: string): { text: string; phrases: Map<string, number> } {
   const { text: norm, tokens } = matcher.labelCoverage(text)
@@ -172,30 +182,27 @@ export function findCandidateTerms(docs: () => Iterable<CandidateDoc>, matcher: 
   const recentFrom = monthOf(recentFromIndex)
   const windowFrom = monthOf(monthIndex(latest) - Math.max(options.windowMonths ?? 24, recentMonths + 1) + 1)
 
-  // pass 1: document frequencies, recent and earlier
-  const recentDf = new Map<string, number>()
-  const earlierDf = new Map<string, number>()
+  // pass 1: document frequencies, recent and earlier, and documents per month
+  const counter = new PhraseCounter(classifyToken, maxPhrases)
+  const docsPerMonth = new Map<string, number>()
   let recentDocs = 0
   let earlierDocs = 0
   for (const d of docs()) {
     if (d.month > latest || d.month < windowFrom) continue
+    docsPerMonth.set(d.month, (docsPerMonth.get(d.month) ?? 0) + 1)
     const recent = d.month >= recentFrom
     if (recent) recentDocs++
     else earlierDocs++
-    const target = recent ? recentDf : earlierDf
-    for (const p of documentPhrases(matcher, d.text).phrases.keys()) target.set(p, (target.get(p) ?? 0) + 1)
-    if (recentDf.size + earlierDf.size > maxPhrases) {
-      for (const m of [recentDf, earlierDf]) for (const [p, n] of m) if (n === 1) m.delete(p)
-    }
+    const { text, tokens, covered } = matcher.coverTokens(d.text)
+    counter.addDocument(text, tokens, covered, recent)
   }
   const empty = { candidates: [], recentFrom, latestMonth: latest, recentDocs, earlierDocs, tested: 0 }
   if (recentDocs === 0 || earlierDocs === 0) return empty
 
   // test every phrase with enough recent support
   const tested: { term: string; a: number; b: number; g2: number; p: number; ratio: number }[] = []
-  for (const [term, a] of recentDf) {
-    if (a < minRecent || options.exclude?.has(term)) continue
-    const b = earlierDf.get(term) ?? 0
+  for (const { term, recent: a, earlier: b } of counter.recentCounts(minRecent)) {
+    if (options.exclude?.has(term)) continue
     const ratio = a / recentDocs / ((b + 0.5) / earlierDocs)
     const cmp = compareRates(a, recentDocs, b, earlierDocs)
     if (cmp.direction <= 0) continue
@@ -220,15 +227,13 @@ export function findCandidateTerms(docs: () => Iterable<CandidateDoc>, matcher: 
 
   // pass 2: monthly document frequency and examples for the chosen terms
   const chosenSet = new Map(chosen.map((c) => [c.term, { months: new Map<string, number>(), examples: [] as { month: string; snippet: string }[] }]))
-  const docsPerMonth = new Map<string, number>()
   // only documents that contain a chosen term's first word can contain the term: find them with
   // one regular expression before tokenising
   const firstWords = [...new Set(chosen.map((c) => c.term.split(' ')[0]!))].map((w) => w.replace(/[.*+?^${}()|[\]\\/]/g, '\\$&'))
   const prefilter = firstWords.length ? new RegExp(firstWords.join('|'), 'i') : null
-  for (const d of docs()) {
-    if (d.month > latest || d.month < windowFrom) continue
-    docsPerMonth.set(d.month, (docsPerMonth.get(d.month) ?? 0) + 1)
-    if (!prefilter || !prefilter.test(d.text)) continue
+  // (no chosen term: no second pass)
+  for (const d of prefilter ? docs() : []) {
+    if (d.month > latest || d.month < windowFrom || !prefilter!.test(d.text)) continue
     const { text, phrases } = documentPhrases(matcher, d.text)
     for (const [term, offset] of phrases) {
       const entry = chosenSet.get(term)

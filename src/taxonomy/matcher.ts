@@ -121,6 +121,7 @@ export class Matcher {
   readonly problems: Problem[]
   private readonly d: MatcherData
   private readonly buf = new TokenBuffer()
+  private covered = new Uint8Array(4096)
   private readonly matches = new MatchList()
   private readonly candLen = new Int32Array(MAX_CANDIDATES * 2)
   private readonly candLabel = new Int32Array(MAX_CANDIDATES * 2)
@@ -211,17 +212,19 @@ export class Matcher {
   }
 
   /**
-   * Tokens of a text with a flag per token telling whether any label of the taxonomy covers it
-   * (whatever the rules decide), for candidate-term discovery. Token texts are lower-cased ('' for
-   * covered tokens).
+   * Scans a text and marks each token that some label of the taxonomy covers (whatever the rules
+   * decide), for candidate-term discovery. Returns the NFKC text and views on the matcher's reused
+   * buffers, valid until its next call.
    */
-  labelCoverage(text: string): { text: string; tokens: { start: number; end: number; folded: string; flags: number; covered: boolean }[] } {
+  coverTokens(text: string): { text: string; tokens: TokenBuffer; covered: Uint8Array } {
     const norm = NON_ASCII.test(text) ? text.normalize('NFKC') : text
     const d = this.d
     const buf = this.buf
     scanText(norm, d.vocab, buf)
     const n = buf.count
-    const covered = new Uint8Array(n)
+    if (this.covered.length < n) this.covered = new Uint8Array(Math.max(n, this.covered.length * 2))
+    const covered = this.covered
+    covered.fill(0, 0, n)
     for (let i = 0; i < n; i++) {
       let best = 0
       const id = buf.id[i]!
@@ -248,14 +251,23 @@ export class Matcher {
           k++
         }
       }
-      for (let k = i; k < i + best; k++) covered[k] = 1
+      if (best > 0) covered.fill(1, i, i + best)
     }
+    return { text: norm, tokens: buf, covered }
+  }
+
+  /**
+   * Tokens of a text with a flag per token telling whether any label of the taxonomy covers it
+   * (see coverTokens). Token texts are folded as the scanner folds them ('' for covered tokens).
+   */
+  labelCoverage(text: string): { text: string; tokens: { start: number; end: number; folded: string; flags: number; covered: boolean }[] } {
+    const { text: norm, tokens: buf, covered } = this.coverTokens(text)
     const tokens = []
-    for (let i = 0; i < n; i++) {
+    for (let i = 0; i < buf.count; i++) {
       const start = buf.start[i]!
       const end = buf.end[i]!
       // covered tokens never start a phrase: skip building their text
-      tokens.push({ start, end, folded: covered[i] === 1 ? '' : norm.slice(start, end).toLowerCase(), flags: buf.flags[i]!, covered: covered[i] === 1 })
+      tokens.push({ start, end, folded: covered[i] === 1 ? '' : foldString(norm.slice(start, end)), flags: buf.flags[i]!, covered: covered[i] === 1 })
     }
     return { text: norm, tokens }
   }

@@ -97,21 +97,25 @@ export class TokenBuffer {
   start: Int32Array
   end: Int32Array
   flags: Uint8Array
+  /** the folded hash of each token's text (hashString of its folded form), for lookups in other vocabularies */
+  hash: Int32Array
 
   constructor(capacity = 4096) {
     this.id = new Int32Array(capacity)
     this.start = new Int32Array(capacity)
     this.end = new Int32Array(capacity)
     this.flags = new Uint8Array(capacity)
+    this.hash = new Int32Array(capacity)
   }
 
-  push(id: number, start: number, end: number, flags: number): void {
+  push(id: number, start: number, end: number, flags: number, hash: number): void {
     if (this.count === this.id.length) this.grow()
     const i = this.count++
     this.id[i] = id
     this.start[i] = start
     this.end[i] = end
     this.flags[i] = flags
+    this.hash[i] = hash
   }
 
   private grow(): void {
@@ -120,6 +124,7 @@ export class TokenBuffer {
     const st = new Int32Array(n); st.set(this.start); this.start = st
     const en = new Int32Array(n); en.set(this.end); this.end = en
     const fl = new Uint8Array(n); fl.set(this.flags); this.flags = fl
+    const h = new Int32Array(n); h.set(this.hash); this.hash = h
   }
 }
 
@@ -217,16 +222,16 @@ export function scanText(text: string, vocab: Vocabulary, out: TokenBuffer): voi
     const end = i
     abbreviation = hasJoinerDot
     if (parts === 0) {
-      out.push(vocab.find(text, start, end, whole), start, end, pending)
+      out.push(vocab.find(text, start, end, whole), start, end, pending, whole)
     } else {
       const id = vocab.find(text, start, end, whole)
-      if (id >= 0) out.push(id, start, end, pending)
+      if (id >= 0) out.push(id, start, end, pending, whole)
       else {
         partStart[parts] = pStart; partEnd[parts] = end; partHash[parts] = part
         for (let k = 0; k <= parts; k++) {
           const s = partStart[k]!
           const e = partEnd[k]!
-          if (e > s) out.push(vocab.find(text, s, e, partHash[k]!), s, e, k === 0 ? pending : 0)
+          if (e > s) out.push(vocab.find(text, s, e, partHash[k]!), s, e, k === 0 ? pending : 0, partHash[k]!)
         }
       }
     }
