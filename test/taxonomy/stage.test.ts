@@ -4,11 +4,11 @@ import os from 'node:os'
 import path from 'node:path'
 import { loadConfig } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
-import { candidatesComputed, conceptCount, countUnmapped, getCandidate, listCandidates, mentionSummary, replaceOpenCandidates, taxonomyVersion } from '../../src/db/taxonomy.ts'
+import { bumpTaxonomyVersion, candidatesComputed, conceptCount, countUnmapped, getCandidate, listCandidates, mentionSummary, replaceOpenCandidates, taxonomyVersion } from '../../src/db/taxonomy.ts'
 import { pendingFor } from '../../src/events/outbox.ts'
 import { importDocuments } from '../../src/ingest/import.ts'
 import { acceptAsAltLabel, acceptAsConcept, DecisionError, dismissCandidate } from '../../src/taxonomy/decisions.ts'
-import { candidatesDue, mapStage, mapUnmapped, refreshCandidates } from '../../src/taxonomy/stage.ts'
+import { candidatesDue, mapStage, mapUnmapped, refreshCandidates, TaxonomyChangedError } from '../../src/taxonomy/stage.ts'
 import { ensureTaxonomy, importTaxonomy, matcherFromDb } from '../../src/taxonomy/store.ts'
 
 const config = loadConfig({ db: ':memory:' })
@@ -90,6 +90,26 @@ describe('map stage', () => {
     expect(allMentions(db)).toEqual(allMentions(db2))
     // the index is what the by-concept readers use
     expect(db.prepare("EXPLAIN QUERY PLAN SELECT document_id FROM mentions WHERE concept_id = 'kubernetes'").all().map((r) => (r as { detail: string }).detail).join(' ')).toMatch(/mentions_concept/)
+  })
+
+  it('writes mentions with the foreign-key checks its own (none dangling) and restores them afterwards', async () => {
+    await ensureTaxonomy(db, config)
+    expect(db.pragma('foreign_keys', { simple: true })).toBe(1)
+    await mapUnmapped(db, config, quiet, { threads: 1, batch: 1, groupDocs: 1 })
+    expect(db.pragma('foreign_keys', { simple: true })).toBe(1)
+    expect(db.prepare('SELECT COUNT(*) FROM mentions').pluck().get()).toBeGreaterThan(5)
+    expect(db.pragma('foreign_key_check')).toEqual([])
+  })
+
+  it('stops with a clear error when the taxonomy changes during the run, writing nothing against the old one after the change', async () => {
+    await ensureTaxonomy(db, config)
+    const version = taxonomyVersion(db)
+    // another process changes the taxonomy after the first group's commit
+    const log = (m: string) => { if (m === 'map: 1/3') bumpTaxonomyVersion(db) }
+    await expect(mapUnmapped(db, config, log, { threads: 1, batch: 1, groupDocs: 1 })).rejects.toThrow(new TaxonomyChangedError(version, version + 1).message)
+    expect(countUnmapped(db)).toBe(2)
+    expect(db.prepare('SELECT COUNT(DISTINCT document_id) FROM mentions').pluck().get()).toBe(1)
+    expect(db.pragma('foreign_keys', { simple: true })).toBe(1)
   })
 
   it('an increment smaller than what is mapped keeps the index; a map after a stopped bulk map rebuilds it', async () => {
