@@ -170,48 +170,54 @@ export function seriesOfKind(kind: string): DemandSeries | null {
  * ```
  */
 export class DemandDelta {
-  private readonly counts = new Map<string, number>()
+  /** per series and month (key "series\0month"), the change per concept: one key string per document, not per mention */
+  private readonly counts = new Map<string, Map<string, number>>()
   private readonly totals = new Map<string, number>()
 
   /** Adds (sign +1) or removes (sign -1) one document of a kind and month with these concepts. */
   document(kind: string, month: string, conceptIds: Iterable<string>, sign: 1 | -1): void {
     const series = seriesOfKind(kind)
     if (!series) return
-    const suffix = `\u0000${series}\u0000${month}`
-    const tkey = `${series}\u0000${month}`
-    this.totals.set(tkey, (this.totals.get(tkey) ?? 0) + sign)
-    for (const id of conceptIds) {
-      const key = id + suffix
-      this.counts.set(key, (this.counts.get(key) ?? 0) + sign)
+    const key = `${series}\u0000${month}`
+    this.totals.set(key, (this.totals.get(key) ?? 0) + sign)
+    let perConcept = this.counts.get(key)
+    if (!perConcept) {
+      perConcept = new Map()
+      this.counts.set(key, perConcept)
     }
+    for (const id of conceptIds) perConcept.set(id, (perConcept.get(id) ?? 0) + sign)
   }
 
   get size(): number {
-    return this.counts.size + this.totals.size
+    let n = this.totals.size
+    for (const perConcept of this.counts.values()) n += perConcept.size
+    return n
   }
 
   /**
-   * Writes the collected changes (keys in primary-key order; rows that reach zero are deleted, as
+   * Writes the collected changes (in primary-key order; rows that reach zero are deleted, as
    * the full recomputation has no zero rows) and forgets them. Call inside the transaction that
    * changed the documents and mentions.
    * @returns the number of aggregate rows touched
    */
   apply(db: Db): number {
     let touched = 0
-    const zeroCounts: string[][] = []
-    const counts = [...this.counts].filter(([, d]) => d !== 0).sort((a, b) => (a[0] < b[0] ? -1 : a[0] > b[0] ? 1 : 0))
+    const counts: [string, string, string, number][] = []
+    for (const [key, perConcept] of this.counts) {
+      const [series, month] = key.split('\u0000') as [string, string]
+      for (const [id, d] of perConcept) if (d !== 0) counts.push([id, series, month, d])
+    }
+    const order = (a: string, b: string) => (a < b ? -1 : a > b ? 1 : 0)
+    counts.sort((a, b) => order(a[0], b[0]) || order(a[1], b[1]) || order(a[2], b[2]))
     // single-row statements: multi-row INSERTs measured slower here (see saveMappings in db/taxonomy.ts)
     const upsert = db.prepare('INSERT INTO demand_counts (concept_id, series, month, n) VALUES (?, ?, ?, ?) ON CONFLICT DO UPDATE SET n = n + excluded.n')
-    for (const [key, d] of counts) {
-      const parts = key.split('\u0000')
-      upsert.run(parts[0]!, parts[1]!, parts[2]!, d)
-      if (d < 0) zeroCounts.push(parts)
-    }
+    for (const [id, series, month, d] of counts) upsert.run(id, series, month, d)
     touched += counts.length
-    if (zeroCounts.length) {
+    if (counts.some((c) => c[3] < 0)) {
       const del = db.prepare('DELETE FROM demand_counts WHERE concept_id = ? AND series = ? AND month = ? AND n = 0')
       const negative = db.prepare('SELECT n FROM demand_counts WHERE concept_id = ? AND series = ? AND month = ?').pluck()
-      for (const [id, series, month] of zeroCounts) {
+      for (const [id, series, month, d] of counts) {
+        if (d >= 0) continue
         if (del.run(id, series, month).changes === 0 && ((negative.get(id, series, month) as number | undefined) ?? 0) < 0) {
           throw new Error(`demand aggregate for ${id} ${series} ${month} fell below zero: repair with 'tides run fit --rebuild'`)
         }
