@@ -173,6 +173,22 @@ export function unmappedAfter(db: Db, afterId: number, limit: number): DocumentT
   return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents WHERE mapped_version IS NULL AND +duplicate_of IS NULL AND id > ? ORDER BY id LIMIT ?').all(afterId, limit) as DocumentToMap[]
 }
 
+/**
+ * The id that ends the next batch after `afterId`: the `size`-th unmapped document (original or
+ * repost) or the last one, or undefined when none is left. Read from the unmapped index alone, so
+ * that the map's main thread touches no document row when worker threads read the texts
+ * (unmappedBetween); a batch then holds at most `size` originals.
+ */
+export function unmappedBatchEnd(db: Db, afterId: number, size: number): number | undefined {
+  const end = stmt(db, 'SELECT id FROM documents WHERE mapped_version IS NULL AND id > ? ORDER BY id LIMIT 1 OFFSET ?').pluck().get(afterId, size - 1) as number | undefined
+  return end ?? ((stmt(db, 'SELECT MAX(id) FROM documents WHERE mapped_version IS NULL AND id > ?').pluck().get(afterId) as number | null) ?? undefined)
+}
+
+/** The unmapped original documents with ids from `first` to `last`, in id order (a worker thread's read). */
+export function unmappedBetween(db: Db, first: number, last: number): DocumentToMap[] {
+  return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents WHERE mapped_version IS NULL AND +duplicate_of IS NULL AND id >= ? AND id <= ? ORDER BY id').all(first, last) as DocumentToMap[]
+}
+
 /** Original documents after `afterId`, mapped or not (for finding those a taxonomy change affects). */
 export function documentsAfter(db: Db, afterId: number, limit: number): DocumentToMap[] {
   return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents WHERE duplicate_of IS NULL AND id > ? ORDER BY id LIMIT ?').all(afterId, limit) as DocumentToMap[]

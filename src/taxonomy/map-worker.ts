@@ -5,19 +5,32 @@
  * transferable Int32Array (cloning the full results costs more than mapping them).
  */
 import { parentPort, workerData } from 'node:worker_threads'
+import Database from 'better-sqlite3'
+import { unmappedBetween } from '../db/taxonomy.ts'
 import { Matcher } from './matcher.ts'
 import { emptyRules, parseRules } from './rules.ts'
 import type { MapperSource, WorkerRequest, WorkerResponse } from './parallel.ts'
-import { encodeRows, mentionRows } from './rows.ts'
+import { documentInput, encodeRows, mentionRows } from './rows.ts'
 
 const source = workerData as MapperSource
 const rules = source.rulesText ? parseRules(source.rulesText, source.rulesFile) : emptyRules()
 const matcher = Matcher.build({ concepts: source.concepts, byId: new Map(source.concepts.map((c) => [c.id, c])) }, rules, { commonWords: new Set(source.commonWords) })
+// reading the texts here spares the main thread (which writes) the strings and their cloning
+const store = source.dbFile ? new Database(source.dbFile, { readonly: true, fileMustExist: true }) : null
 
 parentPort!.on('message', (req: WorkerRequest) => {
   try {
-    const rows = encodeRows(matcher, req.inputs.map((input) => mentionRows(matcher.map(input, { spans: false }))))
-    parentPort!.postMessage({ id: req.id, rows } satisfies WorkerResponse, [rows.buffer as ArrayBuffer])
+    let inputs = req.inputs ?? []
+    let ids: Float64Array | undefined
+    if (req.stored) {
+      if (!store) throw new Error('no database file to read the documents from')
+      const docs = unmappedBetween(store, req.stored.first, req.stored.last)
+      ids = new Float64Array(docs.map((d) => d.id))
+      inputs = docs.map(documentInput)
+    }
+    const rows = encodeRows(matcher, inputs.map((input) => mentionRows(matcher.map(input, { spans: false }))))
+    const res: WorkerResponse = { id: req.id, rows, ...(ids ? { ids } : {}) }
+    parentPort!.postMessage(res, ids ? [rows.buffer as ArrayBuffer, ids.buffer as ArrayBuffer] : [rows.buffer as ArrayBuffer])
   } catch (err) {
     parentPort!.postMessage({ id: req.id, error: err instanceof Error ? err.message : String(err) } satisfies WorkerResponse)
   }

@@ -17,23 +17,30 @@ export interface MapperSource {
   rulesFile: string
   /** the lexicon's answers for the taxonomy's one-word labels (see commonWordsFor) */
   commonWords: string[]
+  /** the database file, when workers read the documents' texts themselves (not for an in-memory database) */
+  dbFile?: string
 }
 
 export interface WorkerRequest {
   id: number
-  inputs: MapInput[]
+  /** the documents to map, sent */
+  inputs?: MapInput[]
+  /** or: the unmapped original documents with ids first..last, read by the worker from dbFile */
+  stored?: { first: number; last: number }
 }
 
 export interface WorkerResponse {
   id: number
   /** the batch's mention rows (see rows.ts encodeRows) */
   rows?: Int32Array
+  /** the ids of the documents read (with `stored`) */
+  ids?: Float64Array
   error?: string
 }
 
-/** Builds the message that lets a worker rebuild the same matcher. */
-export function mapperSource(taxonomy: Taxonomy, rulesText: string | null, rulesFile: string): MapperSource {
-  return { concepts: taxonomy.concepts, rulesText, rulesFile, commonWords: [...commonWordsFor(taxonomy)] }
+/** Builds the message that lets a worker rebuild the same matcher (and, with `dbFile`, read the documents). */
+export function mapperSource(taxonomy: Taxonomy, rulesText: string | null, rulesFile: string, dbFile?: string): MapperSource {
+  return { concepts: taxonomy.concepts, rulesText, rulesFile, commonWords: [...commonWordsFor(taxonomy)], ...(dbFile ? { dbFile } : {}) }
 }
 
 /** Default thread count: one per core, at most 8, at least 1. */
@@ -49,13 +56,16 @@ interface Slot {
 
 export class MapperPool {
   private readonly slots: Slot[] = []
-  private readonly waiting = new Map<number, { resolve: (r: MentionRow[][]) => void; reject: (e: Error) => void; slot: Slot }>()
-  private readonly queue: { req: WorkerRequest; resolve: (r: MentionRow[][]) => void; reject: (e: Error) => void }[] = []
+  private readonly waiting = new Map<number, { resolve: (r: WorkerResponse) => void; reject: (e: Error) => void; slot: Slot }>()
+  private readonly queue: { req: WorkerRequest; resolve: (r: WorkerResponse) => void; reject: (e: Error) => void }[] = []
   private readonly conceptIds: string[]
+  /** whether the workers read the documents from the database themselves (mapStored) */
+  readonly readsStore: boolean
   private nextId = 0
 
   private constructor(source: MapperSource, threads: number) {
     this.conceptIds = source.concepts.map((c) => c.id)
+    this.readsStore = source.dbFile !== undefined
     // The worker runs the TypeScript sources too. Hooks given by `--import` in a worker's execArgv
     // do not reach its entry module on Node 20, so a small bootstrap registers tsx in the worker
     // first and then imports the worker module.
@@ -84,7 +94,7 @@ export class MapperPool {
         this.waiting.delete(msg.id)
         w.slot.busy = false
         if (msg.error !== undefined) w.reject(new Error(`mapping worker: ${msg.error}`))
-        else w.resolve(decodeRows(msg.rows ?? new Int32Array(1), this.conceptIds))
+        else w.resolve(msg)
         this.pump()
       })
       worker.on('error', (err) => {
@@ -106,9 +116,24 @@ export class MapperPool {
   }
 
   /** Maps one batch on the next free worker; resolves to each document's mention rows. */
-  mapRows(inputs: MapInput[]): Promise<MentionRow[][]> {
+  async mapRows(inputs: MapInput[]): Promise<MentionRow[][]> {
+    const res = await this.request({ id: this.nextId++, inputs })
+    return decodeRows(res.rows ?? new Int32Array(1), this.conceptIds)
+  }
+
+  /**
+   * Maps the unmapped original documents with ids from `first` to `last`, read by the worker (the
+   * pool must have been started with `dbFile`); resolves to their ids and mention rows.
+   */
+  async mapStored(first: number, last: number): Promise<{ ids: number[]; rows: MentionRow[][] }> {
+    if (!this.readsStore) throw new Error('mapStored: this pool was started without a database file')
+    const res = await this.request({ id: this.nextId++, stored: { first, last } })
+    return { ids: [...(res.ids ?? [])], rows: decodeRows(res.rows ?? new Int32Array(1), this.conceptIds) }
+  }
+
+  private request(req: WorkerRequest): Promise<WorkerResponse> {
     return new Promise((resolve, reject) => {
-      this.queue.push({ req: { id: this.nextId++, inputs }, resolve, reject })
+      this.queue.push({ req, resolve, reject })
       this.pump()
     })
   }

@@ -4,7 +4,8 @@
  * `text` or `skills`, broader concepts via `rollup`), and a compact integer encoding of them that
  * worker threads send back without cloning thousands of small objects.
  */
-import type { DocumentMapping, Matcher } from './matcher.ts'
+import type { DocumentToMap } from '../db/taxonomy.ts'
+import type { DocumentMapping, MapInput, Matcher } from './matcher.ts'
 
 export interface MentionRow {
   conceptId: string
@@ -18,6 +19,19 @@ export function mentionRows(mapping: DocumentMapping): MentionRow[] {
   const rows: MentionRow[] = mapping.mentions.map((m) => ({ conceptId: m.conceptId, count: m.count, firstOffset: m.via === 'text' ? m.firstOffset : null, via: m.via }))
   for (const r of mapping.rollups) rows.push({ conceptId: r.conceptId, count: r.via.length, firstOffset: null, via: 'rollup' })
   return rows
+}
+
+/** The text a document is mapped as: its title, a line break, its body. Offsets refer to this. */
+export function documentInput(d: Pick<DocumentToMap, 'title' | 'body' | 'skills_json'>): MapInput {
+  let skills: unknown
+  if (d.skills_json) {
+    try {
+      skills = JSON.parse(d.skills_json)
+    } catch {
+      skills = d.skills_json
+    }
+  }
+  return { text: d.title ? `${d.title}\n${d.body}` : d.body, ...(skills !== undefined ? { skills } : {}) }
 }
 
 const VIA = ['text', 'skills', 'rollup'] as const

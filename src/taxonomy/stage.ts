@@ -26,14 +26,14 @@ import {
   storedRules,
   taxonomyVersion,
   unmappedAfter,
-  type DocumentToMap,
+  unmappedBatchEnd,
 } from '../db/taxonomy.ts'
 import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
 import type { Config } from '../config.ts'
 import { findCandidateTerms, type CandidateResult } from './candidates.ts'
 import type { MapInput, Matcher } from './matcher.ts'
-import { mentionRows, type MentionRow } from './rows.ts'
+import { documentInput, mentionRows, type MentionRow } from './rows.ts'
 import { defaultThreads, MapperPool, mapperSource } from './parallel.ts'
 import { ensureTaxonomy, matcherFromDb, storedTaxonomy } from './store.ts'
 
@@ -53,19 +53,6 @@ export class TaxonomyChangedError extends Error {
     super(`map: the taxonomy changed during this run (version ${from} -> ${to}); stopped before writing more mentions: run the map again to map against the new taxonomy`)
     this.name = 'TaxonomyChangedError'
   }
-}
-
-/** The text a document is mapped as: its title, a line break, its body. Offsets refer to this. */
-export function documentInput(d: Pick<DocumentToMap, 'title' | 'body' | 'skills_json'>): MapInput {
-  let skills: unknown
-  if (d.skills_json) {
-    try {
-      skills = JSON.parse(d.skills_json)
-    } catch {
-      skills = d.skills_json
-    }
-  }
-  return { text: d.title ? `${d.title}\n${d.body}` : d.body, ...(skills !== undefined ? { skills } : {}) }
 }
 
 export interface MapRunCounts {
@@ -123,33 +110,46 @@ export async function mapUnmapped(
     let matcher: Matcher | undefined
     if (total >= threshold && threads > 1) {
       const rules = storedRules(db)
-      pool = await MapperPool.start(mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)'), threads)
+      // workers read the texts themselves from a database file (an in-memory one is sent to them)
+      pool = await MapperPool.start(mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.memory ? undefined : db.name), threads)
       counts.workers = pool.size
       log(`map: ${total} documents over ${pool.size} worker threads`)
     } else matcher = matcherFromDb(db)
     let after = 0
     // with workers, read ahead so that every worker has batches while the main thread writes a
-    // group (a group's worth beyond what is being written)
-    const ahead = pool ? pool.size + Math.ceil(groupDocs / batchDocs) : 1
-    const inflight: { docs: DocumentToMap[]; results: Promise<MentionRow[][]> }[] = []
+    // group (two groups' worth beyond what is being written: when the workers read the texts, a
+    // batch waiting costs the main thread only its id range)
+    const ahead = pool ? pool.size + (pool.readsStore ? 2 : 1) * Math.ceil(groupDocs / batchDocs) : 1
+    const inflight: Promise<{ ids: number[]; rows: MentionRow[][] }>[] = []
+    // a batch that fails while an earlier one is awaited fails the run when its turn comes, not
+    // as an unhandled rejection before the cleanup below
+    const track = (p: Promise<{ ids: number[]; rows: MentionRow[][] }>) => { p.catch(() => {}); inflight.push(p) }
     const fetchNext = (): boolean => {
+      if (pool?.readsStore) {
+        const last = unmappedBatchEnd(db, after, batchDocs)
+        if (last === undefined) return false
+        track(pool.mapStored(after + 1, last))
+        after = last
+        return true
+      }
       const docs = unmappedAfter(db, after, batchDocs)
       if (docs.length === 0) return false
       after = docs[docs.length - 1]!.id
       const inputs = docs.map(documentInput)
-      inflight.push({ docs, results: pool ? pool.mapRows(inputs) : Promise.resolve(inputs.map((i) => mentionRows(matcher!.map(i, { spans: false })))) })
+      const ids = docs.map((d) => d.id)
+      track(pool ? pool.mapRows(inputs).then((rows) => ({ ids, rows })) : Promise.resolve({ ids, rows: inputs.map((i) => mentionRows(matcher!.map(i, { spans: false }))) }))
       return true
     }
     while (inflight.length < ahead && fetchNext());
     // finished batches are written together, up to groupDocs documents per transaction: each
     // commit writes every page the transaction touched (the by-concept index's pages are spread
     // thin), so fewer, larger commits write each page fewer times
-    let ready: { docs: DocumentToMap[]; results: MentionRow[][] }[] = []
+    let ready: { ids: number[]; rows: MentionRow[][] }[] = []
     let readyDocs = 0
     while (inflight.length > 0) {
-      const batch = inflight.shift()!
-      ready.push({ docs: batch.docs, results: await batch.results })
-      readyDocs += batch.docs.length
+      const batch = await inflight.shift()!
+      ready.push(batch)
+      readyDocs += batch.ids.length
       while (inflight.length < ahead && fetchNext());
       if (readyDocs < groupDocs && inflight.length > 0) continue
       const group = ready
@@ -160,15 +160,15 @@ export async function mapUnmapped(
         if (now !== version) throw new TaxonomyChangedError(version, now)
         // mentions and the demand aggregates they feed, in one transaction per group
         markCandidatesOwed(db)
-        for (const { docs, results } of group) {
-          saveMappings(db, version, docs.map((d, i) => ({ id: d.id, rows: results[i]! })))
-          for (const rows of results) {
+        for (const { ids, rows: perDoc } of group) {
+          saveMappings(db, version, ids.map((id, i) => ({ id, rows: perDoc[i]! })))
+          for (const rows of perDoc) {
             for (const r of rows) {
               if (r.via === 'rollup') counts.rollups++
               else counts.mentions++
             }
           }
-          counts.mapped += docs.length
+          counts.mapped += ids.length
         }
         if (counts.mapped >= total || inflight.length === 0) emit(db, 'documents.mapped', { mapped: counts.mapped, version, mentions: counts.mentions, rollups: counts.rollups })
       })()

@@ -6,6 +6,7 @@ import { loadConfig } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
 import { bumpTaxonomyVersion, candidatesComputed, conceptCount, countUnmapped, getCandidate, listCandidates, mentionSummary, replaceOpenCandidates, taxonomyVersion } from '../../src/db/taxonomy.ts'
 import { pendingFor } from '../../src/events/outbox.ts'
+import { rebuildDemandCounts } from '../../src/db/curves.ts'
 import { importDocuments } from '../../src/ingest/import.ts'
 import { acceptAsAltLabel, acceptAsConcept, DecisionError, dismissCandidate } from '../../src/taxonomy/decisions.ts'
 import { candidatesDue, mapStage, mapUnmapped, refreshCandidates, TaxonomyChangedError } from '../../src/taxonomy/stage.ts'
@@ -73,6 +74,31 @@ describe('map stage', () => {
     expect(many.workers).toBe(2)
     expect(many.mapped).toBe(one.mapped)
     expect(mentionSummary(db2)).toEqual(single)
+  }, 60_000)
+
+  it('maps a database file with workers that read the texts themselves, to the same mentions and aggregates', async () => {
+    await ensureTaxonomy(db, config)
+    await mapUnmapped(db, config, quiet, { threads: 1 })
+    const file = path.join(tmp, `workers-${Math.random().toString(36).slice(2)}.db`)
+    const fileDb = openDb(file)
+    const more = [...POSTINGS, ...POSTINGS.map((p, i) => ({ ...p, id: `${p.id}2`, description: `${p.description} Python and SQL ${i}.` }))]
+    const r = await importDocuments(fileDb, config, 'postings', postingsFile('file.jsonl', more), { skipBad: false })
+    expect(r.refused).toBe(false)
+    await ensureTaxonomy(fileDb, config)
+    const logs: string[] = []
+    const counts = await mapUnmapped(fileDb, config, (m) => logs.push(m), { threads: 2, threshold: 1, batch: 2, groupDocs: 2 })
+    expect(counts.workers).toBe(2)
+    expect(counts.mapped).toBe(6)
+    expect(countUnmapped(fileDb)).toBe(0)
+    // the first three documents map as they do on one thread over an in-memory database
+    const firstThree = (d: Db) => d.prepare('SELECT d.external_id, m.concept_id, m.count, m.first_offset, m.via FROM mentions m JOIN documents d ON d.id = m.document_id WHERE d.external_id IN (?, ?, ?) ORDER BY 1, 2').all('a', 'b', 'c')
+    expect(firstThree(fileDb)).toEqual(firstThree(db))
+    // the demand aggregates equal their full recomputation
+    const aggregates = (d: Db) => d.prepare('SELECT * FROM demand_counts ORDER BY 1, 2, 3').all()
+    const before = aggregates(fileDb)
+    rebuildDemandCounts(fileDb)
+    expect(aggregates(fileDb)).toEqual(before)
+    fileDb.close()
   }, 60_000)
 
   const hasConceptIndex = (d: Db) => d.prepare("SELECT COUNT(*) FROM sqlite_master WHERE type = 'index' AND name = 'mentions_concept'").pluck().get() === 1
