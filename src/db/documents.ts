@@ -184,13 +184,13 @@ export class DocumentStore {
     this.insertBandsStmt.run(...args)
   }
 
-  /** Ids of documents sharing at least one band key. */
-  candidates(keys: readonly number[]): number[] {
-    // one indexed lookup per band: measured six times cheaper inside a large write transaction
-    // than one `key IN (...)` query, whose list SQLite builds into a temporary b-tree on every call
-    const out = new Set<number>()
-    for (const k of DocumentStore.storedKeys(keys)) for (const id of this.pointStmt.all(k) as number[]) out.add(id)
-    return [...out]
+  /**
+   * Ids of documents with this key in this band. One indexed lookup per band: measured six times
+   * cheaper inside a large write transaction than one `key IN (...)` query, whose list SQLite builds
+   * into a temporary b-tree on every call.
+   */
+  bandDocuments(band: number, key: number): number[] {
+    return this.pointStmt.all(band * 0x1_0000_0000 + key) as number[]
   }
 
   signature(id: number): StoredSignature | undefined {

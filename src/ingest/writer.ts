@@ -11,7 +11,7 @@ import type { Db } from '../db/connection.ts'
 import { DocumentStore, tuneForBulkWrites, setSourceCursor } from '../db/documents.ts'
 import { emit } from '../events/outbox.ts'
 import { monthOf } from './dates.ts'
-import { type Analysis, Deduper } from './dedupe.ts'
+import { type Analysis, type DedupeLimits, Deduper } from './dedupe.ts'
 import { checkDocument, type DocumentInput, ItemError, type ItemProblem } from './document.ts'
 import { signatureToBytes } from './minhash.ts'
 import { ensureDedupeIndex } from './reindex.ts'
@@ -68,11 +68,12 @@ export class BatchWriter {
     private readonly sourceId: string,
     private readonly runId: number | null,
     private readonly onProgress: (counts: IngestCounts) => void = () => {},
+    limits: DedupeLimits = {},
   ) {
     ensureDedupeIndex(db, config.ingest.dedupe)
     tuneForBulkWrites(db, 64 * 1024)
     this.store = new DocumentStore(db, config.ingest.dedupe.bands)
-    this.deduper = new Deduper(this.store, config.ingest.dedupe)
+    this.deduper = new Deduper(this.store, config.ingest.dedupe, limits)
     this.batchSize = config.ingest.batchSize
     this.maxTextChars = config.ingest.maxTextChars
   }

@@ -1,7 +1,8 @@
-import { describe, expect, it } from 'vitest'
+import { describe, expect, it, vi } from 'vitest'
 import { parseConfig } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
-import { upsertSource } from '../../src/db/documents.ts'
+import { DocumentStore, upsertSource } from '../../src/db/documents.ts'
+import type { DedupeLimits } from '../../src/ingest/dedupe.ts'
 import type { DocumentInput } from '../../src/ingest/document.ts'
 import { BatchWriter } from '../../src/ingest/writer.ts'
 import { postingsWithReposts, setJaccard, shingles, stringJaccard } from './corpus.ts'
@@ -10,10 +11,10 @@ function posting(id: string, body: string, title = 'Role'): DocumentInput {
   return { externalId: id, kind: 'posting', title, body, postedAt: '2023-04-05T00:00:00.000Z', dateEstimated: false }
 }
 
-function writerFor(db: Db, sourceId: string, ingest: Record<string, unknown> = {}): BatchWriter {
+function writerFor(db: Db, sourceId: string, ingest: Record<string, unknown> = {}, limits: DedupeLimits = {}): BatchWriter {
   const config = parseConfig({ ingest: { batchSize: 100, ...ingest } })
   upsertSource(db, { id: sourceId, kind: 'jsonl', location: `${sourceId}.jsonl` })
-  return new BatchWriter(db, config, sourceId, null)
+  return new BatchWriter(db, config, sourceId, null, () => {}, limits)
 }
 
 function rows(db: Db): { id: number; external_id: string; duplicate_of: number | null; dup_similarity: number | null }[] {
@@ -219,5 +220,84 @@ describe('band rows written in sorted runs', () => {
     w.add(posting('again', words.join(' ')), { file: 's' })
     w.finish()
     expect(rows(db).at(-1)!.duplicate_of).toBe(150)
+  })
+})
+
+describe('candidates dismissed by their sketches', () => {
+  // reposts with 1 to 14 edited words in about 160: those with 10 to 14 (J about 0.45 to 0.6) share band keys below the threshold
+  const { lines } = postingsWithReposts(11, 600, 0.7, [1, 2, 3, 10, 11, 12, 13, 14])
+  const run = (limits: DedupeLimits, failAt?: string) => {
+    const db = openDb(':memory:')
+    const reads = vi.spyOn(DocumentStore.prototype, 'signature')
+    const w = writerFor(db, 's', {}, limits)
+    if (failAt) {
+      // a batch that fails inside its transaction, then is read again: what it stored is forgotten
+      db.exec(`CREATE TEMP TRIGGER refuse BEFORE INSERT ON documents WHEN NEW.external_id = '${failAt}' BEGIN SELECT RAISE(ABORT, 'refused'); END`)
+      expect(() => {
+        for (const l of lines) w.add(posting(l.identifier, l.description, l.title), { file: 's' })
+      }).toThrow(/refused/)
+      db.exec('DROP TRIGGER refuse')
+      const stored = db.prepare('SELECT COUNT(*) FROM documents').pluck().get() as number
+      for (const l of lines.slice(stored)) w.add(posting(l.identifier, l.description, l.title), { file: 's' })
+    } else {
+      for (const l of lines) w.add(posting(l.identifier, l.description, l.title), { file: 's' })
+    }
+    w.finish()
+    const n = reads.mock.calls.length
+    reads.mockRestore()
+    return { rows: rows(db), reads: n }
+  }
+
+  it('decide as the full signatures do, reading fewer of them', () => {
+    // every candidate in the cache of recent postings; then sketches only; then neither
+    const cached = run({})
+    const sketched = run({ cacheSize: 1 })
+    const read = run({ cacheSize: 1, sketchBytes: 1 })
+    expect(cached.rows.filter((r) => r.duplicate_of !== null && r.dup_similarity! < 1).length).toBeGreaterThan(40)
+    expect(cached.reads).toBe(0)
+    expect(sketched.rows).toEqual(cached.rows)
+    expect(read.rows).toEqual(cached.rows)
+    // the sketches dismiss candidates below the threshold; those left are read for their signature and root
+    expect(read.reads).toBeGreaterThan(200)
+    // (460 and 316 when written: most of these candidates are reposts that pass the estimate)
+    expect(sketched.reads).toBeLessThan(read.reads * 0.8)
+  })
+
+  it('a rolled-back batch leaves no sketch behind (its ids are reused by other postings)', () => {
+    const sketched = run({ cacheSize: 1 }, lines[350]!.identifier)
+    expect(sketched.rows).toEqual(run({}).rows)
+  })
+})
+
+describe('the band filter', () => {
+  it('loaded from the database, it leaves the decisions as they are and looks up only the bands it holds', () => {
+    const { lines } = postingsWithReposts(13, 500, 0.4, [1, 2, 3, 10, 12, 14])
+    const run = (filterAfter: number | undefined) => {
+      const db = openDb(':memory:')
+      const first = writerFor(db, 's')
+      for (const l of lines.slice(0, 250)) first.add(posting(l.identifier, l.description, l.title), { file: 's' })
+      // a request with a later posting's text: not a repost of it
+      first.add({ ...posting('req', lines[260]!.description, lines[260]!.title), kind: 'request' }, { file: 's' })
+      first.finish()
+      const queries = vi.spyOn(DocumentStore.prototype, 'bandDocuments')
+      const next = writerFor(db, 's', {}, { filterAfter })
+      for (const l of lines.slice(250)) next.add(posting(l.identifier, l.description, l.title), { file: 's' })
+      // exact reposts of stored postings, from the table and from this run
+      next.add(posting('again-10', lines[10]!.description, lines[10]!.title), { file: 's' })
+      next.add(posting('again-400', lines[400]!.description, lines[400]!.title), { file: 's' })
+      next.finish()
+      const n = queries.mock.calls.length
+      queries.mockRestore()
+      return { rows: rows(db), queries: n }
+    }
+    const filtered = run(0)
+    const plain = run(undefined)
+    expect(filtered.rows).toEqual(plain.rows)
+    expect(plain.rows.at(-2)).toMatchObject({ duplicate_of: 11, dup_similarity: 1 })
+    expect(plain.rows.at(-1)!.dup_similarity).toBe(1)
+    expect(plain.rows.filter((r) => r.duplicate_of !== null && r.dup_similarity! < 1).length).toBeGreaterThan(20)
+    // without the filter every band of every posting but the exact reposts is looked up
+    expect(plain.queries).toBe(250 * 10)
+    expect(filtered.queries).toBeLessThan(plain.queries / 4)
   })
 })
