@@ -7,14 +7,11 @@
 import { parentPort, workerData } from 'node:worker_threads'
 import Database from 'better-sqlite3'
 import { unmappedBetween } from '../db/taxonomy.ts'
-import { Matcher } from './matcher.ts'
-import { emptyRules, parseRules } from './rules.ts'
-import type { MapperSource, WorkerRequest, WorkerResponse } from './parallel.ts'
+import { matcherFromSource, type MapperSource, type WorkerRequest, type WorkerResponse } from './parallel.ts'
 import { documentInput, encodeRows, mentionRows } from './rows.ts'
 
 const source = workerData as MapperSource
-const rules = source.rulesText ? parseRules(source.rulesText, source.rulesFile) : emptyRules()
-const matcher = Matcher.build({ concepts: source.concepts, byId: new Map(source.concepts.map((c) => [c.id, c])) }, rules, { commonWords: new Set(source.commonWords) })
+const matcher = matcherFromSource(source)
 // reading the texts here spares the main thread (which writes) the strings and their cloning
 const store = source.dbFile ? new Database(source.dbFile, { readonly: true, fileMustExist: true }) : null
 

@@ -6,8 +6,11 @@
  */
 import os from 'node:os'
 import { Worker } from 'node:worker_threads'
+import type { Config } from '../config.ts'
+import type { CandidateResult } from './candidates.ts'
 import { commonWordsFor } from './matcher-build.ts'
-import type { MapInput } from './matcher.ts'
+import { Matcher, type MapInput } from './matcher.ts'
+import { emptyRules, parseRules } from './rules.ts'
 import { decodeRows, type MentionRow } from './rows.ts'
 import type { Concept, Taxonomy } from './types.ts'
 
@@ -43,6 +46,52 @@ export function mapperSource(taxonomy: Taxonomy, rulesText: string | null, rules
   return { concepts: taxonomy.concepts, rulesText, rulesFile, commonWords: [...commonWordsFor(taxonomy)], ...(dbFile ? { dbFile } : {}) }
 }
 
+/** The matcher a worker builds from a MapperSource (the same as matcherFromDb's for that taxonomy and rules). */
+export function matcherFromSource(source: MapperSource): Matcher {
+  const rules = source.rulesText ? parseRules(source.rulesText, source.rulesFile) : emptyRules()
+  return Matcher.build({ concepts: source.concepts, byId: new Map(source.concepts.map((c) => [c.id, c])) }, rules, { commonWords: new Set(source.commonWords) })
+}
+
+/**
+ * Starts a worker thread on a TypeScript module of this directory. Hooks given by `--import` in a
+ * worker's execArgv do not reach its entry module on Node 20, so a small bootstrap registers tsx in
+ * the worker first and then imports the module.
+ */
+function startWorker(module: string, workerData: unknown): Worker {
+  const target = new URL(module, import.meta.url).href
+  const api = import.meta.resolve('tsx/esm/api')
+  const bootstrap = `import(${JSON.stringify(api)}).then((m) => { m.register(); return import(${JSON.stringify(target)}) })`
+  return new Worker(bootstrap, { eval: true, workerData })
+}
+
+export interface BackgroundCandidates {
+  /** the candidate list, computed from the database file */
+  result: Promise<CandidateResult>
+  /** stops the thread (at once when its result is not wanted) */
+  stop(): Promise<void>
+}
+
+/** Candidate terms computed in a worker thread with its own read-only connection to `source.dbFile` (see candidate-worker.ts). */
+export function candidatesInBackground(source: MapperSource, config: Config): BackgroundCandidates {
+  const worker = startWorker('./candidate-worker.ts', { source, config } satisfies CandidateWorkerData)
+  const result = new Promise<CandidateResult>((resolve, reject) => {
+    worker.once('message', (msg: { result?: CandidateResult; error?: string }) => {
+      if (msg.error !== undefined || !msg.result) reject(new Error(`candidate terms worker: ${msg.error ?? 'no result'}`))
+      else resolve(msg.result)
+    })
+    worker.once('error', reject)
+    worker.once('exit', (code) => reject(new Error(`candidate terms worker stopped (exit code ${code}) before its result`)))
+  })
+  // not awaited when the run fails or the list is not wanted after all
+  result.catch(() => {})
+  return { result, stop: async () => { await worker.terminate() } }
+}
+
+export interface CandidateWorkerData {
+  source: MapperSource
+  config: Config
+}
+
 /** Default thread count: one per core, at most 8, at least 1. */
 export function defaultThreads(): number {
   return Math.max(1, Math.min(8, os.availableParallelism?.() ?? os.cpus().length))
@@ -66,14 +115,8 @@ export class MapperPool {
   private constructor(source: MapperSource, threads: number) {
     this.conceptIds = source.concepts.map((c) => c.id)
     this.readsStore = source.dbFile !== undefined
-    // The worker runs the TypeScript sources too. Hooks given by `--import` in a worker's execArgv
-    // do not reach its entry module on Node 20, so a small bootstrap registers tsx in the worker
-    // first and then imports the worker module.
-    const target = new URL('./map-worker.ts', import.meta.url).href
-    const api = import.meta.resolve('tsx/esm/api')
-    const bootstrap = `import(${JSON.stringify(api)}).then((m) => { m.register(); return import(${JSON.stringify(target)}) })`
     for (let i = 0; i < threads; i++) {
-      const worker = new Worker(bootstrap, { eval: true, workerData: source })
+      const worker = startWorker('./map-worker.ts', source)
       const slot: Slot = { worker, busy: true, ready: Promise.resolve() }
       slot.ready = new Promise<void>((resolve, reject) => {
         const onFirst = (msg: WorkerResponse) => {

@@ -34,7 +34,7 @@ import type { Config } from '../config.ts'
 import { findCandidateTerms, type CandidateResult } from './candidates.ts'
 import type { MapInput, Matcher } from './matcher.ts'
 import { documentInput, mentionRows, type MentionRow } from './rows.ts'
-import { defaultThreads, MapperPool, mapperSource } from './parallel.ts'
+import { candidatesInBackground, defaultThreads, MapperPool, mapperSource, type BackgroundCandidates } from './parallel.ts'
 import { ensureTaxonomy, matcherFromDb, storedTaxonomy } from './store.ts'
 
 const BATCH = 1000
@@ -193,16 +193,17 @@ export function candidateWindowStart(latest: string, recentMonths: number, windo
 }
 
 /**
- * Recomputes the open candidate terms from the original documents of the candidate window (the
+ * Finds the candidate terms of the candidate window from the original documents (reads only: the
  * latest month and the window before it are found through the (kind, month) index; documents of
- * earlier months never take part, so they are not read).
+ * earlier months never take part, so they are not read). Also run in a worker thread with its own
+ * read-only connection (candidate-worker.ts) while the map runs.
  */
-export function refreshCandidates(db: Db, config: Config, matcher: Matcher = matcherFromDb(db), now: Date = new Date()): CandidateResult {
+export function computeCandidates(db: Db, config: Config, matcher: Matcher): CandidateResult {
   const c = config.taxonomy.candidates
   const latest = latestOriginalMonth(db)
   // a malformed latest month: the discovery decides over every document, as before
   const since = latest !== null && YEAR_MONTH.test(latest) ? candidateWindowStart(latest, c.recentMonths, c.windowMonths) : undefined
-  const result = findCandidateTerms(
+  return findCandidateTerms(
     () => (function* () {
       for (const d of iterateDocumentTexts(db, since)) yield { month: d.month, text: d.title ? `${d.title}\n${d.body}` : d.body }
     })(),
@@ -218,6 +219,10 @@ export function refreshCandidates(db: Db, config: Config, matcher: Matcher = mat
       exclude: dismissedTerms(db),
     },
   )
+}
+
+/** Stores a computed candidate list as the open candidates and records when it was computed. */
+export function storeCandidates(db: Db, result: CandidateResult, now: Date = new Date()): void {
   db.transaction(() => {
     replaceOpenCandidates(
       db,
@@ -232,6 +237,12 @@ export function refreshCandidates(db: Db, config: Config, matcher: Matcher = mat
     )
     markCandidatesComputed(db, now.toISOString())
   })()
+}
+
+/** Recomputes and stores the open candidate terms (computeCandidates, then storeCandidates). */
+export function refreshCandidates(db: Db, config: Config, matcher: Matcher = matcherFromDb(db), now: Date = new Date()): CandidateResult {
+  const result = computeCandidates(db, config, matcher)
+  storeCandidates(db, result, now)
   return result
 }
 
@@ -251,19 +262,44 @@ export function candidatesDue(db: Db, config: Config, now: Date = new Date()): {
 }
 
 async function run(ctx: StageContext): Promise<StageResult> {
-  const loaded = await ensureTaxonomy(ctx.db, ctx.config, ctx.log)
-  const counts = await mapUnmapped(ctx.db, ctx.config, ctx.log)
+  const { db, config } = ctx
+  const loaded = await ensureTaxonomy(db, config, ctx.log)
+  // A candidate list that is due is computed while the documents are mapped: it reads only the
+  // documents' texts, which mapping does not change, and uses a core the map leaves idle at times
+  // (in a worker thread, for a database file and a map large enough for worker threads).
+  let background: BackgroundCandidates | undefined
+  const version = taxonomyVersion(db)
+  if (config.taxonomy.candidates.enabled && !db.memory && candidatesDue(db, config).due) {
+    const waiting = countUnmapped(db)
+    if (waiting >= config.taxonomy.workerThreshold) {
+      const rules = storedRules(db)
+      background = candidatesInBackground(mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.name), config)
+    }
+  }
+  let counts: MapRunCounts
+  try {
+    counts = await mapUnmapped(db, config, ctx.log)
+  } catch (err) {
+    await background?.stop()
+    throw err
+  }
   let candidates = -1
   let kept = ''
   // also when this run mapped nothing but an earlier one was stopped before deciding
-  if (counts.mapped > 0 || candidatesOwed(ctx.db)) {
-    if (ctx.config.taxonomy.candidates.enabled) {
-      const due = candidatesDue(ctx.db, ctx.config)
-      if (due.due) candidates = refreshCandidates(ctx.db, ctx.config).candidates.length
-      else kept = `; candidate terms kept from ${due.computedAt} (recomputed every ${ctx.config.taxonomy.candidates.refreshHours} h or after a taxonomy change)`
+  if (counts.mapped > 0 || candidatesOwed(db)) {
+    if (config.taxonomy.candidates.enabled) {
+      const due = candidatesDue(db, config)
+      if (due.due) {
+        // the background list counts only when the taxonomy it was computed with is still current
+        const early = background && taxonomyVersion(db) === version ? await background.result : undefined
+        const result = early ?? computeCandidates(db, config, matcherFromDb(db))
+        storeCandidates(db, result)
+        candidates = result.candidates.length
+      } else kept = `; candidate terms kept from ${due.computedAt} (recomputed every ${config.taxonomy.candidates.refreshHours} h or after a taxonomy change)`
     }
-    settleCandidates(ctx.db)
+    settleCandidates(db)
   }
+  await background?.stop()
   const after = ctx.trigger.includes('taxonomy.changed') ? ' after a taxonomy change' : ''
   const summary =
     `mapped ${counts.mapped} documents${after} (${counts.mentions} mentions, ${counts.rollups} rollups` +

@@ -301,6 +301,22 @@ describe('candidate terms recomputed at most every refreshHours', () => {
     }
     return rows
   }
+  it('computes a due list in a worker thread while a database file is mapped, the same list as computed afterwards', async () => {
+    const file = path.join(tmp, `candidates-${Math.random().toString(36).slice(2)}.db`)
+    const fileDb = openDb(file)
+    const r = await importDocuments(fileDb, config, 'postings', postingsFile('cand-file.jsonl', risingRows('f', 1, 12)), { skipBad: false })
+    expect(r.refused).toBe(false)
+    const withWorkers = { ...config, taxonomy: { ...config.taxonomy, workerThreshold: 1 } }
+    const result = await mapStage.run({ db: fileDb, config: withWorkers, log: quiet, trigger: 'manual', options: {} })
+    expect(result.counts['candidatesRecomputed']).toBe(1)
+    const stored = listCandidates(fileDb, 'open', 50).map((c) => [c.term, c.recent_df, c.earlier_df, c.trend_json, c.examples_json])
+    expect(stored[0]![0]).toBe('quillstream orchestration')
+    // the same list computed on this thread after the map
+    const inline = refreshCandidates(fileDb, config)
+    expect(inline.candidates.map((c) => [c.term, c.recentDf, c.earlierDf, JSON.stringify(c.trend), JSON.stringify(c.examples)])).toEqual(stored)
+    fileDb.close()
+  }, 60_000)
+
   const trendMonths = (db: Db) => (JSON.parse(getCandidate(db, 'quillstream orchestration')!.trend_json) as { month: string }[]).map((t) => t.month)
 
   it('keeps the stored list within the interval, recomputes after it, after a taxonomy change and with refreshHours 0', async () => {
