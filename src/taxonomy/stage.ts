@@ -290,8 +290,12 @@ async function run(ctx: StageContext): Promise<StageResult> {
     if (config.taxonomy.candidates.enabled) {
       const due = candidatesDue(db, config)
       if (due.due) {
-        // the background list counts only when the taxonomy it was computed with is still current
-        const early = background && taxonomyVersion(db) === version ? await background.result : undefined
+        // the background list counts only when the taxonomy it was computed with is still current;
+        // a failed worker leaves the work to this thread
+        const early =
+          background && taxonomyVersion(db) === version
+            ? await background.result.catch((err: Error) => void ctx.log(`map: ${err.message}; computing the candidate terms here`))
+            : undefined
         const result = early ?? computeCandidates(db, config, matcherFromDb(db))
         storeCandidates(db, result)
         candidates = result.candidates.length

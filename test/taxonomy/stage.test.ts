@@ -10,7 +10,8 @@ import { rebuildDemandCounts } from '../../src/db/curves.ts'
 import { importDocuments } from '../../src/ingest/import.ts'
 import { acceptAsAltLabel, acceptAsConcept, DecisionError, dismissCandidate } from '../../src/taxonomy/decisions.ts'
 import { candidatesDue, mapStage, mapUnmapped, refreshCandidates, TaxonomyChangedError } from '../../src/taxonomy/stage.ts'
-import { ensureTaxonomy, importTaxonomy, matcherFromDb } from '../../src/taxonomy/store.ts'
+import { ensureTaxonomy, importTaxonomy, matcherFromDb, storedTaxonomy } from '../../src/taxonomy/store.ts'
+import { candidatesInBackground, mapperSource } from '../../src/taxonomy/parallel.ts'
 
 const config = loadConfig({ db: ':memory:' })
 const tmp = fs.mkdtempSync(path.join(os.tmpdir(), 'tides-taxonomy-'))
@@ -315,6 +316,15 @@ describe('candidate terms recomputed at most every refreshHours', () => {
     const inline = refreshCandidates(fileDb, config)
     expect(inline.candidates.map((c) => [c.term, c.recentDf, c.earlierDf, JSON.stringify(c.trend), JSON.stringify(c.examples)])).toEqual(stored)
     fileDb.close()
+  }, 60_000)
+
+  it('a candidate worker that cannot read its database fails with a clear error (the map stage then computes the list itself)', async () => {
+    const db = await dbWith(POSTINGS.slice(0, 1))
+    await ensureTaxonomy(db, config)
+    const missing = path.join(tmp, 'no-such.db')
+    const job = candidatesInBackground(mapperSource(storedTaxonomy(db), null, '(none)', missing), config)
+    await expect(job.result).rejects.toThrow(/candidate terms worker: .*(no-such\.db|unable to open|does not exist)/)
+    await job.stop()
   }, 60_000)
 
   const trendMonths = (db: Db) => (JSON.parse(getCandidate(db, 'quillstream orchestration')!.trend_json) as { month: string }[]).map((t) => t.month)
