@@ -139,8 +139,10 @@ export function makeWorkspace(opts: { n: number; months?: number; seed?: number;
         dataDir: '.',
         sources: [{ id: 'corpus', kind: 'jsonl', location: 'postings.jsonl' }],
         ingest: { batchSize: opts.batchSize ?? 500 },
-        // the small corpora here take the bulk-map path (index dropped, built at the end), so kills hit it too
-        taxonomy: { bulkMapMin: 100 },
+        // the small corpora here take the bulk-map path (index dropped, built at the end) and the
+        // worker threads (reading the texts from the file, the candidate list computed alongside),
+        // so kills hit them too
+        taxonomy: { bulkMapMin: 100, workerThreshold: 100 },
         server: { token: 'reliability-test-token-0123456789' },
       },
       null,
