@@ -111,7 +111,8 @@ export const COMMANDS: Record<string, Command> = {
       if (!importer) throw new NotBuiltError(`import of ${kind} is not built in this version`)
       const { db, config } = ctx.open()
       const results = []
-      let failed = false
+      let badRows = false
+      let unreadable = false
       for (const file of files) {
         const r = await importer(db, config, file, { skipBad: Boolean(values['skip-bad']), log: (m) => ctx.io.err(m + '\n') })
         results.push(r)
@@ -119,11 +120,14 @@ export const COMMANDS: Record<string, Command> = {
           for (const p of r.problems.slice(0, 50)) ctx.io.err(formatProblem(p) + '\n')
           if (r.problems.length > 50) ctx.io.err(`... and ${r.problems.length - 50} more problems\n`)
         }
-        if (r.refused) failed = true
+        // refused for the file as a whole (missing, not a file, wrong format: line 0) or for bad rows
+        if (r.refused && r.problems.every((p) => p.line === 0)) unreadable = true
+        else if (r.refused) badRows = true
         else if (!values['json']) ctx.io.err(`${file}: ${r.imported} ${kind} imported of ${r.read} read${r.skipped ? `, ${r.skipped} bad rows skipped` : ''}\n`)
       }
       if (values['json']) ctx.io.out(JSON.stringify(results, null, 2) + '\n')
-      if (failed) throw new CliError(`nothing imported from a file with bad rows; fix them or pass --skip-bad to import the good rows`)
+      if (badRows) throw new CliError(`nothing imported from a file with bad rows; fix them or pass --skip-bad to import the good rows`)
+      if (unreadable) throw new CliError(`nothing imported from a file that could not be read as ${kind} (see above)`)
     },
   },
   run: {

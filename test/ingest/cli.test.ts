@@ -36,6 +36,12 @@ describe('tides import postings | requests', () => {
     expect(refused.err).toMatch(/nothing imported from a file with bad rows/)
     const counts = await tides('--db', db, 'report', 'runs', '--json')
     expect(JSON.parse(counts.out)).toEqual([])
+    // a file that cannot be read is not called a file with bad rows
+    const missing = await tides('--db', db, 'import', 'postings', path.join(dir, 'no-such.jsonl'))
+    expect(missing.code).toBe(1)
+    expect(missing.err).toContain('no-such.jsonl:0: cannot read: ENOENT')
+    expect(missing.err).toMatch(/nothing imported from a file that could not be read as postings/)
+    expect(missing.err).not.toMatch(/bad rows/)
 
     const skipped = await tides('--db', db, 'import', 'postings', file, '--skip-bad')
     expect(skipped.code).toBe(0)
