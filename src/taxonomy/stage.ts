@@ -34,7 +34,7 @@ import type { Config } from '../config.ts'
 import { findCandidateTerms, type CandidateResult } from './candidates.ts'
 import type { MapInput, Matcher } from './matcher.ts'
 import { documentInput, mentionRows, type MentionRow } from './rows.ts'
-import { candidatesInBackground, defaultThreads, MapperPool, mapperSource, type BackgroundCandidates } from './parallel.ts'
+import { candidatesInBackground, defaultThreads, MapperPool, mapperSource, type BackgroundCandidates, type MapperSource } from './parallel.ts'
 import { ensureTaxonomy, matcherFromDb, storedTaxonomy } from './store.ts'
 
 const BATCH = 1000
@@ -67,6 +67,8 @@ export interface MapRunCounts {
  * @param threads worker threads to use when at least `threshold` documents wait (0: a default)
  * @param bulkMin the fewest waiting documents that make a bulk map (default `taxonomy.bulkMapMin`)
  * @param batch documents per batch (a worker's unit), groupDocs per write transaction (for tests)
+ * @param source the workers' taxonomy and database file when the caller has built it, with the
+ *   taxonomy version read before it was built (the version the mentions are checked against)
  *
  * A bulk map (at least `bulkMin` documents wait and they outnumber those already counted) drops the
  * mentions-by-concept index for the run and builds it once at its end. Measured on the N = 100,000
@@ -78,7 +80,7 @@ export async function mapUnmapped(
   db: Db,
   config: Config,
   log: (m: string) => void = () => {},
-  opts: { threads?: number; threshold?: number; bulkMin?: number; batch?: number; groupDocs?: number } = {},
+  opts: { threads?: number; threshold?: number; bulkMin?: number; batch?: number; groupDocs?: number; source?: { source: MapperSource; version: number } } = {},
 ): Promise<MapRunCounts> {
   const total = countUnmapped(db)
   const counts: MapRunCounts = { mapped: 0, mentions: 0, rollups: 0, workers: 0 }
@@ -104,14 +106,14 @@ export async function mapUnmapped(
   const groupDocs = opts.groupDocs ?? GROUP_DOCS
   let pool: MapperPool | undefined
   try {
-    const version = taxonomyVersion(db)
+    const version = opts.source?.version ?? taxonomyVersion(db)
     const threshold = opts.threshold ?? config.taxonomy.workerThreshold
     const threads = opts.threads ?? (config.taxonomy.workers || defaultThreads())
     let matcher: Matcher | undefined
     if (total >= threshold && threads > 1) {
       const rules = storedRules(db)
       // workers read the texts themselves from a database file (an in-memory one is sent to them)
-      pool = await MapperPool.start(mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.memory ? undefined : db.name), threads)
+      pool = await MapperPool.start(opts.source?.source ?? mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.memory ? undefined : db.name), threads)
       counts.workers = pool.size
       log(`map: ${total} documents over ${pool.size} worker threads`)
     } else matcher = matcherFromDb(db)
@@ -268,17 +270,20 @@ async function run(ctx: StageContext): Promise<StageResult> {
   // documents' texts, which mapping does not change, and uses a core the map leaves idle at times
   // (in a worker thread, for a database file and a map large enough for worker threads).
   let background: BackgroundCandidates | undefined
+  let source: MapperSource | undefined
   const version = taxonomyVersion(db)
   if (config.taxonomy.candidates.enabled && !db.memory && candidatesDue(db, config).due) {
     const waiting = countUnmapped(db)
     if (waiting >= config.taxonomy.workerThreshold) {
       const rules = storedRules(db)
-      background = candidatesInBackground(mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.name), config)
+      // the same taxonomy source serves the map's worker threads
+      source = mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.name)
+      background = candidatesInBackground(source, config)
     }
   }
   let counts: MapRunCounts
   try {
-    counts = await mapUnmapped(db, config, ctx.log)
+    counts = await mapUnmapped(db, config, ctx.log, source ? { source: { source, version } } : {})
   } catch (err) {
     await background?.stop()
     throw err
