@@ -390,11 +390,28 @@ const V4_DROP_DEMAND_COPY = `
 DROP TABLE demand;
 `
 
+/**
+ * Migration 5: the index of documents waiting to be mapped holds only those: unmapped originals (a
+ * partial index), with the two columns of its condition, so that counting and paging them reads the
+ * index alone (the map's queries name it with INDEXED BY: the planner would otherwise take the
+ * duplicate_of index, where nearly every document sits under NULL). The index it replaces, on
+ * mapped_version, held every document, mapped ones under their version and the reposts, which are
+ * never mapped, under NULL: an incremental map of 10,000 new postings into the N = 1,000,000
+ * benchmark database walked its older reposts and read each of their rows to see it was one
+ * (0.74 s of reading the batches and 0.31 s of counting, of a 7.1 s profiled map), and every
+ * mapped document moved its entry within the index.
+ */
+const V5_UNMAPPED_ORIGINALS = `
+DROP INDEX documents_unmapped;
+CREATE INDEX documents_unmapped ON documents(id, mapped_version, duplicate_of) WHERE mapped_version IS NULL AND duplicate_of IS NULL;
+`
+
 export const MIGRATIONS: readonly Migration[] = [
   { version: 1, name: 'core tables', sql: V1_CORE },
   { version: 2, name: 'indexes for duplicates, states and ranks', sql: V2_RUN_INDEXES },
   { version: 3, name: 'demand aggregates; mentions and demand without rowid', sql: V3_DEMAND_AGGREGATES },
   { version: 4, name: 'dashboard reads the demand aggregates; per-fit demand copy dropped', sql: V4_DROP_DEMAND_COPY },
+  { version: 5, name: 'index of the unmapped originals only', sql: V5_UNMAPPED_ORIGINALS },
 ]
 
 /** The schema version this build of the program writes. */

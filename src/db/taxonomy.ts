@@ -136,10 +136,9 @@ export interface DocumentToMap {
   skills_json: string | null
 }
 
+/** Unmapped original documents, counted on the index that holds only them (migration 5). */
 export function countUnmapped(db: Db): number {
-  // `+duplicate_of` keeps SQLite on the small unmapped index: through the duplicate_of index (where
-  // nearly every document is NULL) this walked every original, a cost that grew with the corpus
-  return (stmt(db, 'SELECT COUNT(*) AS n FROM documents WHERE mapped_version IS NULL AND +duplicate_of IS NULL').get() as { n: number }).n
+  return (stmt(db, 'SELECT COUNT(*) AS n FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL').get() as { n: number }).n
 }
 
 /** Mapped original postings and requests: the sum of the running totals (no scan of documents). */
@@ -170,23 +169,22 @@ export function ensureMentionConceptIndex(db: Db): boolean {
 
 /** The next unmapped original documents after `afterId`, in id order. */
 export function unmappedAfter(db: Db, afterId: number, limit: number): DocumentToMap[] {
-  return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents WHERE mapped_version IS NULL AND +duplicate_of IS NULL AND id > ? ORDER BY id LIMIT ?').all(afterId, limit) as DocumentToMap[]
+  return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL AND id > ? ORDER BY id LIMIT ?').all(afterId, limit) as DocumentToMap[]
 }
 
 /**
- * The id that ends the next batch after `afterId`: the `size`-th unmapped document (original or
- * repost) or the last one, or undefined when none is left. Read from the unmapped index alone, so
- * that the map's main thread touches no document row when worker threads read the texts
- * (unmappedBetween); a batch then holds at most `size` originals.
+ * The id that ends the next batch after `afterId`: the `size`-th unmapped original or the last one,
+ * or undefined when none is left. Read from the unmapped index alone, so that the map's main thread
+ * touches no document row when worker threads read the texts (unmappedBetween).
  */
 export function unmappedBatchEnd(db: Db, afterId: number, size: number): number | undefined {
-  const end = stmt(db, 'SELECT id FROM documents WHERE mapped_version IS NULL AND id > ? ORDER BY id LIMIT 1 OFFSET ?').pluck().get(afterId, size - 1) as number | undefined
-  return end ?? ((stmt(db, 'SELECT MAX(id) FROM documents WHERE mapped_version IS NULL AND id > ?').pluck().get(afterId) as number | null) ?? undefined)
+  const end = stmt(db, 'SELECT id FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL AND id > ? ORDER BY id LIMIT 1 OFFSET ?').pluck().get(afterId, size - 1) as number | undefined
+  return end ?? ((stmt(db, 'SELECT MAX(id) FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL AND id > ?').pluck().get(afterId) as number | null) ?? undefined)
 }
 
 /** The unmapped original documents with ids from `first` to `last`, in id order (a worker thread's read). */
 export function unmappedBetween(db: Db, first: number, last: number): DocumentToMap[] {
-  return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents WHERE mapped_version IS NULL AND +duplicate_of IS NULL AND id >= ? AND id <= ? ORDER BY id').all(first, last) as DocumentToMap[]
+  return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL AND id >= ? AND id <= ? ORDER BY id').all(first, last) as DocumentToMap[]
 }
 
 /** Original documents after `afterId`, mapped or not (for finding those a taxonomy change affects). */

@@ -16,7 +16,7 @@ import { openDb, schemaVersion, type Db } from '../../src/db/connection.ts'
 import { rebuildDemandCounts, readMonthlyDemand, recomputeMonthlyDemand, type MonthlyDemand } from '../../src/db/curves.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
 import { deleteDocuments, markDuplicate } from '../../src/db/documents.ts'
-import { countUnmapped, replaceOpenCandidates } from '../../src/db/taxonomy.ts'
+import { countUnmapped, replaceOpenCandidates, unmappedAfter, unmappedBatchEnd } from '../../src/db/taxonomy.ts'
 import { importDocuments } from '../../src/ingest/import.ts'
 import { acceptAsConcept } from '../../src/taxonomy/decisions.ts'
 import { mapStage } from '../../src/taxonomy/stage.ts'
@@ -326,12 +326,27 @@ describe('migration 3', () => {
     db.close()
 
     // migration 4: the per-fit demand copy goes; the dashboard charts the aggregates
-    const v4 = openDb(file)
+    const v4 = openDb(file, { upTo: 4 })
     expect(schemaVersion(v4)).toBe(4)
     expect(v4.prepare("SELECT COUNT(*) FROM sqlite_master WHERE name = 'demand'").pluck().get()).toBe(0)
     expect(demandFor(v4, ['sql'], 'external')).toEqual(
       ['2024-01', '2024-02', '2024-03'].map((month) => ({ concept_id: 'sql', series: 'external', month, n: expected.mentions.get('sql')?.external.get(month) ?? 0, total: 4 })),
     )
+    const unmappedBefore = v4.prepare('SELECT id FROM documents WHERE mapped_version IS NULL AND duplicate_of IS NULL ORDER BY id').pluck().all()
     v4.close()
+
+    // migration 5: the unmapped index holds only the unmapped originals (not the reposts, never
+    // mapped) and the map's queries read it alone
+    const v5 = openDb(file)
+    expect(schemaVersion(v5)).toBe(5)
+    expect(unmappedBefore).toHaveLength(3)
+    expect(countUnmapped(v5)).toBe(3)
+    expect(unmappedAfter(v5, 0, 10).map((d) => d.id)).toEqual(unmappedBefore)
+    expect(unmappedBatchEnd(v5, 0, 2)).toBe(unmappedBefore[1])
+    expect(unmappedBatchEnd(v5, unmappedBefore[2] as number, 2)).toBeUndefined()
+    expect(v5.prepare("SELECT sql FROM sqlite_master WHERE name = 'documents_unmapped'").pluck().get()).toMatch(/WHERE mapped_version IS NULL AND duplicate_of IS NULL/)
+    const plan = v5.prepare('EXPLAIN QUERY PLAN SELECT COUNT(*) FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL').all() as { detail: string }[]
+    expect(plan.map((r) => r.detail).join(' ')).toMatch(/COVERING INDEX documents_unmapped/)
+    v5.close()
   })
 })
