@@ -55,6 +55,15 @@ export class TaxonomyChangedError extends Error {
   }
 }
 
+/**
+ * What a worker thread needs to rebuild the stored taxonomy's matcher and, for a database file, to
+ * read the documents' texts itself (an in-memory database's texts are sent to it).
+ */
+function storedMapperSource(db: Db): MapperSource {
+  const rules = storedRules(db)
+  return mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.memory ? undefined : db.name)
+}
+
 export interface MapRunCounts {
   mapped: number
   mentions: number
@@ -111,9 +120,7 @@ export async function mapUnmapped(
     const threads = opts.threads ?? (config.taxonomy.workers || defaultThreads())
     let matcher: Matcher | undefined
     if (total >= threshold && threads > 1) {
-      const rules = storedRules(db)
-      // workers read the texts themselves from a database file (an in-memory one is sent to them)
-      pool = await MapperPool.start(opts.source?.source ?? mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.memory ? undefined : db.name), threads)
+      pool = await MapperPool.start(opts.source?.source ?? storedMapperSource(db), threads)
       counts.workers = pool.size
       log(`map: ${total} documents over ${pool.size} worker threads`)
     } else matcher = matcherFromDb(db)
@@ -275,9 +282,8 @@ async function run(ctx: StageContext): Promise<StageResult> {
   if (config.taxonomy.candidates.enabled && !db.memory && candidatesDue(db, config).due) {
     const waiting = countUnmapped(db)
     if (waiting >= config.taxonomy.workerThreshold) {
-      const rules = storedRules(db)
       // the same taxonomy source serves the map's worker threads
-      source = mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.name)
+      source = storedMapperSource(db)
       background = candidatesInBackground(source, config)
     }
   }
