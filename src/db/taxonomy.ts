@@ -136,9 +136,15 @@ export interface DocumentToMap {
   skills_json: string | null
 }
 
-/** Unmapped original documents, counted on the index that holds only them (migration 5). */
+/**
+ * The unmapped original documents, read from the partial index that holds only them (migration 5),
+ * named because the planner would otherwise take the duplicate_of index.
+ */
+const UNMAPPED_ORIGINALS = 'FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL'
+
+/** Unmapped original documents, counted on their index. */
 export function countUnmapped(db: Db): number {
-  return (stmt(db, 'SELECT COUNT(*) AS n FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL').get() as { n: number }).n
+  return (stmt(db, `SELECT COUNT(*) AS n ${UNMAPPED_ORIGINALS}`).get() as { n: number }).n
 }
 
 /** Mapped original postings and requests: the sum of the running totals (no scan of documents). */
@@ -169,7 +175,7 @@ export function ensureMentionConceptIndex(db: Db): boolean {
 
 /** The next unmapped original documents after `afterId`, in id order. */
 export function unmappedAfter(db: Db, afterId: number, limit: number): DocumentToMap[] {
-  return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL AND id > ? ORDER BY id LIMIT ?').all(afterId, limit) as DocumentToMap[]
+  return stmt(db, `SELECT id, kind, title, body, skills_json ${UNMAPPED_ORIGINALS} AND id > ? ORDER BY id LIMIT ?`).all(afterId, limit) as DocumentToMap[]
 }
 
 /**
@@ -178,13 +184,13 @@ export function unmappedAfter(db: Db, afterId: number, limit: number): DocumentT
  * touches no document row when worker threads read the texts (unmappedBetween).
  */
 export function unmappedBatchEnd(db: Db, afterId: number, size: number): number | undefined {
-  const end = stmt(db, 'SELECT id FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL AND id > ? ORDER BY id LIMIT 1 OFFSET ?').pluck().get(afterId, size - 1) as number | undefined
-  return end ?? ((stmt(db, 'SELECT MAX(id) FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL AND id > ?').pluck().get(afterId) as number | null) ?? undefined)
+  const end = stmt(db, `SELECT id ${UNMAPPED_ORIGINALS} AND id > ? ORDER BY id LIMIT 1 OFFSET ?`).pluck().get(afterId, size - 1) as number | undefined
+  return end ?? ((stmt(db, `SELECT MAX(id) ${UNMAPPED_ORIGINALS} AND id > ?`).pluck().get(afterId) as number | null) ?? undefined)
 }
 
 /** The unmapped original documents with ids from `first` to `last`, in id order (a worker thread's read). */
 export function unmappedBetween(db: Db, first: number, last: number): DocumentToMap[] {
-  return stmt(db, 'SELECT id, kind, title, body, skills_json FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL AND id >= ? AND id <= ? ORDER BY id').all(first, last) as DocumentToMap[]
+  return stmt(db, `SELECT id, kind, title, body, skills_json ${UNMAPPED_ORIGINALS} AND id >= ? AND id <= ? ORDER BY id`).all(first, last) as DocumentToMap[]
 }
 
 /** Original documents after `afterId`, mapped or not (for finding those a taxonomy change affects). */
