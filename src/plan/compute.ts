@@ -114,7 +114,9 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
   const cfg = config.plan
   const labels = store.readConceptLabels(db)
   const label = (id: string) => labels.get(id) ?? id
-  const curves = new Map<string, SkillCurve>(store.readCurves(db).map((r) => [r.concept_id, readSkillCurve(r)]))
+  // the details of curves that are not evidence are left unread, and the forecast bands of all but
+  // the rising curves (only the reskilling forecast of evidenced rising skills draws them)
+  const curves = new Map<string, SkillCurve>(store.readCurves(db, RISING_STATES).map((r) => [r.concept_id, readSkillCurve(r)]))
   const coverage = store.readCoverage(db)
   const requirementRows = store.readRoleRequirements(db)
   const people = store.readPeople(db)
