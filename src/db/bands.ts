@@ -8,6 +8,13 @@
  * rewrites most pages of the (randomly keyed) index; the setting `ingest.bands.through` records
  * the highest document id up to which every posting's rows are written. Postings stored after it
  * (by a run that was killed, say) get their rows from their signatures when the next writer starts.
+ *
+ * The rows sit in two levels (migration 6): `document_bands`, the big one, and
+ * `document_bands_recent`, which takes a run's rows while it stays below a fraction of all of them.
+ * An incremental run's 100,000 random keys then rewrite the pages of a small table instead of most
+ * of the ten million rows of the big one (at a million postings). Once the small level would pass
+ * the fraction, its rows and the run's go into the big level in one sorted pass and it is emptied.
+ * Lookups and the band filter read both levels; which level holds a row changes no decision.
  */
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
@@ -16,20 +23,33 @@ import { getSetting, setSetting } from './connection.ts'
 const THROUGH = 'ingest.bands.through'
 const CHUNK = 100
 
-const chunkStatements = new WeakMap<Db, { many: Statement; one: Statement }>()
+/** The two levels of band rows. */
+export type BandLevel = 'document_bands' | 'document_bands_recent'
+
+/**
+ * Default share of all band rows that the recent level may hold before it is merged into the big
+ * one. A merge rewrites most of the big level (it costs about what one incremental run cost before
+ * the levels); at an eighth, runs of 10,000 postings into a million merge once every 12 or so, and
+ * the recent level stays within 1.3 million rows (about 25 MB).
+ */
+export const RECENT_BANDS_FRACTION = 1 / 8
+
+const chunkStatements = new WeakMap<Db, Map<BandLevel, { many: Statement; one: Statement }>>()
 
 /**
  * Inserts (stored key, document id) pairs, given sorted by key, so that each index page is visited
  * once in order. Call inside a transaction.
  */
-export function insertSortedBandRows(db: Db, keys: Float64Array, docs: Float64Array): void {
-  let st = chunkStatements.get(db)
+export function insertSortedBandRows(db: Db, keys: Float64Array, docs: Float64Array, level: BandLevel = 'document_bands'): void {
+  let levels = chunkStatements.get(db)
+  if (!levels) chunkStatements.set(db, (levels = new Map()))
+  let st = levels.get(level)
   if (!st) {
     st = {
-      many: db.prepare(`INSERT OR IGNORE INTO document_bands(key, document_id) VALUES ${Array.from({ length: CHUNK }, () => '(?, ?)').join(', ')}`),
-      one: db.prepare('INSERT OR IGNORE INTO document_bands(key, document_id) VALUES (?, ?)'),
+      many: db.prepare(`INSERT OR IGNORE INTO ${level}(key, document_id) VALUES ${Array.from({ length: CHUNK }, () => '(?, ?)').join(', ')}`),
+      one: db.prepare(`INSERT OR IGNORE INTO ${level}(key, document_id) VALUES (?, ?)`),
     }
-    chunkStatements.set(db, st)
+    levels.set(level, st)
   }
   const args: number[] = new Array(2 * CHUNK)
   let i = 0
@@ -41,6 +61,43 @@ export function insertSortedBandRows(db: Db, keys: Float64Array, docs: Float64Ar
     st.many.run(args)
   }
   for (; i < keys.length; i++) st.one.run(keys[i]!, docs[i]!)
+}
+
+/** Rows in the recent level. */
+export function recentBandRows(db: Db): number {
+  return db.prepare('SELECT COUNT(*) FROM document_bands_recent').pluck().get() as number
+}
+
+/**
+ * Moves every row of the recent level into the big one, read in key order so that each page of the
+ * big level is visited once, and empties the recent level. Call inside a transaction.
+ */
+export function mergeRecentBands(db: Db): void {
+  db.prepare('INSERT OR IGNORE INTO document_bands(key, document_id) SELECT key, document_id FROM document_bands_recent ORDER BY key, document_id').run()
+  db.prepare('DELETE FROM document_bands_recent').run()
+}
+
+/**
+ * Writes a sorted run of band rows (see insertSortedBandRows) to the level it belongs in: the
+ * recent level while it stays within `fraction` of `totalRows` (an estimate of all band rows,
+ * stored and these), else the big level together with the recent level's rows, which is emptied.
+ * Call inside a transaction.
+ * @returns the level written, and whether the recent level was merged
+ */
+export function writeBandRun(db: Db, keys: Float64Array, docs: Float64Array, totalRows: number, fraction = RECENT_BANDS_FRACTION): { level: BandLevel; merged: boolean } {
+  const recent = recentBandRows(db)
+  if (recent + keys.length <= fraction * totalRows) {
+    insertSortedBandRows(db, keys, docs, 'document_bands_recent')
+    return { level: 'document_bands_recent', merged: false }
+  }
+  if (recent === 0) {
+    insertSortedBandRows(db, keys, docs)
+    return { level: 'document_bands', merged: false }
+  }
+  // the run joins the small level first, so that the big one is written in one sorted pass
+  insertSortedBandRows(db, keys, docs, 'document_bands_recent')
+  mergeRecentBands(db)
+  return { level: 'document_bands', merged: true }
 }
 
 /**

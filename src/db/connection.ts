@@ -8,6 +8,7 @@ import fs from 'node:fs'
 import path from 'node:path'
 import Database from 'better-sqlite3'
 import { MIGRATIONS, SCHEMA_VERSION, type Migration } from './migrations.ts'
+import { registerSketchFunction } from './sketches.ts'
 
 export type Db = Database.Database
 
@@ -53,6 +54,8 @@ export function openDb(file: string, options: OpenOptions = {}): Db {
     }
     db.pragma('foreign_keys = ON')
     db.pragma('busy_timeout = 5000')
+    // migration 6 computes the sketches of the stored signatures with it
+    registerSketchFunction(db)
     if (!options.readonly) migrate(db, options.upTo ?? SCHEMA_VERSION)
     else checkVersion(db, file)
   } catch (err) {

@@ -11,8 +11,9 @@
  * Decisions depend only on what is stored before, in arrival order, so a run killed and restarted
  * reaches the same decisions as one uninterrupted run.
  */
-import { bandsThrough, documentsBetween, insertSortedBandRows, lastDocumentId, setBandsThrough, signaturesAfter } from '../db/bands.ts'
+import { RECENT_BANDS_FRACTION, bandsThrough, documentsBetween, lastDocumentId, setBandsThrough, signaturesAfter, writeBandRun } from '../db/bands.ts'
 import { type DocumentStore, maxDocumentId } from '../db/documents.ts'
+import { SketchStore } from '../db/sketches.ts'
 import { type BandFilter, buildBandFilter, cachedBandFilter } from './band-filter.ts'
 import type { DocumentInput } from './document.ts'
 import { bandKeys, estimateJaccard, exactJaccard, minhashSignature, shingleHashes, shingleSet, signatureFromBytes, toSortedSet } from './minhash.ts'
@@ -96,6 +97,8 @@ export interface DedupeLimits {
   sketchBytes?: number
   /** lookups after which the band filter is built (default: 1,000 plus a tenth of the stored documents) */
   filterAfter?: number
+  /** share of all band rows the recent level may hold (see RECENT_BANDS_FRACTION in db/bands.ts) */
+  recentFraction?: number
 }
 
 interface Known {
@@ -136,6 +139,9 @@ export class Deduper {
   /** the open batch wrote the pending keys (they are dropped from memory once it commits) */
   private wrote = false
   private readonly bandRun: number
+  private readonly recentFraction: number
+  /** sketches of stored postings (written with each posting; read for candidates not in memory) */
+  private readonly storedSketches: SketchStore
   /** false until the high-water mark is in the settings table (written with the first batch) */
   private throughStored: boolean
 
@@ -153,6 +159,8 @@ export class Deduper {
     // 30 of those, so the filter pays once a run has looked up a tenth of the stored documents
     this.buildAfter = limits.filterAfter ?? 1000 + Math.ceil(maxDocumentId(store.db) / 10)
     this.bandRun = Math.max(1, limits.bandRun ?? BAND_RUN)
+    this.recentFraction = limits.recentFraction ?? RECENT_BANDS_FRACTION
+    this.storedSketches = new SketchStore(store.db)
     this.cacheSize = Math.max(1, limits.cacheSize ?? CACHE_SIZE)
     this.known = new Array(this.cacheSize)
     this.knownIds = new Float64Array(this.cacheSize).fill(-1)
@@ -238,6 +246,8 @@ export class Deduper {
       f.addText(a.textHash)
       if (f.full) this.rebuildFilter(f.size)
     }
+    // the same transaction stores the posting's signature (see writer.ts) and its sketch
+    this.storedSketches.insert(id, a.signature)
     const slot = id % this.cacheSize
     const root = decision.duplicateOf ?? id
     this.known[slot] = { signature: a.signature, root, shingles: a.shingles }
@@ -262,14 +272,15 @@ export class Deduper {
   flushBands(all = false): void {
     const db = this.store.db
     let covered = this.pending.size === 0
+    const last = lastDocumentId(db)
     if (!covered && (all || this.pending.size >= this.bandRun)) {
       const { keys, docs } = this.pending.sortedFlat()
-      insertSortedBandRows(db, keys, docs)
+      // all band rows, about: every document up to the newest has its bands' rows, stored or these
+      writeBandRun(db, keys, docs, last * this.params.bands, this.recentFraction)
       this.wrote = true
       covered = true
     }
     if (covered) {
-      const last = lastDocumentId(db)
       // ids are handed out as max + 1 and documents are never deleted, so `last - through` is the
       // count unless ids have gaps; only then is counting (which reads every row of the range) needed
       if (last > this.through && (last - this.through === this.accounted || documentsBetween(db, this.through, last) === this.accounted)) {
@@ -328,17 +339,28 @@ export class Deduper {
   private lookup(id: number, mine: Uint32Array): Known | null {
     const slot = id % this.cacheSize
     if (this.knownIds[slot] === id) return this.known[slot]!
-    const s = id % this.sketchSlots
-    if (this.sketches && this.sketchIds![s] === id && mine.length === this.params.numHashes) {
-      const sketch = this.sketches
-      const k = mine.length
-      let same = 0
-      for (let i = 0, o = s * k; i < k; i++, o++) if ((mine[i]! & 0xff) === sketch[o]) same++
-      if (same / k < this.minEstimate) return null
+    const k = this.params.numHashes
+    if (mine.length === k) {
+      // this run's postings have their sketch in memory, older ones in the sketch table
+      const s = id % this.sketchSlots
+      if (this.sketches && this.sketchIds![s] === id) {
+        if (this.sketchDismisses(mine, this.sketches, s * k)) return null
+      } else {
+        const stored = this.storedSketches.sketch(id)
+        if (stored && stored.length === k && this.sketchDismisses(mine, stored, 0)) return null
+      }
     }
     const row = this.store.signature(id)
     if (!row || !row.signature) return null
     return { signature: signatureFromBytes(row.signature), root: row.duplicate_of ?? row.id, shingles: null }
+  }
+
+  /** true when the k bytes of `sketch` from `offset` agree with `mine`'s low bytes too rarely for the threshold */
+  private sketchDismisses(mine: Uint32Array, sketch: Uint8Array, offset: number): boolean {
+    const k = mine.length
+    let same = 0
+    for (let i = 0, o = offset; i < k; i++, o++) if ((mine[i]! & 0xff) === sketch[o]) same++
+    return same / k < this.minEstimate
   }
 
   private shinglesOf(id: number, k: Known): Uint32Array {

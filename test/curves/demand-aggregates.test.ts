@@ -337,7 +337,7 @@ describe('migration 3', () => {
 
     // migration 5: the unmapped index holds only the unmapped originals (not the reposts, never
     // mapped) and the map's queries read it alone
-    const v5 = openDb(file)
+    const v5 = openDb(file, { upTo: 5 })
     expect(schemaVersion(v5)).toBe(5)
     expect(unmappedBefore).toHaveLength(3)
     expect(countUnmapped(v5)).toBe(3)

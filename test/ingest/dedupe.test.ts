@@ -226,8 +226,10 @@ describe('band rows written in sorted runs', () => {
 describe('candidates dismissed by their sketches', () => {
   // reposts with 1 to 14 edited words in about 160: those with 10 to 14 (J about 0.45 to 0.6) share band keys below the threshold
   const { lines } = postingsWithReposts(11, 600, 0.7, [1, 2, 3, 10, 11, 12, 13, 14])
-  const run = (limits: DedupeLimits, failAt?: string) => {
+  const run = (limits: DedupeLimits, failAt?: string, storedSketches = true) => {
     const db = openDb(':memory:')
+    // without stored sketches: each one is deleted as it is written
+    if (!storedSketches) db.exec('CREATE TEMP TRIGGER no_sketch AFTER INSERT ON document_sketches BEGIN DELETE FROM document_sketches WHERE id = NEW.id; END')
     const reads = vi.spyOn(DocumentStore.prototype, 'signature')
     const w = writerFor(db, 's', {}, limits)
     if (failAt) {
@@ -249,23 +251,30 @@ describe('candidates dismissed by their sketches', () => {
   }
 
   it('decide as the full signatures do, reading fewer of them', () => {
-    // every candidate in the cache of recent postings; then sketches only; then neither
+    // every candidate in the cache of recent postings; then sketches in memory only; then sketches
+    // in the table only; then neither
     const cached = run({})
-    const sketched = run({ cacheSize: 1 })
-    const read = run({ cacheSize: 1, sketchBytes: 1 })
+    const sketched = run({ cacheSize: 1 }, undefined, false)
+    const stored = run({ cacheSize: 1, sketchBytes: 1 })
+    const read = run({ cacheSize: 1, sketchBytes: 1 }, undefined, false)
     expect(cached.rows.filter((r) => r.duplicate_of !== null && r.dup_similarity! < 1).length).toBeGreaterThan(40)
     expect(cached.reads).toBe(0)
     expect(sketched.rows).toEqual(cached.rows)
+    expect(stored.rows).toEqual(cached.rows)
     expect(read.rows).toEqual(cached.rows)
     // the sketches dismiss candidates below the threshold; those left are read for their signature and root
     expect(read.reads).toBeGreaterThan(200)
     // (460 and 316 when written: most of these candidates are reposts that pass the estimate)
     expect(sketched.reads).toBeLessThan(read.reads * 0.8)
+    // the stored sketches dismiss the same candidates as those in memory
+    expect(stored.reads).toBe(sketched.reads)
   })
 
   it('a rolled-back batch leaves no sketch behind (its ids are reused by other postings)', () => {
     const sketched = run({ cacheSize: 1 }, lines[350]!.identifier)
     expect(sketched.rows).toEqual(run({}).rows)
+    const stored = run({ cacheSize: 1, sketchBytes: 1 }, lines[350]!.identifier)
+    expect(stored.rows).toEqual(run({}).rows)
   })
 })
 
