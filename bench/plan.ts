@@ -6,6 +6,7 @@
  */
 import { parseConfig } from '../src/config.ts'
 import { openDb } from '../src/db/connection.ts'
+import { rebuildMentionLists } from '../src/db/mention-lists.ts'
 import { upsertCourses, upsertImportedAbilities, upsertPeople, upsertRoles } from '../src/db/workforce.ts'
 import { createRng } from '../src/plan/random.ts'
 import { runPlan } from '../src/plan/stage.ts'
@@ -46,6 +47,8 @@ db.transaction(() => {
     // skills cluster by role so that adjacency has structure
     for (let k = 0; k < 6; k++) mention.run(id, ids[((d % 15) * 60 + Math.floor(rng.uniform() * 120)) % SKILLS]!)
   }
+  // the documents' concept lists, as the map stage keeps them
+  rebuildMentionLists(db)
   for (let r = 0; r < 15; r++) {
     const people = Array.from({ length: 200 }, (_, i) => ({ person_id: `r${r}-p${i}`, role: `Role ${r}`, team: '' }))
     upsertPeople(db, people)

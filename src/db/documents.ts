@@ -6,6 +6,7 @@
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
 import { DemandDelta } from './curves.ts'
+import { deleteMentionList } from './mention-lists.ts'
 
 // ------------------------------------------------------------------------------------------------
 // sources
@@ -282,6 +283,7 @@ export function markDuplicate(db: Db, id: number, originalId: number, similarity
   const delta = new DemandDelta()
   uncountDocument(db, delta, doc)
   db.prepare('DELETE FROM mentions WHERE document_id = ?').run(id)
+  deleteMentionList(db, doc.kind, doc.month, id)
   db.prepare('UPDATE documents SET duplicate_of = ?, dup_similarity = ?, mapped_version = NULL WHERE id = ?').run(root, similarity, id)
   db.prepare('UPDATE documents SET duplicate_of = ? WHERE duplicate_of = ?').run(root, id)
   delta.apply(db)
@@ -307,6 +309,8 @@ export function deleteDocuments(db: Db, ids: readonly number[]): number {
       const [heir, ...rest] = children as [number, ...number[]]
       db.prepare('UPDATE documents SET duplicate_of = NULL, dup_similarity = NULL, mapped_version = NULL WHERE id = ?').run(heir)
       db.prepare('DELETE FROM mentions WHERE document_id = ?').run(heir)
+      const heirState = countState(db, heir)!
+      deleteMentionList(db, heirState.kind, heirState.month, heir)
       const move = db.prepare('UPDATE documents SET duplicate_of = ? WHERE id = ?')
       for (const other of rest) move.run(heir, other)
     }

@@ -8,6 +8,7 @@ import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
 import { getSetting, setSetting } from './connection.ts'
 import { clearDemandCounts, DemandDelta } from './curves.ts'
+import { clearMentionLists, mentionListWriter } from './mention-lists.ts'
 import type { Concept, SkillType } from '../taxonomy/types.ts'
 import type { MentionRow } from '../taxonomy/rows.ts'
 
@@ -76,6 +77,7 @@ export interface LabelFlags {
  */
 export function replaceTaxonomy(db: Db, concepts: readonly Concept[], rules: StoredRules | null, source: string, origin: string, flags: LabelFlags): number {
   stmt(db, 'DELETE FROM mentions').run()
+  clearMentionLists(db)
   // every original becomes unmapped below, so nothing counts in the demand aggregates any more
   clearDemandCounts(db)
   stmt(db, 'DELETE FROM concept_broader').run()
@@ -213,8 +215,9 @@ function uncount(db: Db, delta: DemandDelta, id: number, kind: string, month: st
 }
 
 /**
- * Replaces the mentions of a batch of documents, records the taxonomy version they were mapped
- * with, and keeps the demand aggregates in step (a document that counted before has its old
+ * Replaces the mentions of a batch of documents (and their rows of mention_lists), records the
+ * taxonomy version they were mapped with, and keeps the demand aggregates in step (a document that
+ * counted before has its old
  * mentions taken out; an original counts with its new ones). Documents go in id order, each one's
  * mentions in concept order (appends to the table's primary key). One prepared single-row INSERT:
  * measured on the N = 100,000 benchmark database, 100-row INSERT statements stored 289,617 mention
@@ -227,13 +230,17 @@ export function saveMappings(db: Db, version: number, docs: readonly DocumentMap
   const insert = stmt(db, 'INSERT INTO mentions(document_id, concept_id, count, first_offset, via) VALUES (?, ?, ?, ?, ?)')
   const setVersion = stmt(db, 'UPDATE documents SET mapped_version = ? WHERE id = ?')
   const sorted = [...docs].sort((a, b) => a.id - b.id)
-  for (const d of sorted) {
+  // the documents' direct concepts, for their rows of mention_lists (db/mention-lists.ts)
+  const direct = sorted.map((d) => d.rows.filter((r) => r.via !== 'rollup').map((r) => r.conceptId).sort())
+  const writeList = mentionListWriter(db, new Set(direct.flat()))
+  for (const [i, d] of sorted.entries()) {
     const doc = state.get(d.id) as { kind: string; month: string; duplicate_of: number | null; mapped_version: number | null } | undefined
     if (!doc) throw new Error(`saveMappings: document ${d.id} is not stored`)
     if (doc.duplicate_of === null && doc.mapped_version !== null) uncount(db, delta, d.id, doc.kind, doc.month)
     clear.run(d.id)
     const rows = [...d.rows].sort((a, b) => (a.conceptId < b.conceptId ? -1 : a.conceptId > b.conceptId ? 1 : 0))
     for (const r of rows) insert.run(d.id, r.conceptId, r.count, r.firstOffset, r.via)
+    writeList(doc.kind, doc.month, d.id, direct[i]!)
     setVersion.run(version, d.id)
     if (doc.duplicate_of === null) delta.document(doc.kind, doc.month, rows.map((r) => r.conceptId), 1)
   }

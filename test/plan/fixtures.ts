@@ -6,6 +6,7 @@ import { parseConfig, type Config } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
 import { upsertCourses, upsertImportedAbilities, upsertPeople, upsertRoles } from '../../src/db/workforce.ts'
 import type { CurveRecord } from '../../src/db/plan.ts'
+import { mentionListWriter } from '../../src/db/mention-lists.ts'
 
 export function freshDb(): Db {
   return openDb(':memory:')
@@ -83,6 +84,9 @@ export function addDocument(db: Db, doc: { month: string; concepts: string[]; ti
       .run(`d${docCounter}`, doc.kind ?? 'posting', doc.title ?? '', `${doc.month}-15`, doc.month, `h${docCounter}`, doc.occupation ?? null).lastInsertRowid,
   )
   for (const c of new Set(doc.concepts)) db.prepare("INSERT INTO mentions(document_id, concept_id, count, via) VALUES (?, ?, 1, 'text')").run(id, c)
+  // and its row of mention_lists, as the map stage writes it
+  const direct = [...new Set(doc.concepts)]
+  mentionListWriter(db, direct)(doc.kind ?? 'posting', doc.month, id, direct)
   // a mapped original: counted in the demand aggregates as the map stage would count it
   db.prepare('UPDATE documents SET mapped_version = 1 WHERE id = ?').run(id)
   const series = (doc.kind ?? 'posting') === 'posting' ? 'external' : 'internal'

@@ -5,7 +5,11 @@
  */
 import { describe, it, expect } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
-import { readConceptLists, readDocumentConcepts } from '../../src/db/plan.ts'
+import { readConceptLists as readLists, readDocumentConcepts } from '../../src/db/plan.ts'
+import { rebuildMentionLists } from '../../src/db/mention-lists.ts'
+import type { Db } from '../../src/db/connection.ts'
+
+const readConceptLists = (db: Db, kind: 'posting' | 'request', since: string | null, concepts: string[] | null) => [...readLists(db, kind, since, concepts)].map((l) => [...l].sort())
 
 function corpus() {
   const db = openDb(':memory:')
@@ -28,6 +32,7 @@ function corpus() {
   add('posting', '2024-03', []) // mapped, no skill
   add('request', '2024-02', [['sql', 'text']]) // another kind
   add('posting', '2024-03', [['sql', 'skills'], ['python', 'text']])
+  rebuildMentionLists(db)
   return db
 }
 
