@@ -9,6 +9,7 @@
 import { parseConfig, type Config } from '../../src/config.ts'
 import type { Db } from '../../src/db/connection.ts'
 import { insertEvent } from '../../src/db/events.ts'
+import { rebuildMentionLists } from '../../src/db/mention-lists.ts'
 import { finishRun, startRun } from '../../src/db/runs.ts'
 import { upsertCourses, upsertImportedAbilities, upsertPeople, upsertRoles } from '../../src/db/workforce.ts'
 import { runPlan } from '../../src/plan/stage.ts'
@@ -156,6 +157,8 @@ export function buildFixture(db: Db, opts: FixtureOptions = {}): { months: strin
         if (b.id !== a.id) mention.run(id, b.id)
       }
     })
+    // each posting's row of mention_lists, as the map stage keeps it (the plan's adjacency reads them)
+    rebuildMentionLists(db)
 
     // coverage: one large role, one role under the minimum group size
     const cov = db.prepare(
