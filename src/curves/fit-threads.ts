@@ -20,13 +20,10 @@ import { startWorker } from '../util/worker.ts'
 import type { CurvesConfig } from './config.ts'
 import { decideSkills, describeSkills, familyPValues, fitAll, windowEnd, type FitAllResult } from './fit-all.ts'
 import type { DescribedSkill } from './fit-skill.ts'
-import type { CurveRowToStore } from '../db/curves.ts'
-import { rowsOf, summariseFitted, type FittedRows, type FittedSummary } from './rows.ts'
+import { fittedRows, type FittedRows } from './rows.ts'
 import type { SkillSeriesInput } from './series.ts'
 
-export interface FitRowsResult extends FittedSummary {
-  /** the rows to store, in input order: one pass (rows of this thread's skills are made as they are taken) */
-  rows: Iterable<CurveRowToStore>
+export interface FitRowsResult extends FittedRows {
   failures: FitAllResult['failures']
   /** number of p-values in the BH family */
   tested: number
@@ -165,7 +162,7 @@ export async function fitToRows(
   const threads = options.pool ? options.pool.workers.length + 1 : Math.max(1, Math.floor(options.threads ?? 1))
   if (threads === 1 || inputs.length === 0 || fullAnalyses(inputs, config) < (options.minSkills ?? MIN_SKILLS_FOR_THREADS)) {
     const result = fitAll(inputs, config, previous)
-    return { rows: rowsOf(result.curves, fittedAt), ...summariseFitted(result.curves, previous), failures: result.failures, tested: result.tested, threads: 1 }
+    return { ...fittedRows(result.curves, previous, fittedAt), failures: result.failures, tested: result.tested, threads: 1 }
   }
   const pool = options.pool ?? FitThreads.start(threads)
   try {
@@ -239,9 +236,8 @@ async function fitOnThreads(
     const adjusted = Float64Array.from(benjaminiHochberg(pValues, config.q).adjusted)
     const adjustedOf = (c: number) => adjusted.subarray(offsets[c]!, offsets[c + 1]!)
 
-    // second half: each thread decides its own skills; a worker also builds its rows and sends them
-    type Part = FittedSummary & { rows: Iterable<CurveRowToStore> }
-    const finished = new Map<number, Part>()
+    // second half: each thread decides its own skills and builds their rows
+    const finished = new Map<number, FittedRows>()
     const replies = workers.map(async (worker, w) => {
       if (!alive[w]) return
       const message: FinishMessage = { adjusted: new Map(), previous, fittedAt }
@@ -258,33 +254,19 @@ async function fitOnThreads(
         log(`fit: a worker thread failed (${messageOf(error)}); its skills are fitted on the stage's thread`)
       }
     })
-    // this thread's rows are made only as they are stored (see rowsOf)
-    const decided = (c: number, described: DescribedSkill[]): Part => {
-      const curves = decideSkills(described, adjustedOf(c), config, previous)
-      return { rows: rowsOf(curves, fittedAt), ...summariseFitted(curves, previous) }
-    }
-    for (const [c, mine] of local) finished.set(c, decided(c, mine.described))
+    for (const [c, mine] of local) finished.set(c, fittedRows(decideSkills(mine.described, adjustedOf(c), config, previous), previous, fittedAt))
     await Promise.all(replies)
 
     const threadsUsed = 1 + workers.filter((_, w) => alive[w] && [...remote.values()].some((r) => r.worker === w)).length
-    const parts: Part[] = []
-    const out: FitRowsResult = { rows: chain(parts), events: [], states: {}, failures, tested: pValues.filter((p) => !Number.isNaN(p)).length, threads: threadsUsed }
+    const out: FitRowsResult = { rows: [], events: [], states: {}, failures, tested: pValues.filter((p) => !Number.isNaN(p)).length, threads: threadsUsed }
     for (let c = 0; c < chunks; c++) {
       // a worker that died after describing: its chunk is analysed again here (deterministic: the same p-values)
-      const part = finished.get(c) ?? decided(c, describeSkills(slice(c), config, lastMonth).described)
-      parts.push(part)
+      const part = finished.get(c) ?? fittedRows(decideSkills(describeSkills(slice(c), config, lastMonth).described, adjustedOf(c), config, previous), previous, fittedAt)
+      out.rows.push(...part.rows)
       out.events.push(...part.events)
       for (const [state, n] of Object.entries(part.states)) out.states[state] = (out.states[state] ?? 0) + n
     }
     return out
-  }
-}
-
-/** The parts' rows in order, each part let go once its rows are taken. */
-function* chain(parts: { rows: Iterable<CurveRowToStore> }[]): Generator<CurveRowToStore> {
-  for (let i = 0; i < parts.length; i++) {
-    yield* parts[i]!.rows
-    parts[i] = { rows: [] }
   }
 }
 

@@ -105,43 +105,24 @@ export function announced(before: string | null, state: string): boolean {
   return before !== state && (before !== null || FLAGGED.includes(state))
 }
 
-/** The state-change events (null: not announced) and the count per state of decided skills, in their order. */
-export interface FittedSummary {
+/** The rows, the state-change events (null: not announced) and the count per state of decided skills, in their order. */
+export interface FittedRows {
+  /** details as UTF-8 bytes (see CurveRowToStore) */
+  rows: CurveRowToStore[]
   events: (Record<string, unknown> | null)[]
   states: Record<string, number>
 }
 
-/** {@link FittedSummary} of decided skills, given each skill's stored state before this fit. */
-export function summariseFitted(curves: readonly SkillCurve[], previous: ReadonlyMap<string, string>): FittedSummary {
-  const out: FittedSummary = { events: [], states: {} }
+/** {@link FittedRows} of decided skills, given each skill's stored state before this fit. */
+export function fittedRows(curves: readonly SkillCurve[], previous: ReadonlyMap<string, string>, fittedAt: string): FittedRows {
+  const out: FittedRows = { rows: [], events: [], states: {} }
   for (const curve of curves) {
+    const row: CurveRowToStore = curveRow(curve, fittedAt)
+    row.details_json = Buffer.from(row.details_json as string)
+    out.rows.push(row)
     out.states[curve.state] = (out.states[curve.state] ?? 0) + 1
     const before = previous.get(curve.id) ?? null
     out.events.push(announced(before, curve.state) ? stateEvent(curve, before) : null)
   }
   return out
-}
-
-/** {@link FittedSummary} with the rows, their details as UTF-8 bytes (what a fit worker sends: see CurveRowToStore). */
-export interface FittedRows extends FittedSummary {
-  rows: CurveRowToStore[]
-}
-
-export function fittedRows(curves: readonly SkillCurve[], previous: ReadonlyMap<string, string>, fittedAt: string): FittedRows {
-  const rows: CurveRowToStore[] = []
-  for (const curve of curves) {
-    const row: CurveRowToStore = curveRow(curve, fittedAt)
-    row.details_json = Buffer.from(row.details_json as string)
-    rows.push(row)
-  }
-  return { rows, ...summariseFitted(curves, previous) }
-}
-
-/**
- * The rows of decided skills, each made as it is taken: a row's details JSON can go as soon as it is
- * stored (made all at once and kept for the transaction, 20,000 rows' 138 MB of details cost the
- * garbage collector several seconds at the N = 1,000,000 benchmark).
- */
-export function* rowsOf(curves: readonly SkillCurve[], fittedAt: string): Generator<CurveRowToStore> {
-  for (const curve of curves) yield curveRow(curve, fittedAt)
 }

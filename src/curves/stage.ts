@@ -111,17 +111,16 @@ async function fitAndStore(
   for (const failure of result.failures) log(`fit: skill ${failure.id} skipped: ${failure.error}`)
   const { states } = result
   let changed = 0
-  let skills = 0
   const writeStarted = performance.now()
   db.transaction(() => {
-    skills = replaceCurves(db, result.rows)
+    replaceCurves(db, result.rows)
     for (const event of result.events) {
       if (!event) continue
       emit(db, 'skill.state-changed', event)
       changed++
     }
     emit(db, 'curves.fitted', {
-      skills,
+      skills: result.rows.length,
       tested: result.tested,
       failures: result.failures.length,
       states,
@@ -134,13 +133,13 @@ async function fitAndStore(
   const writeMs = performance.now() - writeStarted
   const seconds = (performance.now() - started) / 1000
   const summary =
-    `fitted ${skills} skills in ${seconds.toFixed(1)} s: ` +
+    `fitted ${result.rows.length} skills in ${seconds.toFixed(1)} s: ` +
     (['emerging', 'rising', 'steady', 'declining', 'fading', 'insufficient-evidence'] as SkillState[]).map((state) => `${states[state] ?? 0} ${state}`).join(', ') +
     `; ${changed} state change${changed === 1 ? '' : 's'}` +
     (result.failures.length ? `; ${result.failures.length} skipped (bad input)` : '')
   return {
     summary,
-    counts: { skills, tested: result.tested, stateChanges: changed, failures: result.failures.length, badMonths: badMonths.length,
+    counts: { skills: result.rows.length, tested: result.tested, stateChanges: changed, failures: result.failures.length, badMonths: badMonths.length,
       // where the time went: reading the demand aggregates, fitting (with the rows' details), writing curves and events
       threads: result.threads, readMs: Math.round(readMs), fitMs: Math.round(fitMs), writeMs: Math.round(writeMs) },
     status: result.failures.length || badMonths.length ? 'partial' : 'ok',
