@@ -9,10 +9,8 @@
  */
 import { DEFAULT_CURVES_CONFIG } from '../src/curves/config.ts'
 import { fitAll } from '../src/curves/fit-all.ts'
-import { fitToRows } from '../src/curves/fit-threads.ts'
 import { monthLabel, monthIndex } from '../src/curves/months.ts'
 import type { SkillSeriesInput } from '../src/curves/series.ts'
-import { defaultThreads } from '../src/util/worker.ts'
 import { reportBench, type Figure } from './report.ts'
 
 /** mulberry32 (public domain) */
@@ -142,28 +140,8 @@ function sparseRun(figures: Figure[]): void {
   figures.push({ figure: '  curves with an omitted optional part', value: withOmitted, unit: '' })
 }
 
-/**
- * What the fit stage does with the fitted skills: their rows (details JSON) and state-change events,
- * on one thread and on one per core (fit-threads.ts; the same rows), including the worker's start.
- */
-async function threadsRun(figures: Figure[]): Promise<void> {
-  const { inputs } = corpus(false)
-  const at = new Date().toISOString()
-  const timed = async (threads: number) => {
-    const t0 = performance.now()
-    const result = await fitToRows(inputs, DEFAULT_CURVES_CONFIG, new Map(), at, { threads, minSkills: 0 })
-    return { wall: (performance.now() - t0) / 1000, threads: result.threads }
-  }
-  const one = await timed(1)
-  const many = await timed(defaultThreads())
-  figures.push({ figure: `fit and rows, ${SKILLS.toLocaleString('en-GB')} skills, 1 thread`, value: one.wall, unit: 's' })
-  figures.push({ figure: `fit and rows, ${many.threads} threads (with the worker's start)`, value: many.wall, unit: 's' })
-  figures.push({ figure: '  speed-up', value: one.wall / many.wall, unit: 'x' })
-}
-
 const figures: Figure[] = []
 run('fit external only', false, figures)
 run('fit with internal series (1 in 5)', true, figures)
 sparseRun(figures)
-await threadsRun(figures)
 reportBench('fit', figures)

@@ -31,17 +31,6 @@ export interface FitAllResult {
  * ```
  */
 export function fitAll(inputs: readonly SkillSeriesInput[], config: CurvesConfig, previous: ReadonlyMap<string, string> = new Map()): FitAllResult {
-  const { described, failures } = describeSkills(inputs, config, windowEnd(inputs))
-  const pValues = familyPValues(described)
-  const adjusted = benjaminiHochberg(pValues, config.q).adjusted
-  return { curves: decideSkills(described, adjusted, config, previous), failures, tested: pValues.filter((p) => !Number.isNaN(p)).length }
-}
-
-/**
- * The run's window end: the latest month of any skill (month index), or undefined when no skill
- * has a well-formed month (each skill then reports its own problem).
- */
-export function windowEnd(inputs: readonly SkillSeriesInput[]): number | undefined {
   let lastMonth = -Infinity
   for (const input of inputs) {
     for (const month of input.months) {
@@ -52,33 +41,18 @@ export function windowEnd(inputs: readonly SkillSeriesInput[]): number | undefin
       }
     }
   }
-  return Number.isFinite(lastMonth) ? lastMonth : undefined
-}
-
-/**
- * The first half of {@link fitAll}: each skill analysed and described on its own (what does not
- * depend on the other skills), in input order; a malformed skill goes to `failures`.
- */
-export function describeSkills(inputs: readonly SkillSeriesInput[], config: CurvesConfig, lastMonth: number | undefined): { described: DescribedSkill[]; failures: FitAllResult['failures'] } {
   // each analysis is described at once and let go: only the small described curves wait for BH
   const described: DescribedSkill[] = []
   const failures: FitAllResult['failures'] = []
   for (const input of inputs) {
     try {
-      described.push(describeSkill(analyseSkill(input, config, lastMonth)))
+      described.push(describeSkill(analyseSkill(input, config, Number.isFinite(lastMonth) ? lastMonth : undefined)))
     } catch (error) {
       failures.push({ id: input.id, error: error instanceof Error ? error.message : String(error) })
     }
   }
-  return { described, failures }
-}
-
-/** The p-values of the BH family, one per described skill (NaN: not tested). */
-export function familyPValues(described: readonly DescribedSkill[]): number[] {
-  return described.map((skill) => (skill.curve.pValue !== null && Number.isFinite(skill.curve.pValue) ? skill.curve.pValue : Number.NaN))
-}
-
-/** The second half of {@link fitAll}: every described skill decided with its BH-adjusted p-value (NaN: none). */
-export function decideSkills(described: readonly DescribedSkill[], adjusted: ArrayLike<number>, config: CurvesConfig, previous: ReadonlyMap<string, string>): SkillCurve[] {
-  return described.map((skill, i) => decideSkill(skill, Number.isNaN(adjusted[i]!) ? null : adjusted[i]!, config, previous.get(skill.curve.id) ?? null))
+  const pValues = described.map((skill) => (skill.curve.pValue !== null && Number.isFinite(skill.curve.pValue) ? skill.curve.pValue : Number.NaN))
+  const adjusted = benjaminiHochberg(pValues, config.q).adjusted
+  const curves = described.map((skill, i) => decideSkill(skill, Number.isNaN(adjusted[i]!) ? null : adjusted[i]!, config, previous.get(skill.curve.id) ?? null))
+  return { curves, failures, tested: pValues.filter((p) => !Number.isNaN(p)).length }
 }

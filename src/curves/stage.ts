@@ -8,15 +8,17 @@
  */
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
-import { countDecidedCurves, readCurveStates, readMonthlyDemand, rebuildDemandCounts, replaceCurves } from '../db/curves.ts'
-import type { MonthlyDemand } from '../db/curves.ts'
+import { readCurveStates, readMonthlyDemand, rebuildDemandCounts, replaceCurves } from '../db/curves.ts'
+import type { CurveRow, MonthlyDemand } from '../db/curves.ts'
 import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
-import { defaultThreads } from '../util/worker.ts'
-import { FitThreads, fitToRows, MIN_SKILLS_FOR_THREADS } from './fit-threads.ts'
-import { isMonth } from './months.ts'
+import { fitAll } from './fit-all.ts'
+import type { SkillCurve } from './fit-skill.ts'
+import { isMonth, monthIndex } from './months.ts'
 import type { SkillSeriesInput } from './series.ts'
 import type { SkillState } from './state.ts'
+
+const FLAGGED: readonly string[] = ['emerging', 'rising', 'declining', 'fading']
 
 /**
  * One series input per concept of the taxonomy, on the run's months (a month with no documents of
@@ -53,15 +55,97 @@ function validMonths(demand: MonthlyDemand): string[] {
 }
 
 
+type MonthSeries = { months: readonly string[]; values: number[] }
+
+function isMonthSeries(x: unknown): x is MonthSeries {
+  return typeof x === 'object' && x !== null && Array.isArray((x as MonthSeries).months) && Array.isArray((x as MonthSeries).values)
+}
+
+/** Month lists already checked to be consecutive (every skill of a run shares the run's list). */
+const consecutiveLists = new WeakMap<readonly string[], boolean>()
+
+/**
+ * A month series as stored in details_json: its first month and its values when the months are
+ * consecutive (`{ start, values }`; server/payloads.ts readMonthSeries expands it), else as it is.
+ * The fitted and combined series' month strings were a fifth of the details' bytes.
+ */
+export function compactSeries<T>(series: T): T | { start: string; values: number[] } {
+  if (!isMonthSeries(series) || series.months.length === 0 || series.months.length !== series.values.length) return series
+  let consecutive = consecutiveLists.get(series.months)
+  if (consecutive === undefined) {
+    const first = monthIndex(series.months[0]!)
+    consecutive = series.months.every((month, i) => isMonth(month) && monthIndex(month) === first + i)
+    consecutiveLists.set(series.months, consecutive)
+  }
+  return consecutive ? { start: series.months[0]!, values: series.values } : series
+}
+
+const finite = (x: number | null | undefined): number | null => (x !== null && x !== undefined && Number.isFinite(x) ? x : null)
+
+/** The stored row of a fitted curve; details carry the method figures the columns do not. */
+export function curveRow(curve: SkillCurve, fittedAt: string): CurveRow {
+  return {
+    concept_id: curve.id,
+    state: curve.state,
+    annual_growth: finite(curve.annualGrowth),
+    growth_low: finite(curve.annualGrowthInterval?.[0]),
+    growth_high: finite(curve.annualGrowthInterval?.[1]),
+    half_life_months: finite(curve.halfLifeMonths),
+    half_life_low: finite(curve.halfLifeInterval?.[0]),
+    half_life_high: finite(curve.halfLifeInterval?.[1]),
+    p_value: finite(curve.pValue),
+    p_adjusted: finite(curve.pAdjusted),
+    latest_share: finite(curve.latestShare),
+    forecast_share12: finite(curve.forecastShare12),
+    forecast_method: curve.forecastMethod,
+    change_month: curve.changeMonth,
+    emerged_month: curve.emergedMonth,
+    details_json: JSON.stringify({
+      ...curve.details,
+      fitted: compactSeries(curve.details.fitted),
+      combined: compactSeries(curve.details.combined),
+      stateReason: curve.stateReason,
+      beta: curve.beta,
+      betaInterval: curve.betaInterval,
+      mannKendall: curve.mannKendall,
+      senSlope: curve.senSlope,
+      latestMonth: curve.latestMonth,
+    }),
+    fitted_at: fittedAt,
+  }
+}
+
+/** The evidence a `skill.state-changed` event carries. */
+function stateEvent(curve: SkillCurve, before: string | null): Record<string, unknown> {
+  return {
+    id: curve.id,
+    label: curve.label,
+    before,
+    after: curve.state,
+    reason: curve.stateReason,
+    evidence: {
+      annualGrowth: finite(curve.annualGrowth),
+      annualGrowthInterval: curve.annualGrowthInterval,
+      halfLifeMonths: finite(curve.halfLifeMonths),
+      halfLifeInterval: curve.halfLifeInterval,
+      pValue: finite(curve.pValue),
+      pAdjusted: finite(curve.pAdjusted),
+      mannKendall: curve.mannKendall ? { tau: curve.mannKendall.tau, p: curve.mannKendall.pValue, seasonal: curve.mannKendall.seasonal } : null,
+      changeMonth: curve.changeMonth,
+      emergedMonth: curve.emergedMonth,
+      latestMonth: curve.latestMonth,
+      latestShare: finite(curve.latestShare),
+      forecastShare12: finite(curve.forecastShare12),
+      forecastMethod: curve.forecastMethod,
+    },
+  }
+}
+
 export interface FitRunOptions {
   /** repair first: recompute the demand aggregates from documents and mentions (`tides run fit --rebuild`) */
   rebuild?: boolean
   /** the moment recorded as fitted_at (default: now) */
   now?: Date
-  /** threads for the fit, this one included (default: one per core; used only for a large run, see fit-threads.ts) */
-  threads?: number
-  /** fewest fully analysed skills before worker threads are started (default: fit-threads.ts) */
-  minSkillsForThreads?: number
   log?: (message: string) => void
 }
 
@@ -71,29 +155,11 @@ export interface FitRunOptions {
  *
  * A skill enters `skill.state-changed` when its state differs from the stored one; a skill fitted
  * for the first time only when it is flagged (emerging, rising, declining, fading), so that a first
- * run does not announce thousands of steady skills (rows.ts `announced`).
+ * run does not announce thousands of steady skills.
  */
-export async function runFit(db: Db, config: Config, options: FitRunOptions = {}): Promise<StageResult> {
+export function runFit(db: Db, config: Config, options: FitRunOptions = {}): StageResult {
   const log = options.log ?? (() => {})
   const started = performance.now()
-  const threads = options.threads ?? defaultThreads()
-  const minSkills = options.minSkillsForThreads ?? MIN_SKILLS_FOR_THREADS
-  // when the last fit was large, the workers start now and load while the inputs are read
-  const pool = threads > 1 && countDecidedCurves(db) >= minSkills ? FitThreads.start(threads) : undefined
-  try {
-    return await fitAndStore(db, config, options, { started, threads, minSkills, pool, log })
-  } finally {
-    await pool?.stop()
-  }
-}
-
-async function fitAndStore(
-  db: Db,
-  config: Config,
-  options: FitRunOptions,
-  run: { started: number; threads: number; minSkills: number; pool: FitThreads | undefined; log: (message: string) => void },
-): Promise<StageResult> {
-  const { started, log } = run
   if (options.rebuild) log(`fit: demand aggregates rebuilt from documents and mentions (${rebuildDemandCounts(db)} rows)`)
   const demand = readMonthlyDemand(db)
   const readMs = performance.now() - started
@@ -103,24 +169,29 @@ async function fitAndStore(
   const inputs = seriesInputs(demand)
   log(`fit: ${inputs.length} skills over ${months.length} months (${months[0] ?? '-'} to ${months.at(-1) ?? '-'})`)
   const previous = readCurveStates(db)
-  const fittedAt = (options.now ?? new Date()).toISOString()
   const fitStarted = performance.now()
-  const result = await fitToRows(inputs, config.curves, previous, fittedAt, { threads: run.threads, pool: run.pool, minSkills: run.minSkills, log })
+  const result = fitAll(inputs, config.curves, previous)
   const fitMs = performance.now() - fitStarted
-  if (result.threads > 1) log(`fit: ${result.threads} threads`)
   for (const failure of result.failures) log(`fit: skill ${failure.id} skipped: ${failure.error}`)
-  const { states } = result
+  const fittedAt = (options.now ?? new Date()).toISOString()
+  const states: Record<string, number> = {}
   let changed = 0
   const writeStarted = performance.now()
   db.transaction(() => {
-    replaceCurves(db, result.rows)
-    for (const event of result.events) {
-      if (!event) continue
-      emit(db, 'skill.state-changed', event)
+    // rows made one at a time as they are written: each details string can go once it is stored
+    replaceCurves(db, (function* () {
+      for (const curve of result.curves) yield curveRow(curve, fittedAt)
+    })())
+    for (const curve of result.curves) {
+      states[curve.state] = (states[curve.state] ?? 0) + 1
+      const before = previous.get(curve.id) ?? null
+      if (before === curve.state) continue
+      if (before === null && !FLAGGED.includes(curve.state)) continue
+      emit(db, 'skill.state-changed', stateEvent(curve, before))
       changed++
     }
     emit(db, 'curves.fitted', {
-      skills: result.rows.length,
+      skills: result.curves.length,
       tested: result.tested,
       failures: result.failures.length,
       states,
@@ -133,15 +204,15 @@ async function fitAndStore(
   const writeMs = performance.now() - writeStarted
   const seconds = (performance.now() - started) / 1000
   const summary =
-    `fitted ${result.rows.length} skills in ${seconds.toFixed(1)} s: ` +
+    `fitted ${result.curves.length} skills in ${seconds.toFixed(1)} s: ` +
     (['emerging', 'rising', 'steady', 'declining', 'fading', 'insufficient-evidence'] as SkillState[]).map((state) => `${states[state] ?? 0} ${state}`).join(', ') +
     `; ${changed} state change${changed === 1 ? '' : 's'}` +
     (result.failures.length ? `; ${result.failures.length} skipped (bad input)` : '')
   return {
     summary,
-    counts: { skills: result.rows.length, tested: result.tested, stateChanges: changed, failures: result.failures.length, badMonths: badMonths.length,
-      // where the time went: reading the demand aggregates, fitting (with the rows' details), writing curves and events
-      threads: result.threads, readMs: Math.round(readMs), fitMs: Math.round(fitMs), writeMs: Math.round(writeMs) },
+    counts: { skills: result.curves.length, tested: result.tested, stateChanges: changed, failures: result.failures.length, badMonths: badMonths.length,
+      // where the time went: reading the demand aggregates, fitting, writing curves and events
+      readMs: Math.round(readMs), fitMs: Math.round(fitMs), writeMs: Math.round(writeMs) },
     status: result.failures.length || badMonths.length ? 'partial' : 'ok',
   }
 }

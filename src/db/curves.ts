@@ -277,18 +277,6 @@ export function readCurveStates(db: Db): Map<string, string> {
 }
 
 /**
- * A curves row to store: its details JSON as a string or as its UTF-8 bytes (stored as the same
- * TEXT). The fit keeps the bytes: outside the JavaScript heap, thousands of rows of details waiting
- * for their transaction cost the garbage collector nothing, and pass between threads as one copy.
- */
-export type CurveRowToStore = Omit<CurveRow, 'details_json'> & { details_json: string | Uint8Array }
-
-/** Stored curves with a state other than insufficient-evidence (a scan of the state index). */
-export function countDecidedCurves(db: Db): number {
-  return db.prepare("SELECT COUNT(*) FROM curves WHERE state <> 'insufficient-evidence'").pluck().get() as number
-}
-
-/**
  * Replace the curves table with the given rows (inside the caller's transaction): curves of skills
  * that are no longer fitted (removed from the taxonomy) go.
  *
@@ -297,14 +285,14 @@ export function countDecidedCurves(db: Db): number {
  * db.transaction(() => replaceCurves(db, rows))()
  * ```
  */
-export function replaceCurves(db: Db, rows: Iterable<CurveRowToStore>): number {
+export function replaceCurves(db: Db, rows: Iterable<CurveRow>): number {
   db.prepare('DELETE FROM curves').run()
   // positional parameters: binding by name costs a lookup per parameter per row
   const insert = db.prepare(
     `INSERT INTO curves (concept_id, state, annual_growth, growth_low, growth_high, half_life_months, half_life_low,
        half_life_high, p_value, p_adjusted, latest_share, forecast_share12, forecast_method, change_month, emerged_month,
        details_json, fitted_at)
-     VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, CAST(? AS TEXT), ?)`,
+     VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
   )
   let count = 0
   for (const r of rows) {

@@ -34,8 +34,7 @@ import type { Config } from '../config.ts'
 import { findCandidateTerms, type CandidateResult } from './candidates.ts'
 import type { MapInput, Matcher } from './matcher.ts'
 import { documentInput, mentionRows, type MentionRow } from './rows.ts'
-import { candidatesInBackground, MapperPool, mapperSource, type BackgroundCandidates, type MapperSource } from './parallel.ts'
-import { defaultThreads } from '../util/worker.ts'
+import { candidatesInBackground, defaultThreads, MapperPool, mapperSource, type BackgroundCandidates, type MapperSource } from './parallel.ts'
 import { ensureTaxonomy, matcherFromDb, storedTaxonomy } from './store.ts'
 
 const BATCH = 1000

@@ -144,7 +144,7 @@ describe('demand aggregates kept by the map stage', () => {
     const dupes = db.prepare('SELECT COUNT(*) FROM documents WHERE duplicate_of IS NOT NULL').pluck().get() as number
     expect(dupes).toBe(reposts.length)
 
-    await fit(db)
+    fit(db)
     expectDemandTable(db)
 
     // a second import (later months, and more in a month already counted) adds only its own documents
@@ -157,7 +157,7 @@ describe('demand aggregates kept by the map stage', () => {
     expect(after.totals.external.get('2024-08')).toBe(10)
 
     // the fit stage and the dashboard read the aggregates: the rows the recomputation gives
-    await fit(db)
+    fit(db)
     expectDemandTable(db)
     const stored = demandFor(db, ['kubernetes'], 'external').map(({ n, total }) => ({ n, total }))
     const full = recomputeMonthlyDemand(db)
@@ -180,7 +180,7 @@ describe('demand aggregates kept by the map stage', () => {
     const remapped = expectInStep(db)
     expect(ext(remapped, 'quillstream', '2024-01')).toBeGreaterThan(0)
     expect(remapped.totals.external.get('2024-01')).toBe(10)
-    await fit(db)
+    fit(db)
     expectDemandTable(db)
 
     const file = path.join(tmp, 'mini.csv')
@@ -194,7 +194,7 @@ describe('demand aggregates kept by the map stage', () => {
     // containers counts by roll-up exactly where kubernetes does
     expect(again.mentions.get('containers')!.external).toEqual(again.mentions.get('kubernetes')!.external)
     // concepts no longer in the taxonomy have no demand left
-    await fit(db)
+    fit(db)
     expectDemandTable(db)
     expect(demandFor(db, ['quillstream'])).toEqual([])
   }, 60_000)

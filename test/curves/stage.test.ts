@@ -8,8 +8,7 @@ import { parseConfig } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
 import { emit } from '../../src/events/outbox.ts'
 import { ripple } from '../../src/pipeline.ts'
-import { runFit } from '../../src/curves/stage.ts'
-import { compactSeries } from '../../src/curves/rows.ts'
+import { compactSeries, runFit } from '../../src/curves/stage.ts'
 import { readCurveDetails, readMonthSeries } from '../../src/server/payloads.ts'
 import { readMonthlyDemand, rebuildDemandCounts, recomputeMonthlyDemand } from '../../src/db/curves.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
@@ -78,10 +77,10 @@ const config = parseConfig({ db: ':memory:' })
 const NOW = new Date('2026-01-15T00:00:00Z')
 
 describe('fit stage', () => {
-  it('writes the curves in one go and emits curves.fitted and the flagged states', async () => {
+  it('writes the curves in one go and emits curves.fitted and the flagged states', () => {
     const db = openDb(':memory:')
     const { mentions } = loadCorpus(db)
-    const result = await runFit(db, config, { now: NOW })
+    const result = runFit(db, config, { now: NOW })
     expect(result.counts['skills']).toBe(5)
 
     // the demand fitted and charted: originals only, reposts left out of both counts and totals
@@ -118,46 +117,21 @@ describe('fit stage', () => {
     expect(jquery['evidence']).toMatchObject({ halfLifeMonths: expect.any(Number), pAdjusted: expect.any(Number) })
   })
 
-  it('announces a state change with before and after on a later run, and nothing when states stay', async () => {
+  it('announces a state change with before and after on a later run, and nothing when states stay', () => {
     const db = openDb(':memory:')
     loadCorpus(db)
-    await runFit(db, config, { now: NOW })
-    await runFit(db, config, { now: NOW })
+    runFit(db, config, { now: NOW })
+    runFit(db, config, { now: NOW })
     expect(events(db, 'skill.state-changed')).toHaveLength(2)
     // pretend jQuery was steady at the last fit
     db.prepare("UPDATE curves SET state = 'steady' WHERE concept_id = 'jquery'").run()
-    await runFit(db, config, { now: NOW })
+    runFit(db, config, { now: NOW })
     const last = events(db, 'skill.state-changed').at(-1)!
     expect(last).toMatchObject({ id: 'jquery', label: 'jQuery', before: 'steady', after: 'declining' })
     expect(events(db, 'curves.fitted')).toHaveLength(3)
   })
 
-  it('stores the same curves and events when the skills are fitted on worker threads', async () => {
-    const stored = async (threads: number) => {
-      const db = openDb(':memory:')
-      loadCorpus(db)
-      db.prepare("INSERT INTO curves (concept_id, state, details_json, fitted_at) VALUES ('sql', 'rising', '{}', 'x')").run()
-      const result = await runFit(db, config, { now: NOW, threads, minSkillsForThreads: 0 })
-      return {
-        curves: db.prepare('SELECT *, typeof(details_json) AS type FROM curves ORDER BY concept_id').all(),
-        events: db.prepare('SELECT type, payload_json FROM events ORDER BY id').all(),
-        threads: result.counts['threads'],
-      }
-    }
-    const one = await stored(1)
-    const two = await stored(2)
-    expect(one.threads).toBe(1)
-    expect(two.curves).toEqual(one.curves)
-    expect(two.events).toEqual(one.events)
-    expect(one.curves.length).toBeGreaterThan(0)
-    for (const row of one.curves as { type: string; details_json: string }[]) {
-      expect(row.type).toBe('text')
-      expect(() => JSON.parse(row.details_json)).not.toThrow()
-    }
-    expect((one.events as { type: string }[]).map((e) => e.type)).toContain('skill.state-changed')
-  })
-
-  it('leaves out documents that are not mapped yet and months that are not YYYY-MM', async () => {
+  it('leaves out documents that are not mapped yet and months that are not YYYY-MM', () => {
     const db = openDb(':memory:')
     loadCorpus(db)
     db.prepare("UPDATE documents SET mapped_version = NULL WHERE month = '2025-12' AND kind = 'posting'").run()
@@ -168,7 +142,7 @@ describe('fit stage', () => {
     expect(read).toEqual(recomputeMonthlyDemand(db))
     expect(read.mentions.get('sql')!.internal.get('2025-13')).toBeGreaterThan(0)
     const logs: string[] = []
-    const result = await runFit(db, config, { now: NOW, log: (message) => logs.push(message) })
+    const result = runFit(db, config, { now: NOW, log: (message) => logs.push(message) })
     expect(result.status).toBe('partial')
     expect(logs.join('\n')).toMatch(/month is not YYYY-MM: "2025-13"/)
     const charted = demandFor(db, ['sql'])
@@ -203,13 +177,13 @@ describe('fit stage', () => {
     expect(db.prepare('SELECT COUNT(*) AS c FROM curves').get()).toEqual({ c: 5 })
   })
 
-  it('reports skills with DESIGN.md fields and method details', async () => {
+  it('reports skills with DESIGN.md fields and method details', () => {
     const db = openDb(':memory:')
     loadCorpus(db)
     const empty = REPORTS['skills']!.build(db, config, {})
     expect(empty.rows).toEqual([])
     expect(empty.footer).toMatch(/run `tides run fit`/)
-    await runFit(db, config, { now: NOW })
+    runFit(db, config, { now: NOW })
     const report = REPORTS['skills']!.build(db, config, {})
     const json = report.json as Record<string, unknown>[]
     expect(json.map((row) => row['id'])).toEqual(['kubernetes', 'jquery', 'sql', 'cobol', 'ghost'])
@@ -251,10 +225,10 @@ describe('fit stage', () => {
 })
 
 describe('fitted and combined series stored compactly', () => {
-  it('stores consecutive months as their start, and the dashboard reads back the same months and values', async () => {
+  it('stores consecutive months as their start, and the dashboard reads back the same months and values', () => {
     const db = openDb(':memory:')
     loadCorpus(db)
-    await runFit(db, config, { now: NOW })
+    runFit(db, config, { now: NOW })
     const row = db.prepare("SELECT details_json FROM curves WHERE concept_id = 'kubernetes'").get() as { details_json: string }
     const stored = JSON.parse(row.details_json) as { fitted: { start: string; values: number[] }; combined: { start: string; values: number[] } }
     expect(stored.fitted).toEqual({ start: '2023-01', values: expect.any(Array) })
