@@ -29,13 +29,6 @@ export function sketchOfStored(signature: Uint8Array): Buffer {
   return out
 }
 
-/** The sketch of a signature held in memory: the low byte of each value. */
-export function sketchOf(signature: Uint32Array): Buffer {
-  const out = Buffer.alloc(signature.length)
-  for (let i = 0; i < signature.length; i++) out[i] = signature[i]! & 0xff
-  return out
-}
-
 /** Registers SKETCH_FUNCTION on a connection (openDb does, before migrating). */
 export function registerSketchFunction(db: Db): void {
   db.function(SKETCH_FUNCTION, { deterministic: true }, (sig: unknown) => (sig instanceof Uint8Array ? sketchOfStored(sig) : null))

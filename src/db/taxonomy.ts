@@ -217,11 +217,11 @@ function uncount(db: Db, delta: DemandDelta, id: number, kind: string, month: st
 /**
  * Replaces the mentions of a batch of documents (and their rows of mention_lists), records the
  * taxonomy version they were mapped with, and keeps the demand aggregates in step (a document that
- * counted before has its old
- * mentions taken out; an original counts with its new ones). Documents go in id order, each one's
- * mentions in concept order (appends to the table's primary key). One prepared single-row INSERT:
- * measured on the N = 100,000 benchmark database, 100-row INSERT statements stored 289,617 mention
- * rows about 2.5 times slower than single-row ones. Call inside the batch's transaction.
+ * counted before has its old mentions taken out; an original counts with its new ones). Documents
+ * go in id order, each one's mentions in concept order (appends to the table's primary key). One
+ * prepared single-row INSERT: measured on the N = 100,000 benchmark database, 100-row INSERT
+ * statements stored 289,617 mention rows about 2.5 times slower than single-row ones. Call inside
+ * the batch's transaction.
  */
 export function saveMappings(db: Db, version: number, docs: readonly DocumentMapping[]): void {
   const delta = new DemandDelta()
