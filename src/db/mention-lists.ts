@@ -141,13 +141,12 @@ export function conceptCodes(db: Db, ids: Iterable<string>): Map<string, number>
 export function mentionListWriter(db: Db, concepts: Iterable<string>): (kind: string, month: string, documentId: number, direct: readonly string[]) => void {
   const codes = conceptCodes(db, concepts)
   const upsert = stmt(db, 'INSERT OR REPLACE INTO mention_lists (kind, month, document_id, codes) VALUES (?, ?, ?, ?)')
-  const remove = stmt(db, 'DELETE FROM mention_lists WHERE kind = ? AND month = ? AND document_id = ?')
   // one buffer for the batch: SQLite copies a bound blob
   let scratch = Buffer.allocUnsafe(256)
   const coded: number[] = []
   return (kind, month, documentId, direct) => {
     if (direct.length === 0) {
-      remove.run(kind, month, documentId)
+      deleteMentionList(db, kind, month, documentId)
       return
     }
     coded.length = 0

@@ -193,6 +193,8 @@ export function* readConceptLists(db: Db, kind: 'posting' | 'request', sinceMont
     let list: string[] | null = null
     let code = 0
     let shift = 0
+    // decodeCodes (db/mention-lists.ts) inlined for the month's concatenation: a zero byte ends a
+    // document, and codes outside the listed concepts are skipped as they are read
     for (let i = 0; i <= blob.length; i++) {
       const x = i < blob.length ? blob[i]! : 0
       if (x === 0) {
