@@ -480,6 +480,19 @@ INSERT INTO mention_lists (kind, month, document_id, codes)
   ORDER BY d.kind, d.month, l.document_id;
 `
 
+/**
+ * Migration 8: `matcher_cache`, the compiled matcher of the current taxonomy version (one row; see
+ * taxonomy/matcher-cache.ts). Filled by the first run that needs the matcher.
+ */
+const V8_MATCHER_CACHE = `
+CREATE TABLE matcher_cache (
+  taxonomy_version INTEGER NOT NULL,
+  code TEXT NOT NULL,
+  data BLOB NOT NULL,
+  PRIMARY KEY (taxonomy_version, code)
+);
+`
+
 export const MIGRATIONS: readonly Migration[] = [
   { version: 1, name: 'core tables', sql: V1_CORE },
   { version: 2, name: 'indexes for duplicates, states and ranks', sql: V2_RUN_INDEXES },
@@ -488,6 +501,7 @@ export const MIGRATIONS: readonly Migration[] = [
   { version: 5, name: 'index of the unmapped originals only', sql: V5_UNMAPPED_ORIGINALS },
   { version: 6, name: 'recent band rows; signature sketches', sql: V6_BAND_LEVELS_AND_SKETCHES },
   { version: 7, name: 'direct mentions per document as one row of concept codes', sql: V7_MENTION_LISTS },
+  { version: 8, name: 'compiled matcher cache', sql: V8_MATCHER_CACHE },
 ]
 
 /** The schema version this build of the program writes. */

@@ -46,7 +46,23 @@ export function taxonomyVersion(db: Db): number {
 export function bumpTaxonomyVersion(db: Db): number {
   const v = taxonomyVersion(db) + 1
   setSetting(db, VERSION_KEY, String(v))
+  // the compiled matcher of the old version is no use any more (taxonomy/matcher-cache.ts)
+  stmt(db, 'DELETE FROM matcher_cache').run()
   return v
+}
+
+/** The compiled matcher stored for a taxonomy version and build of the code, if any. */
+export function readMatcherCache(db: Db, version: number, code: string): Buffer | undefined {
+  const row = stmt(db, 'SELECT data FROM matcher_cache WHERE taxonomy_version = ? AND code = ?').get(version, code) as { data: Buffer } | undefined
+  return row?.data
+}
+
+/** Stores the compiled matcher of a taxonomy version (replacing any other: one is kept). */
+export function writeMatcherCache(db: Db, version: number, code: string, data: Uint8Array): void {
+  db.transaction(() => {
+    stmt(db, 'DELETE FROM matcher_cache').run()
+    stmt(db, 'INSERT INTO matcher_cache (taxonomy_version, code, data) VALUES (?, ?, ?)').run(version, code, data)
+  })()
 }
 
 export interface StoredRules {

@@ -144,6 +144,16 @@ export class Matcher {
     return new Matcher(taxonomy, compileMatcher(taxonomy, rules, options))
   }
 
+  /** The matcher of already compiled data (the matcher cache restores it; see matcher-cache.ts). */
+  static fromData(taxonomy: Taxonomy, data: MatcherData): Matcher {
+    return new Matcher(taxonomy, data)
+  }
+
+  /** The compiled data, for the matcher cache; do not modify it. */
+  get compiled(): MatcherData {
+    return this.d
+  }
+
   get labelCount(): number {
     return this.d.labelConcept.length
   }

@@ -10,6 +10,7 @@ import type { Config } from '../config.ts'
 import type { CandidateResult } from './candidates.ts'
 import { commonWordsFor } from './matcher-build.ts'
 import { Matcher, type MapInput } from './matcher.ts'
+import { unpackMatcher } from './matcher-cache.ts'
 import { emptyRules, parseRules } from './rules.ts'
 import { decodeRows, type MentionRow } from './rows.ts'
 import type { Concept, Taxonomy } from './types.ts'
@@ -18,8 +19,10 @@ export interface MapperSource {
   concepts: Concept[]
   rulesText: string | null
   rulesFile: string
-  /** the lexicon's answers for the taxonomy's one-word labels (see commonWordsFor) */
+  /** the lexicon's answers for the taxonomy's one-word labels (see commonWordsFor); not needed with `packed` */
   commonWords: string[]
+  /** the compiled matcher (matcher-cache.ts packMatcher): a worker restores it instead of compiling */
+  packed?: Uint8Array
   /** the database file, when workers read the documents' texts themselves (not for an in-memory database) */
   dbFile?: string
 }
@@ -41,15 +44,34 @@ export interface WorkerResponse {
   error?: string
 }
 
-/** Builds the message that lets a worker rebuild the same matcher (and, with `dbFile`, read the documents). */
-export function mapperSource(taxonomy: Taxonomy, rulesText: string | null, rulesFile: string, dbFile?: string): MapperSource {
-  return { concepts: taxonomy.concepts, rulesText, rulesFile, commonWords: [...commonWordsFor(taxonomy)], ...(dbFile ? { dbFile } : {}) }
+/**
+ * Builds the message that lets a worker rebuild the same matcher (and, with `dbFile`, read the
+ * documents). With `packed` (the compiled matcher of this taxonomy and these rules) workers restore
+ * it instead of compiling it.
+ */
+export function mapperSource(taxonomy: Taxonomy, rulesText: string | null, rulesFile: string, dbFile?: string, packed?: Uint8Array): MapperSource {
+  return {
+    concepts: taxonomy.concepts,
+    rulesText,
+    rulesFile,
+    commonWords: packed ? [] : [...commonWordsFor(taxonomy)],
+    ...(dbFile ? { dbFile } : {}),
+    ...(packed ? { packed } : {}),
+  }
 }
 
 /** The matcher a worker builds from a MapperSource (the same as matcherFromDb's for that taxonomy and rules). */
 export function matcherFromSource(source: MapperSource): Matcher {
+  if (source.packed) {
+    // the pool decodes rows by the position of source.concepts: the restored matcher must agree
+    const restored = unpackMatcher(source.packed)
+    const concepts = restored.taxonomy.concepts
+    if (concepts.length === source.concepts.length && concepts.every((c, i) => c.id === source.concepts[i]!.id)) return restored
+  }
+  const taxonomy: Taxonomy = { concepts: source.concepts, byId: new Map(source.concepts.map((c) => [c.id, c])) }
   const rules = source.rulesText ? parseRules(source.rulesText, source.rulesFile) : emptyRules()
-  return Matcher.build({ concepts: source.concepts, byId: new Map(source.concepts.map((c) => [c.id, c])) }, rules, { commonWords: new Set(source.commonWords) })
+  // a source with packed bytes carries no lexicon answers: asked here when the bytes did not serve
+  return Matcher.build(taxonomy, rules, { commonWords: source.packed ? commonWordsFor(taxonomy) : new Set(source.commonWords) })
 }
 
 /**

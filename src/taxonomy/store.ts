@@ -8,12 +8,13 @@ import fs from 'node:fs'
 import path from 'node:path'
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
-import { bumpTaxonomyVersion, conceptCount, readConcepts, replaceTaxonomy, storedRules, taxonomyVersion, type StoredRules } from '../db/taxonomy.ts'
+import { bumpTaxonomyVersion, conceptCount, readConcepts, readMatcherCache, replaceTaxonomy, storedRules, taxonomyVersion, writeMatcherCache, type StoredRules } from '../db/taxonomy.ts'
 import { emit } from '../events/outbox.ts'
 import type { InputProblem } from '../util/csv.ts'
 import { formatOf, loadTaxonomyText, rulesFileFor, SHIPPED_RULES, SHIPPED_TAXONOMY } from './index.ts'
 import { compileMatcher } from './matcher-build.ts'
 import { Matcher } from './matcher.ts'
+import { matcherCodeKey, packMatcher, unpackMatcher } from './matcher-cache.ts'
 import { emptyRules, parseRules } from './rules.ts'
 import type { Concept, ConceptRecord, Problem, Taxonomy } from './types.ts'
 import { buildTaxonomy } from './validate.ts'
@@ -131,13 +132,61 @@ export function storedTaxonomy(db: Db): Taxonomy {
 
 const matchers = new WeakMap<Db, { version: number; matcher: Matcher }>()
 
-/** The matcher for the stored taxonomy and rules, rebuilt only when the taxonomy version changes. */
+/**
+ * The matcher for the stored taxonomy and rules: kept per connection until the taxonomy version
+ * changes, and between runs in the database (taxonomy/matcher-cache.ts); compiled only when
+ * neither holds it.
+ */
 export function matcherFromDb(db: Db): Matcher {
   const version = taxonomyVersion(db)
   const cached = matchers.get(db)
   if (cached && cached.version === version) return cached.matcher
-  const rules = storedRules(db)
-  const matcher = Matcher.build(storedTaxonomy(db), rules ? parseRules(rules.text, rules.file) : emptyRules())
+  const code = matcherCodeKey()
+  const stored = code ? readMatcherCache(db, version, code) : undefined
+  let matcher: Matcher | undefined
+  if (stored) {
+    try {
+      matcher = unpackMatcher(stored)
+    } catch {
+      matcher = undefined // compiled afresh below and stored again
+    }
+  }
+  if (!matcher) {
+    matcher = compileStored(db)
+    if (code) storeMatcher(db, version, code, packMatcher(matcher))
+  }
   matchers.set(db, { version, matcher })
   return matcher
+}
+
+/**
+ * The stored matcher's bytes (for worker threads, which restore it with unpackMatcher), compiling
+ * and storing it first when the database does not hold it; undefined when nothing can be cached.
+ */
+export function packedMatcherFromDb(db: Db): Uint8Array | undefined {
+  const version = taxonomyVersion(db)
+  const code = matcherCodeKey()
+  if (!code) return undefined
+  const stored = readMatcherCache(db, version, code)
+  if (stored) return stored
+  const matcher = compileStored(db)
+  matchers.set(db, { version, matcher })
+  const bytes = packMatcher(matcher)
+  storeMatcher(db, version, code, bytes)
+  return bytes
+}
+
+function compileStored(db: Db): Matcher {
+  const rules = storedRules(db)
+  return Matcher.build(storedTaxonomy(db), rules ? parseRules(rules.text, rules.file) : emptyRules())
+}
+
+/** Stores the bytes when the connection can write; a read-only or busy database just goes without. */
+function storeMatcher(db: Db, version: number, code: string, bytes: Uint8Array): void {
+  if (db.readonly) return
+  try {
+    writeMatcherCache(db, version, code, bytes)
+  } catch {
+    // the cache is an optimisation: the next run compiles again
+  }
 }

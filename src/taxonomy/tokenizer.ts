@@ -13,6 +13,12 @@
 import { CLASS, F_BREAK, F_LIST, F_SENTENCE, FOLD, HASH_SEED, JOINER, SEPARATOR_FLAGS, SUFFIX, WORD, foldString, hashStep, hashString } from './chars.ts'
 
 /** A growable map from folded token text to a dense integer id. */
+export interface VocabularyParts {
+  strings: string[]
+  slots: Int32Array
+  slotHash: Int32Array
+}
+
 export class Vocabulary {
   readonly strings: string[] = []
   private slots: Int32Array
@@ -29,6 +35,21 @@ export class Vocabulary {
 
   get size(): number {
     return this.strings.length
+  }
+
+  /** Its strings and hash table, for the matcher cache (taxonomy/matcher-cache.ts). */
+  parts(): VocabularyParts {
+    return { strings: this.strings, slots: this.slots, slotHash: this.slotHash }
+  }
+
+  /** The vocabulary {@link parts} describe (the arrays are taken over, not copied). */
+  static fromParts(parts: VocabularyParts): Vocabulary {
+    const v = new Vocabulary(1)
+    for (const string of parts.strings) v.strings.push(string)
+    v.slots = parts.slots
+    v.slotHash = parts.slotHash
+    v.mask = parts.slots.length - 1
+    return v
   }
 
   /** Id of a folded token, adding it when new. */

@@ -171,8 +171,11 @@ export function integrity(file: string): string {
   }
 }
 
-/** Tables whose rows record how the work went (runs, retries, cursors, locks) rather than its results. */
-export const BOOKKEEPING_TABLES = ['job_runs', 'events', 'event_cursors', 'locks', 'webhook_deliveries']
+/**
+ * Tables whose rows record how the work went (runs, retries, cursors, locks) rather than its
+ * results, and the compiled matcher cache (its bytes may differ between equal runs).
+ */
+export const BOOKKEEPING_TABLES = ['job_runs', 'events', 'event_cursors', 'locks', 'webhook_deliveries', 'matcher_cache']
 
 /** contentHash of a database file over every table except the bookkeeping ones. */
 export function resultHash(file: string, except: readonly string[] = BOOKKEEPING_TABLES): string {
