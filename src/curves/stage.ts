@@ -8,8 +8,8 @@
  */
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
-import { readCurveStates, readMonthlyDemand, rebuildDemandCounts, replaceCurves } from '../db/curves.ts'
-import type { CurveRow, MonthlyDemand } from '../db/curves.ts'
+import { readConceptLabels, readCurveStates, readDemandCountArrays, readDemandTotals, rebuildDemandCounts, replaceCurves } from '../db/curves.ts'
+import type { CurveRow } from '../db/curves.ts'
 import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
 import { fitAll } from './fit-all.ts'
@@ -21,39 +21,39 @@ import type { SkillState } from './state.ts'
 const FLAGGED: readonly string[] = ['emerging', 'rising', 'declining', 'fading']
 
 /**
- * One series input per concept of the taxonomy, on the run's months (a month with no documents of
- * a kind has N = 0 there: missing for that series, not zero demand).
+ * One series input per concept of the taxonomy, on the months with documents that are well-formed
+ * YYYY-MM (a month with no documents of a kind has N = 0 there: missing for that series, not zero
+ * demand), and the months left out for their form. Read from the demand aggregates the map stage
+ * keeps, so its cost depends on concepts x months, not on the number of documents.
  *
  * @example
  * ```ts
- * seriesInputs(readMonthlyDemand(db))[0] // => { id, label, months, external: { n, N }, internal?: { n, N } }
+ * demandInputs(db).inputs[0] // => { id, label, months, external: { n, N }, internal?: { n, N } }
  * ```
  */
-export function seriesInputs(demand: MonthlyDemand): SkillSeriesInput[] {
-  const { totals } = demand
-  const months = validMonths(demand)
-  const totalArrays = {
-    external: months.map((month) => totals.external.get(month) ?? 0),
-    internal: months.map((month) => totals.internal.get(month) ?? 0),
+export function demandInputs(db: Db): { inputs: SkillSeriesInput[]; months: string[]; badMonths: string[] } {
+  const totalRows = readDemandTotals(db)
+  const allMonths = [...new Set(totalRows.map((row) => row.month))].sort()
+  const months = allMonths.filter((month) => isMonth(month))
+  const position = new Map(months.map((month, i) => [month, i]))
+  const totals: Record<'external' | 'internal', number[]> = { external: new Array<number>(months.length).fill(0), internal: new Array<number>(months.length).fill(0) }
+  for (const row of totalRows) {
+    const at = position.get(row.month)
+    if (at !== undefined && (row.series === 'external' || row.series === 'internal')) totals[row.series][at] = row.total
   }
-  const hasInternal = totalArrays.internal.some((total) => total > 0)
-  const hasExternal = totalArrays.external.some((total) => total > 0)
+  const hasExternal = totals.external.some((total) => total > 0)
+  const hasInternal = totals.internal.some((total) => total > 0)
+  const counts = readDemandCountArrays(db, months)
   const inputs: SkillSeriesInput[] = []
-  for (const [id, label] of demand.labels) {
-    const counts = demand.mentions.get(id)
+  for (const [id, label] of readConceptLabels(db)) {
+    const own = counts.get(id)
     const input: SkillSeriesInput = { id, label, months }
-    if (hasExternal) input.external = { n: months.map((month) => counts?.external.get(month) ?? 0), N: totalArrays.external }
-    if (hasInternal) input.internal = { n: months.map((month) => counts?.internal.get(month) ?? 0), N: totalArrays.internal }
+    if (hasExternal) input.external = { n: own?.external ?? new Array<number>(months.length).fill(0), N: totals.external }
+    if (hasInternal) input.internal = { n: own?.internal ?? new Array<number>(months.length).fill(0), N: totals.internal }
     inputs.push(input)
   }
-  return inputs
+  return { inputs, months, badMonths: allMonths.filter((month) => !isMonth(month)) }
 }
-
-/** The run's months that are well-formed YYYY-MM (documents with another month value are left out). */
-function validMonths(demand: MonthlyDemand): string[] {
-  return demand.months.filter((month) => isMonth(month))
-}
-
 
 type MonthSeries = { months: readonly string[]; values: number[] }
 
@@ -161,12 +161,9 @@ export function runFit(db: Db, config: Config, options: FitRunOptions = {}): Sta
   const log = options.log ?? (() => {})
   const started = performance.now()
   if (options.rebuild) log(`fit: demand aggregates rebuilt from documents and mentions (${rebuildDemandCounts(db)} rows)`)
-  const demand = readMonthlyDemand(db)
+  const { inputs, months, badMonths } = demandInputs(db)
   const readMs = performance.now() - started
-  const months = validMonths(demand)
-  const badMonths = demand.months.filter((month) => !isMonth(month))
   if (badMonths.length) log(`fit: left out documents whose month is not YYYY-MM: ${badMonths.slice(0, 5).map((m) => JSON.stringify(m)).join(', ')}${badMonths.length > 5 ? ', …' : ''}`)
-  const inputs = seriesInputs(demand)
   log(`fit: ${inputs.length} skills over ${months.length} months (${months[0] ?? '-'} to ${months.at(-1) ?? '-'})`)
   const previous = readCurveStates(db)
   const fitStarted = performance.now()

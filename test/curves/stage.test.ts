@@ -8,9 +8,10 @@ import { parseConfig } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
 import { emit } from '../../src/events/outbox.ts'
 import { ripple } from '../../src/pipeline.ts'
-import { compactSeries, runFit } from '../../src/curves/stage.ts'
+import { compactSeries, demandInputs, runFit } from '../../src/curves/stage.ts'
 import { readCurveDetails, readMonthSeries } from '../../src/server/payloads.ts'
-import { readMonthlyDemand, rebuildDemandCounts, recomputeMonthlyDemand } from '../../src/db/curves.ts'
+import { rebuildDemandCounts, recomputeMonthlyDemand } from '../../src/db/curves.ts'
+import { referenceInputs } from './reference-inputs.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
 import { monthRange } from './simulate.ts'
 import { seededRandom } from '../stats/seeded-random.ts'
@@ -137,10 +138,12 @@ describe('fit stage', () => {
     db.prepare("UPDATE documents SET mapped_version = NULL WHERE month = '2025-12' AND kind = 'posting'").run()
     db.prepare("UPDATE documents SET month = '2025-13' WHERE month = '2025-11' AND kind = 'request'").run()
     rebuildDemandCounts(db) // the updates above bypass the writers that keep the aggregates
-    // the month that is not YYYY-MM is read back too (fetched apart from the grouped months)
-    const read = readMonthlyDemand(db)
-    expect(read).toEqual(recomputeMonthlyDemand(db))
-    expect(read.mentions.get('sql')!.internal.get('2025-13')).toBeGreaterThan(0)
+    // the fit reads the well-formed months as the recomputation has them, and names the other one
+    const read = demandInputs(db)
+    expect(read.inputs).toEqual(referenceInputs(recomputeMonthlyDemand(db)))
+    expect(read.badMonths).toEqual(['2025-13'])
+    expect(read.months).not.toContain('2025-13')
+    expect(recomputeMonthlyDemand(db).mentions.get('sql')!.internal.get('2025-13')).toBeGreaterThan(0)
     const logs: string[] = []
     const result = runFit(db, config, { now: NOW, log: (message) => logs.push(message) })
     expect(result.status).toBe('partial')
@@ -152,17 +155,19 @@ describe('fit stage', () => {
     expect((db.prepare("SELECT state FROM curves WHERE concept_id = 'sql'").get() as { state: string }).state).toBe('steady')
   })
 
-  it('reads back counts of months that are not YYYY-MM, with spaces in them or not, like the recomputation', () => {
+  it('reads the well-formed months like the recomputation when other months (with spaces in them or not) have counts', () => {
     const db = openDb(':memory:')
     loadCorpus(db)
     db.prepare("UPDATE documents SET month = 'late 2025' WHERE month = '2025-10' AND kind = 'request'").run()
     db.prepare("UPDATE documents SET month = '2025-13' WHERE month = '2025-11' AND kind = 'request'").run()
     rebuildDemandCounts(db)
-    const read = readMonthlyDemand(db)
-    expect(read).toEqual(recomputeMonthlyDemand(db))
-    expect(read.mentions.get('sql')!.internal.get('late 2025')).toBeGreaterThan(0)
-    expect(read.mentions.get('sql')!.internal.get('2025-13')).toBeGreaterThan(0)
-    expect(read.mentions.get('sql')!.internal.get('2025-09')).toBeGreaterThan(0)
+    const full = recomputeMonthlyDemand(db)
+    expect(full.mentions.get('sql')!.internal.get('late 2025')).toBeGreaterThan(0)
+    const read = demandInputs(db)
+    expect(read.inputs).toEqual(referenceInputs(full))
+    expect(read.badMonths).toEqual(['2025-13', 'late 2025'])
+    const sql = read.inputs.find((input) => input.id === 'sql')!
+    expect(sql.internal!.n[sql.months.indexOf('2025-09')]).toBeGreaterThan(0)
   })
 
   it('runs when documents.mapped is announced, and the plan follows curves.fitted', async () => {
