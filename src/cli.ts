@@ -12,10 +12,8 @@ import { COMMANDS as EXTRA_COMMANDS } from './commands/extra.ts'
 import { ConfigError, loadConfig, type Config } from './config.ts'
 import { DbError, describeDbFailure, openDb, type Db } from './db/connection.ts'
 import { closeAbandonedRuns } from './db/runs.ts'
-import { BusyError, runPipeline } from './pipeline.ts'
-import { ServeError } from './errors.ts'
-import { NotBuiltError } from './stage.ts'
-import { STAGE_ORDER } from './stages.ts'
+import { BusyError, ServeError } from './errors.ts'
+import { NotBuiltError, STAGE_ORDER } from './stage.ts'
 import { formatProblem, toCsv } from './util/csv.ts'
 import { printTable } from './util/table.ts'
 
@@ -145,6 +143,8 @@ export const COMMANDS: Record<string, Command> = {
       if (values['calibrate']) options['calibrate'] = true
       if (values['rebuild']) options['rebuild'] = true
       const waitMs = values['wait'] === undefined ? 0 : intArg('--wait', values['wait']) * 1000
+      // the stages' modules load here, not for every command
+      const { runPipeline } = await import('./pipeline.ts')
       const outcomes = await runPipeline(db, config, positionals, { log: (m) => ctx.io.err(m + '\n'), options, ripple: !values['only'], waitMs })
       if (values['json']) ctx.io.out(JSON.stringify(outcomes, null, 2) + '\n')
       else for (const o of outcomes) ctx.io.err(`${o.stage} (${o.trigger}): ${o.error ? `FAILED: ${o.error}` : o.result!.summary} [${(o.ms / 1000).toFixed(1)} s]\n`)

@@ -8,3 +8,8 @@
 export class ServeError extends Error {
   override name = 'ServeError'
 }
+
+/** Another run holds the pipeline lock (pipeline.ts withPipelineLock). */
+export class BusyError extends Error {
+  override name = 'BusyError'
+}

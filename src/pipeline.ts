@@ -11,16 +11,15 @@ import { latestEventId } from './db/events.ts'
 import { finishRun, releaseLock, renewLock, startRun, tryLock } from './db/runs.ts'
 import { acknowledge, pendingFor } from './events/outbox.ts'
 import { deliverAfterRun } from './events/webhooks.ts'
+import { BusyError } from './errors.ts'
 import { NotBuiltError, type Stage, type StageResult } from './stage.ts'
 import { STAGES, STAGE_ORDER, findStage } from './stages.ts'
 
 export const PIPELINE_LOCK = 'pipeline'
 const LEASE_MS = 60_000
 
-/** Another run holds the pipeline lock. */
-export class BusyError extends Error {
-  override name = 'BusyError'
-}
+// BusyError lives in errors.ts (the CLI recognises it without loading the stages)
+export { BusyError } from './errors.ts'
 
 export interface RunOptions {
   log?: (message: string) => void

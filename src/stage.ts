@@ -9,6 +9,9 @@ import type { Db } from './db/connection.ts'
 
 export type StageName = 'ingest' | 'map' | 'fit' | 'ability' | 'plan'
 
+/** The stages in pipeline order (stages.ts registers their modules in this order). */
+export const STAGE_ORDER: readonly StageName[] = ['ingest', 'map', 'fit', 'ability', 'plan']
+
 export interface StageContext {
   db: Db
   config: Config

@@ -3,14 +3,14 @@
  * The registry of built stages, in pipeline order. Each stage module exports one `Stage`; add yours
  * here (one import line and one array entry).
  */
-import type { Stage, StageName } from './stage.ts'
+import { STAGE_ORDER, type Stage } from './stage.ts'
 import { abilityStage } from './ability/stage.ts'
 import { fitStage } from './curves/stage.ts'
 import { ingestStage } from './ingest/stage.ts'
 import { planStage } from './plan/stage.ts'
 import { mapStage } from './taxonomy/stage.ts'
 
-export const STAGE_ORDER: readonly StageName[] = ['ingest', 'map', 'fit', 'ability', 'plan']
+export { STAGE_ORDER }
 
 export const STAGES: readonly Stage[] = [ingestStage, mapStage, fitStage, abilityStage, planStage]
 

@@ -7,12 +7,10 @@ import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
 import { type ImportResult, TABLE_KINDS, importTableFile, type TableKind } from '../inputs/tables.ts'
 import { listRuns } from '../db/runs.ts'
-import { importDocuments } from '../ingest/import.ts'
 import { coverageReport } from '../ability/report.ts'
 import { PLAN_REPORTS } from '../plan/reports.ts'
 import { SKILLS_REPORT } from '../curves/report.ts'
-import { importTaxonomy } from '../taxonomy/store.ts'
-import { candidatesReport } from '../taxonomy/commands.ts'
+import { candidatesReport } from '../taxonomy/candidates-report.ts'
 
 export interface ImportOptions {
   skipBad: boolean
@@ -24,11 +22,13 @@ export type Importer = (db: Db, config: Config, file: string, opts: ImportOption
 export const IMPORT_KINDS = ['postings', 'requests', 'taxonomy', ...TABLE_KINDS] as const
 export type ImportKind = (typeof IMPORT_KINDS)[number]
 
+// the document and taxonomy importers load their modules when used: every `tides` command loads
+// this registry, and those modules (the ingest pipeline, the matcher) took a quarter of its start
 export const IMPORTERS: Partial<Record<ImportKind, Importer>> = {
   ...Object.fromEntries(TABLE_KINDS.map((kind: TableKind) => [kind, (db: Db, _c: Config, file: string, opts: ImportOptions) => importTableFile(db, kind, file, opts)])),
-  postings: (db, config, file, opts) => importDocuments(db, config, 'postings', file, opts),
-  requests: (db, config, file, opts) => importDocuments(db, config, 'requests', file, opts),
-  taxonomy: (db, _config, file, opts) => importTaxonomy(db, file, opts),
+  postings: async (db, config, file, opts) => (await import('../ingest/import.ts')).importDocuments(db, config, 'postings', file, opts),
+  requests: async (db, config, file, opts) => (await import('../ingest/import.ts')).importDocuments(db, config, 'requests', file, opts),
+  taxonomy: async (db, _config, file, opts) => (await import('../taxonomy/store.ts')).importTaxonomy(db, file, opts),
 }
 
 export interface ReportOutput {
