@@ -35,7 +35,7 @@ import { findCandidateTerms, type CandidateResult } from './candidates.ts'
 import type { MapInput, Matcher } from './matcher.ts'
 import { documentInput, mentionRows, type MentionRow } from './rows.ts'
 import { candidatesInBackground, defaultThreads, MapperPool, mapperSource, type BackgroundCandidates, type MapperSource } from './parallel.ts'
-import { ensureTaxonomy, matcherFromDb, packedMatcherFromDb, storedTaxonomy } from './store.ts'
+import { ensureTaxonomy, matcherFromDb, packedMatcherFromDb } from './store.ts'
 
 const BATCH = 1000
 /**
@@ -61,7 +61,9 @@ export class TaxonomyChangedError extends Error {
  */
 function storedMapperSource(db: Db): MapperSource {
   const rules = storedRules(db)
-  return mapperSource(storedTaxonomy(db), rules?.text ?? null, rules?.file ?? '(none)', db.memory ? undefined : db.name, packedMatcherFromDb(db))
+  // the taxonomy the bytes hold (restoring them costs less than reading and validating it again)
+  const { matcher, bytes } = packedMatcherFromDb(db)
+  return mapperSource(matcher.taxonomy, rules?.text ?? null, rules?.file ?? '(none)', db.memory ? undefined : db.name, bytes)
 }
 
 export interface MapRunCounts {

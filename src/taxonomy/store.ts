@@ -138,42 +138,43 @@ const matchers = new WeakMap<Db, { version: number; matcher: Matcher }>()
  * neither holds it.
  */
 export function matcherFromDb(db: Db): Matcher {
+  return resolveMatcher(db, false).matcher
+}
+
+/**
+ * The stored matcher and its bytes (for worker threads, which restore them with unpackMatcher; its
+ * taxonomy is the one the bytes hold), compiling and storing it first when the database does not
+ * hold it; bytes undefined when nothing can be cached.
+ */
+export function packedMatcherFromDb(db: Db): { matcher: Matcher; bytes: Uint8Array | undefined } {
+  return resolveMatcher(db, true)
+}
+
+function resolveMatcher(db: Db, wantBytes: boolean): { matcher: Matcher; bytes: Uint8Array | undefined } {
   const version = taxonomyVersion(db)
-  const cached = matchers.get(db)
-  if (cached && cached.version === version) return cached.matcher
   const code = matcherCodeKey()
-  const stored = code ? readMatcherCache(db, version, code) : undefined
+  const cached = matchers.get(db)
+  if (cached && cached.version === version) {
+    if (!wantBytes || !code) return { matcher: cached.matcher, bytes: undefined }
+    let bytes: Uint8Array | undefined = readMatcherCache(db, version, code)
+    if (!bytes) storeMatcher(db, version, code, (bytes = packMatcher(cached.matcher)))
+    return { matcher: cached.matcher, bytes }
+  }
+  let bytes: Uint8Array | undefined = code ? readMatcherCache(db, version, code) : undefined
   let matcher: Matcher | undefined
-  if (stored) {
+  if (bytes) {
     try {
-      matcher = unpackMatcher(stored)
+      matcher = unpackMatcher(bytes)
     } catch {
-      matcher = undefined // compiled afresh below and stored again
+      matcher = bytes = undefined // compiled afresh below and stored again
     }
   }
   if (!matcher) {
     matcher = compileStored(db)
-    if (code) storeMatcher(db, version, code, packMatcher(matcher))
+    if (code) storeMatcher(db, version, code, (bytes = packMatcher(matcher)))
   }
   matchers.set(db, { version, matcher })
-  return matcher
-}
-
-/**
- * The stored matcher's bytes (for worker threads, which restore it with unpackMatcher), compiling
- * and storing it first when the database does not hold it; undefined when nothing can be cached.
- */
-export function packedMatcherFromDb(db: Db): Uint8Array | undefined {
-  const version = taxonomyVersion(db)
-  const code = matcherCodeKey()
-  if (!code) return undefined
-  const stored = readMatcherCache(db, version, code)
-  if (stored) return stored
-  const matcher = compileStored(db)
-  matchers.set(db, { version, matcher })
-  const bytes = packMatcher(matcher)
-  storeMatcher(db, version, code, bytes)
-  return bytes
+  return { matcher, bytes }
 }
 
 function compileStored(db: Db): Matcher {

@@ -137,7 +137,7 @@ describe('matcherFromDb with the stored compiled matcher', () => {
 
   it('worker threads restore the stored bytes; bytes of another concept list are not used', async () => {
     const db = await memoryDbWithTaxonomy()
-    const packed = packedMatcherFromDb(db)!
+    const packed = packedMatcherFromDb(db).bytes!
     const taxonomy = storedTaxonomy(db)
     const fromBytes = matcherFromSource(mapperSource(taxonomy, null, '(none)', undefined, packed))
     expect(mapAll(fromBytes)).toEqual(mapAll(matcherFromDb(db)))
@@ -146,5 +146,16 @@ describe('matcherFromDb with the stored compiled matcher', () => {
     const compiled = matcherFromSource(mapperSource(fewer, null, '(none)', undefined, packed))
     expect(compiled.taxonomy.concepts.length).toBe(taxonomy.concepts.length - 1)
     expect(compiled.map({ text: 'Kubernetes' }).mentions.map((m) => m.conceptId)).toEqual([])
+  })
+
+  it('gives the bytes of a matcher this connection already holds, storing them when the table has none', async () => {
+    const db = await memoryDbWithTaxonomy()
+    const held = matcherFromDb(db)
+    db.prepare('DELETE FROM matcher_cache').run()
+    const { matcher, bytes } = packedMatcherFromDb(db)
+    expect(matcher).toBe(held)
+    expect(bytes).toBeDefined()
+    expect(readMatcherCache(db, taxonomyVersion(db), matcherCodeKey()!)).toEqual(Buffer.from(bytes!))
+    expect(mapAll(unpackMatcher(bytes!))).toEqual(mapAll(held))
   })
 })
