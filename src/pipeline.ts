@@ -19,7 +19,7 @@ export const PIPELINE_LOCK = 'pipeline'
 const LEASE_MS = 60_000
 
 // BusyError lives in errors.ts (the CLI recognises it without loading the stages)
-export { BusyError } from './errors.ts'
+export { BusyError }
 
 export interface RunOptions {
   log?: (message: string) => void

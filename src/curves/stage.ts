@@ -8,7 +8,7 @@
  */
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
-import { readConceptLabels, readCurveStates, readDemandCountArrays, readDemandTotals, rebuildDemandCounts, replaceCurves } from '../db/curves.ts'
+import { readConceptLabelList, readCurveStates, readDemandCountArrays, readDemandTotals, rebuildDemandCounts, replaceCurves } from '../db/curves.ts'
 import type { CurveRow } from '../db/curves.ts'
 import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
@@ -45,7 +45,7 @@ export function demandInputs(db: Db): { inputs: SkillSeriesInput[]; months: stri
   const hasInternal = totals.internal.some((total) => total > 0)
   const counts = readDemandCountArrays(db, months)
   const inputs: SkillSeriesInput[] = []
-  for (const [id, label] of readConceptLabels(db)) {
+  for (const [id, label] of readConceptLabelList(db)) {
     const own = counts.get(id)
     const input: SkillSeriesInput = { id, label, months }
     if (hasExternal) input.external = { n: own?.external ?? new Array<number>(months.length).fill(0), N: totals.external }

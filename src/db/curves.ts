@@ -53,7 +53,7 @@ function collectDemand(
     }
     perSeries[series].set(month, n)
   }
-  const labels = new Map(readConceptLabels(db))
+  const labels = new Map(readConceptLabelList(db))
   return { months: [...monthSet].sort(), totals, mentions, labels }
 }
 
@@ -106,7 +106,7 @@ export function readDemandCountArrays(db: Db, months: readonly string[]): Map<st
 }
 
 /** Every concept's id and prefLabel, in id order. */
-export function readConceptLabels(db: Db): [string, string][] {
+export function readConceptLabelList(db: Db): [string, string][] {
   return db.prepare('SELECT id, pref_label FROM concepts ORDER BY id').raw().all() as [string, string][]
 }
 

@@ -4,7 +4,7 @@
  * courses, people, roles and abilities, and writes plan_outputs, course_flag_notes and the skill_id resolution of course_skills.
  */
 import type { Db } from './connection.ts'
-import type { CurveRow } from './curves.ts'
+import { readConceptLabelList, type CurveRow } from './curves.ts'
 
 /** A row of the curves table as the plan stage reads it. */
 export type CurveRecord = Omit<CurveRow, 'forecast_method' | 'change_month' | 'emerged_month'>
@@ -47,8 +47,7 @@ const pickDetails = (keys: readonly string[]) => `json_object(${keys.map((k) => 
 
 /** concept id -> prefLabel */
 export function readConceptLabels(db: Db): Map<string, string> {
-  const rows = db.prepare('SELECT id, pref_label FROM concepts').all() as { id: string; pref_label: string }[]
-  return new Map(rows.map((r) => [r.id, r.pref_label]))
+  return new Map(readConceptLabelList(db))
 }
 
 export interface LabelRecord {

@@ -12,13 +12,14 @@
  */
 import { CLASS, F_BREAK, F_LIST, F_SENTENCE, FOLD, HASH_SEED, JOINER, SEPARATOR_FLAGS, SUFFIX, WORD, foldString, hashStep, hashString } from './chars.ts'
 
-/** A growable map from folded token text to a dense integer id. */
+/** A Vocabulary's strings and hash table (taxonomy/matcher-cache.ts stores them). */
 export interface VocabularyParts {
   strings: string[]
   slots: Int32Array
   slotHash: Int32Array
 }
 
+/** A growable map from folded token text to a dense integer id. */
 export class Vocabulary {
   readonly strings: string[] = []
   private slots: Int32Array

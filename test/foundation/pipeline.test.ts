@@ -3,6 +3,8 @@ import { openDb } from '../../src/db/connection.ts'
 import { listRuns, tryLock } from '../../src/db/runs.ts'
 import { emit, pendingFor } from '../../src/events/outbox.ts'
 import { BusyError, PIPELINE_LOCK, withPipelineLock } from '../../src/pipeline.ts'
+import { STAGE_ORDER } from '../../src/stage.ts'
+import { STAGES } from '../../src/stages.ts'
 
 describe('events outbox', () => {
   it('refuses an event outside a transaction: it must commit with its work', () => {
@@ -49,3 +51,9 @@ describe('pipeline lock', () => {
   })
 })
 
+
+describe('the stage registry', () => {
+  it('registers the stage modules in STAGE_ORDER (the CLI names the stages from stage.ts without loading them)', () => {
+    expect(STAGES.map((stage) => stage.name)).toEqual([...STAGE_ORDER])
+  })
+})
