@@ -1,13 +1,24 @@
 #!/usr/bin/env node
-// Entry point for `tides` / `npx tides`: runs the TypeScript CLI through tsx, no build step needed.
-import { spawnSync } from 'node:child_process'
+// Entry point for `tides` / `npx tides`: runs the TypeScript CLI under tsx's loader in one child
+// process, no build step needed (through tsx's own CLI it took two: about 0.2 s more per command).
+// A SIGTERM or SIGHUP sent to this process is passed on, so that a process manager stopping
+// `tides serve` stops the server; Ctrl-C reaches the child from the terminal itself, and this
+// process waits for it to finish.
+import { spawn } from 'node:child_process'
+import os from 'node:os'
 import { createRequire } from 'node:module'
 import path from 'node:path'
-import { fileURLToPath } from 'node:url'
+import { fileURLToPath, pathToFileURL } from 'node:url'
 
 const require = createRequire(import.meta.url)
 const here = path.dirname(fileURLToPath(import.meta.url))
-const tsx = require.resolve('tsx/cli')
 const cli = path.join(here, '..', 'src', 'cli.ts')
-const result = spawnSync(process.execPath, [tsx, cli, ...process.argv.slice(2)], { stdio: 'inherit' })
-process.exit(result.status ?? 1)
+const loader = ['--require', require.resolve('tsx/preflight'), '--import', pathToFileURL(require.resolve('tsx')).href]
+const child = spawn(process.execPath, [...loader, cli, ...process.argv.slice(2)], { stdio: 'inherit' })
+process.on('SIGINT', () => {})
+for (const signal of ['SIGTERM', 'SIGHUP']) process.on(signal, () => child.kill(signal))
+child.on('error', (err) => {
+  process.stderr.write(`tides: could not start node: ${err.message}\n`)
+  process.exit(1)
+})
+child.on('exit', (code, signal) => process.exit(code ?? (signal ? 128 + (os.constants.signals[signal] ?? 0) : 1)))

@@ -1,4 +1,4 @@
-import { spawnSync } from 'node:child_process'
+import { spawn, spawnSync } from 'node:child_process'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
@@ -77,6 +77,25 @@ describe('tides CLI', () => {
     expect(r.status, r.stderr).toBe(0)
     expect(JSON.parse(r.stdout)).toEqual([])
   })
+
+  it('the bin script runs the CLI in one child and passes SIGTERM on: `tides serve` started through it stops', async () => {
+    const dir = tmpDir()
+    const bin = spawn(process.execPath, [path.join(__dirname, '../../bin/tides.js'), '--db', path.join(dir, 't.db'), 'serve', '--port', '0', '--no-schedules'], { stdio: ['ignore', 'pipe', 'pipe'] })
+    let err = ''
+    const url = await new Promise<string>((resolve, reject) => {
+      bin.stderr.on('data', (chunk: Buffer) => {
+        err += chunk.toString()
+        const found = /dashboard: (http:\/\/\S+)/.exec(err)
+        if (found) resolve(found[1]!)
+      })
+      bin.once('exit', () => reject(new Error(`bin exited before serving: ${err}`)))
+    })
+    expect((await fetch(url)).status).toBe(200)
+    const exited = new Promise<number | null>((resolve) => bin.once('exit', (code) => resolve(code)))
+    bin.kill('SIGTERM')
+    expect(await exited).toBe(0)
+    await expect(fetch(url)).rejects.toThrow()
+  }, 60_000)
 
   it('reports a bad config file naming the key, exit 1', async () => {
     const dir = tmpDir()
