@@ -28,12 +28,11 @@ import Database from 'better-sqlite3'
 import { ensureCorpus, generatePostings, WORK_DIR, type PlantedTrend } from './corpus.ts'
 import { rawInsertRate, rawTokeniseMBps, syntheticText } from './limits.ts'
 import { reportBench, type Figure } from './report.ts'
+import { TSX_LOADER_ARGS } from '../bin/tsx-loader.js'
 
 const here = path.dirname(fileURLToPath(import.meta.url))
 const ROOT = path.join(here, '..')
 const CLI = path.join(ROOT, 'src', 'cli.ts')
-const TSX_PREFLIGHT = path.join(ROOT, 'node_modules', 'tsx', 'dist', 'preflight.cjs')
-const TSX_LOADER = pathToFileURL(path.join(ROOT, 'node_modules', 'tsx', 'dist', 'loader.mjs')).href
 const PROBE = pathToFileURL(path.join(here, 'rss-probe.mjs')).href
 
 const SIZES = (process.env['BENCH_N'] ?? '10000,100000').split(',').map((s) => Number(s.trim())).filter((n) => Number.isInteger(n) && n > 0)
@@ -56,7 +55,7 @@ interface Step {
 function tides(config: string, args: string[]): Promise<Step> {
   const t0 = performance.now()
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, ['--require', TSX_PREFLIGHT, '--import', TSX_LOADER, '--import', PROBE, CLI, '--config', config, ...args], {
+    const child = spawn(process.execPath, [...TSX_LOADER_ARGS, '--import', PROBE, CLI, '--config', config, ...args], {
       cwd: ROOT,
       env: { ...process.env, NO_COLOR: '1' },
       stdio: ['ignore', 'pipe', 'pipe'],

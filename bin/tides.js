@@ -6,15 +6,12 @@
 // process waits for it to finish.
 import { spawn } from 'node:child_process'
 import os from 'node:os'
-import { createRequire } from 'node:module'
 import path from 'node:path'
-import { fileURLToPath, pathToFileURL } from 'node:url'
+import { fileURLToPath } from 'node:url'
+import { TSX_LOADER_ARGS } from './tsx-loader.js'
 
-const require = createRequire(import.meta.url)
-const here = path.dirname(fileURLToPath(import.meta.url))
-const cli = path.join(here, '..', 'src', 'cli.ts')
-const loader = ['--require', require.resolve('tsx/preflight'), '--import', pathToFileURL(require.resolve('tsx')).href]
-const child = spawn(process.execPath, [...loader, cli, ...process.argv.slice(2)], { stdio: 'inherit' })
+const cli = path.join(path.dirname(fileURLToPath(import.meta.url)), '..', 'src', 'cli.ts')
+const child = spawn(process.execPath, [...TSX_LOADER_ARGS, cli, ...process.argv.slice(2)], { stdio: 'inherit' })
 process.on('SIGINT', () => {})
 for (const signal of ['SIGTERM', 'SIGHUP']) process.on(signal, () => child.kill(signal))
 child.on('error', (err) => {

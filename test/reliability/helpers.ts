@@ -7,16 +7,13 @@ import { type ChildProcess, spawn } from 'node:child_process'
 import fs from 'node:fs'
 import os from 'node:os'
 import path from 'node:path'
-import { fileURLToPath, pathToFileURL } from 'node:url'
+import { fileURLToPath } from 'node:url'
 import Database from 'better-sqlite3'
 import { generatePostings, generateTaxonomy, plantedTrends, writeTaxonomyCsv, type CorpusTruth, type GeneratedTaxonomy } from '../../bench/corpus.ts'
 import { contentHash } from '../../src/db/connection.ts'
+import { TSX_LOADER_ARGS } from '../../bin/tsx-loader.js'
 
 export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..', '..')
-// tsx's loader in this very process (the tsx command would put a second process in between, and a
-// signal sent to it would not reach the program)
-const TSX_PREFLIGHT = path.join(ROOT, 'node_modules', 'tsx', 'dist', 'preflight.cjs')
-const TSX_LOADER = pathToFileURL(path.join(ROOT, 'node_modules', 'tsx', 'dist', 'loader.mjs')).href
 export const CLI = path.join(ROOT, 'src', 'cli.ts')
 
 export interface Finished {
@@ -53,7 +50,9 @@ export interface Running {
 /** Starts a TypeScript script under tsx in one process (its pid is the program's pid). */
 export function startScript(script: string, args: readonly string[], opts: SpawnOpts = {}): Running {
   const started = performance.now()
-  const command = [process.execPath, '--require', TSX_PREFLIGHT, '--import', TSX_LOADER, script, ...args]
+  // tsx's loader in this very process (the tsx command would put a second process in between, and a
+  // signal sent to it would not reach the program)
+  const command = [process.execPath, ...TSX_LOADER_ARGS, script, ...args]
   // a file size limit (RLIMIT_FSIZE) through util-linux prlimit: writes past it fail with EFBIG
   if (opts.fileSizeLimit !== undefined) command.unshift('prlimit', `--fsize=${opts.fileSizeLimit}`, '--')
   const child = spawn(command[0]!, command.slice(1), {
