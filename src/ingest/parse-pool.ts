@@ -6,7 +6,8 @@
  * single-threaded path (tested by comparing database contents). The worker also checks part of a
  * file for `tides import`'s first pass while the main thread checks the rest.
  */
-import { Worker } from 'node:worker_threads'
+import type { Worker } from 'node:worker_threads'
+import { startTsWorker } from '../util/ts-worker.ts'
 import type { Analysis, DedupeParams } from './dedupe.ts'
 import type { DocumentInput } from './document.ts'
 import type { Line } from './lines.ts'
@@ -133,12 +134,7 @@ export class LineParser {
 
   /** Starts the worker and waits until it is ready. */
   static async start(setup: ParserSetup): Promise<LineParser> {
-    // The worker runs the TypeScript sources too: register tsx inside it first (hooks given with
-    // --import do not reach a worker's entry module on Node 20), then import the worker module.
-    const target = new URL('./parse-worker.ts', import.meta.url).href
-    const api = import.meta.resolve('tsx/esm/api')
-    const bootstrap = `import(${JSON.stringify(api)}).then((m) => { m.register(); return import(${JSON.stringify(target)}) })`
-    const worker = new Worker(bootstrap, { eval: true, workerData: setup })
+    const worker = startTsWorker(new URL('./parse-worker.ts', import.meta.url), setup)
     await new Promise<void>((resolve, reject) => {
       const onFirst = (msg: ParseResponse) => {
         if (msg.id !== -1) return

@@ -4,8 +4,7 @@
  * (from the concepts, rule text and lexicon answers it is sent, so no worker re-reads files) and
  * maps the batches it is given; batches go to whichever worker is free.
  */
-import os from 'node:os'
-import { Worker } from 'node:worker_threads'
+import type { Worker } from 'node:worker_threads'
 import type { Config } from '../config.ts'
 import type { CandidateResult } from './candidates.ts'
 import { commonWordsFor } from './matcher-build.ts'
@@ -14,6 +13,7 @@ import { unpackMatcher } from './matcher-cache.ts'
 import { emptyRules, parseRules } from './rules.ts'
 import { decodeRows, type MentionRow } from './rows.ts'
 import type { Concept, Taxonomy } from './types.ts'
+import { defaultThreads, startTsWorker } from '../util/ts-worker.ts'
 
 export interface MapperSource {
   concepts: Concept[]
@@ -74,18 +74,6 @@ export function matcherFromSource(source: MapperSource): Matcher {
   return Matcher.build(taxonomy, rules, { commonWords: source.packed ? commonWordsFor(taxonomy) : new Set(source.commonWords) })
 }
 
-/**
- * Starts a worker thread on a TypeScript module of this directory. Hooks given by `--import` in a
- * worker's execArgv do not reach its entry module on Node 20, so a small bootstrap registers tsx in
- * the worker first and then imports the module.
- */
-function startWorker(module: string, workerData: unknown): Worker {
-  const target = new URL(module, import.meta.url).href
-  const api = import.meta.resolve('tsx/esm/api')
-  const bootstrap = `import(${JSON.stringify(api)}).then((m) => { m.register(); return import(${JSON.stringify(target)}) })`
-  return new Worker(bootstrap, { eval: true, workerData })
-}
-
 export interface BackgroundCandidates {
   /** the candidate list, computed from the database file */
   result: Promise<CandidateResult>
@@ -95,7 +83,7 @@ export interface BackgroundCandidates {
 
 /** Candidate terms computed in a worker thread with its own read-only connection to `source.dbFile` (see candidate-worker.ts). */
 export function candidatesInBackground(source: MapperSource, config: Config): BackgroundCandidates {
-  const worker = startWorker('./candidate-worker.ts', { source, config } satisfies CandidateWorkerData)
+  const worker = startTsWorker(new URL('./candidate-worker.ts', import.meta.url), { source, config } satisfies CandidateWorkerData)
   const result = new Promise<CandidateResult>((resolve, reject) => {
     worker.once('message', (msg: { result?: CandidateResult; error?: string }) => {
       if (msg.error !== undefined || !msg.result) reject(new Error(`candidate terms worker: ${msg.error ?? 'no result'}`))
@@ -112,11 +100,6 @@ export function candidatesInBackground(source: MapperSource, config: Config): Ba
 export interface CandidateWorkerData {
   source: MapperSource
   config: Config
-}
-
-/** Default thread count: one per core, at most 8, at least 1. */
-export function defaultThreads(): number {
-  return Math.max(1, Math.min(8, os.availableParallelism?.() ?? os.cpus().length))
 }
 
 interface Slot {
@@ -138,7 +121,7 @@ export class MapperPool {
     this.conceptIds = source.concepts.map((c) => c.id)
     this.readsStore = source.dbFile !== undefined
     for (let i = 0; i < threads; i++) {
-      const worker = startWorker('./map-worker.ts', source)
+      const worker = startTsWorker(new URL('./map-worker.ts', import.meta.url), source)
       const slot: Slot = { worker, busy: true, ready: Promise.resolve() }
       slot.ready = new Promise<void>((resolve, reject) => {
         const onFirst = (msg: WorkerResponse) => {

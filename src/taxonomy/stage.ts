@@ -34,7 +34,8 @@ import type { Config } from '../config.ts'
 import { findCandidateTerms, type CandidateResult } from './candidates.ts'
 import type { MapInput, Matcher } from './matcher.ts'
 import { documentInput, mentionRows, type MentionRow } from './rows.ts'
-import { candidatesInBackground, defaultThreads, MapperPool, mapperSource, type BackgroundCandidates, type MapperSource } from './parallel.ts'
+import { candidatesInBackground, MapperPool, mapperSource, type BackgroundCandidates, type MapperSource } from './parallel.ts'
+import { defaultThreads } from '../util/ts-worker.ts'
 import { ensureTaxonomy, matcherFromDb, packedMatcherFromDb } from './store.ts'
 
 const BATCH = 1000
