@@ -6,6 +6,7 @@
  */
 process.env['DOTENV_CONFIG_QUIET'] = 'true' // natural pulls in dotenv, whose banner would break --json
 
+import fs from 'node:fs'
 import { parseArgs, type ParseArgsConfig } from 'node:util'
 import { IMPORT_KINDS, IMPORTERS, PLANNED_REPORTS, REPORTS, type ImportKind } from './commands/registry.ts'
 import { COMMANDS as EXTRA_COMMANDS } from './commands/extra.ts'
@@ -36,8 +37,11 @@ export interface Io {
 export interface CommandContext {
   args: string[]
   io: Io
-  /** loads config and opens the database on first use */
-  open(): { db: Db; config: Config }
+  /**
+   * loads config and opens the database on first use; with `existing`, a database file that is not
+   * there is an error (a report on a mistyped --db must not create an empty database and report it)
+   */
+  open(options?: { existing?: boolean }): { db: Db; config: Config }
   config(): Config
   global: { db?: string; config?: string }
 }
@@ -165,7 +169,7 @@ export const COMMANDS: Record<string, Command> = {
         if ((PLANNED_REPORTS as readonly string[]).includes(name)) throw new NotBuiltError(`report ${name} is not built in this version`)
         throw new UsageError(`unknown report "${name}" (reports: ${Object.keys(REPORTS).join(', ')})`)
       }
-      const { db, config } = ctx.open()
+      const { db, config } = ctx.open({ existing: true })
       const limit = values['limit'] === undefined ? undefined : intArg('--limit', values['limit'])
       printReport(ctx.io, name, report.build(db, config, { limit, people: Boolean(values['people']) }), values)
     },
@@ -263,9 +267,12 @@ export async function main(argv: string[], io: Io): Promise<number> {
     io,
     global,
     config: loadCfg,
-    open() {
+    open(options) {
       if (!opened) {
         const cfg = loadCfg()
+        if (options?.existing && cfg.db !== ':memory:' && !fs.existsSync(cfg.db)) {
+          throw new CliError(`no database at ${cfg.db}: create one with \`tides init\` or \`tides demo\`, or give the right --db (or TIDES_DB)`)
+        }
         const db = openDb(cfg.db)
         closeAbandonedRuns(db)
         opened = { db, config: cfg }

@@ -63,13 +63,25 @@ describe('tides CLI', () => {
 
   it('--json prints exactly one parseable JSON document on stdout', async () => {
     const dir = tmpDir()
+    expect(await tides('init', '--db', path.join(dir, 't.db'))).toMatchObject({ code: 0 })
     const r = await tides('report', 'runs', '--json', '--db', path.join(dir, 't.db'))
     expect(r.code).toBe(0)
     expect(JSON.parse(r.out)).toEqual([])
   })
 
+  it('refuses a report on a database that is not there (a mistyped --db), creating nothing', async () => {
+    const dir = tmpDir()
+    const missing = path.join(dir, 'typo', 'tides.db')
+    const r = await tides('report', 'skills', '--db', missing)
+    expect(r.code).toBe(1)
+    expect(r.out).toBe('')
+    expect(r.err).toBe(`tides report: no database at ${missing}: create one with \`tides init\` or \`tides demo\`, or give the right --db (or TIDES_DB)\n`)
+    expect(fs.existsSync(path.join(dir, 'typo'))).toBe(false)
+  })
+
   it('accepts the README form `npx tides -- --db X ...` through the bin script', () => {
     const dir = tmpDir()
+    expect(spawnSync(process.execPath, [path.join(__dirname, '../../bin/tides.js'), '--db', path.join(dir, 't.db'), 'init']).status).toBe(0)
     // the bin script is what npx runs; npm hands over everything after its own `--`
     const r = spawnSync(process.execPath, [path.join(__dirname, '../../bin/tides.js'), '--', '--db', path.join(dir, 't.db'), 'report', 'runs', '--json'], {
       encoding: 'utf8',
