@@ -169,8 +169,9 @@ export const COMMANDS: Record<string, Command> = {
         if ((PLANNED_REPORTS as readonly string[]).includes(name)) throw new NotBuiltError(`report ${name} is not built in this version`)
         throw new UsageError(`unknown report "${name}" (reports: ${Object.keys(REPORTS).join(', ')})`)
       }
-      const { db, config } = ctx.open({ existing: true })
+      // arguments first: a usage error is reported as one, whether or not the database is there
       const limit = values['limit'] === undefined ? undefined : intArg('--limit', values['limit'])
+      const { db, config } = ctx.open({ existing: true })
       printReport(ctx.io, name, report.build(db, config, { limit, people: Boolean(values['people']) }), values)
     },
   },
