@@ -12,14 +12,12 @@ import { finishRun, releaseLock, renewLock, startRun, tryLock } from './db/runs.
 import { acknowledge, pendingFor } from './events/outbox.ts'
 import { deliverAfterRun } from './events/webhooks.ts'
 import { BusyError } from './errors.ts'
-import { NotBuiltError, type Stage, type StageResult } from './stage.ts'
-import { STAGES, STAGE_ORDER, findStage } from './stages.ts'
+import { NotBuiltError, STAGE_ORDER, type Stage, type StageResult } from './stage.ts'
+import { STAGES, findStage } from './stages.ts'
 
 export const PIPELINE_LOCK = 'pipeline'
 const LEASE_MS = 60_000
 
-// BusyError lives in errors.ts (the CLI recognises it without loading the stages)
-export { BusyError }
 
 export interface RunOptions {
   log?: (message: string) => void
