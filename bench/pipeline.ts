@@ -27,6 +27,7 @@ import { fileURLToPath, pathToFileURL } from 'node:url'
 import Database from 'better-sqlite3'
 import { ensureCorpus, generatePostings, WORK_DIR, type PlantedTrend } from './corpus.ts'
 import { rawInsertRate, rawTokeniseMBps, syntheticText } from './limits.ts'
+import { COUNT_MAPPED } from '../src/db/taxonomy.ts'
 import { reportBench, type Figure } from './report.ts'
 import { TSX_LOADER_ARGS } from '../bin/tsx-loader.js'
 
@@ -221,11 +222,11 @@ async function runSize(n: number): Promise<SizeResult> {
     const chunks: Buffer[] = []
     generatePostings({ n: INCREMENT, months: MONTHS, seed: 7, taxonomy: corpus.taxonomy, trends: corpus.trends, startIndex: n, onlyMonths: [MONTHS - 2, MONTHS - 1] }, (b) => chunks.push(Buffer.from(b)))
     fs.writeFileSync(file, Buffer.concat(chunks))
-    const mappedBefore = count(db, 'SELECT COUNT(*) AS n FROM documents WHERE mapped_version IS NOT NULL')
+    const mappedBefore = count(db, COUNT_MAPPED)
     log(`  incremental: import ${INCREMENT} new postings and run all`)
     const importStep = await tides(config, ['import', 'postings', file])
     const runStep = await tides(config, ['run', 'all', '--json'])
-    const mappedAfter = count(db, 'SELECT COUNT(*) AS n FROM documents WHERE mapped_version IS NOT NULL')
+    const mappedAfter = count(db, COUNT_MAPPED)
     result.incremental = {
       importStep,
       runStep,

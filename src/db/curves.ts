@@ -110,12 +110,14 @@ export function readConceptLabelList(db: Db): [string, string][] {
   return db.prepare('SELECT id, pref_label FROM concepts ORDER BY id').raw().all() as [string, string][]
 }
 
+/** a document d that is not waiting in the map's queue */
+const MAPPED = 'NOT EXISTS (SELECT 1 FROM unmapped_documents u WHERE u.id = d.id)'
 const TOTALS_FROM_DOCUMENTS = `SELECT CASE kind WHEN 'posting' THEN 'external' ELSE 'internal' END AS series, month, COUNT(*) AS total
-  FROM documents WHERE duplicate_of IS NULL AND mapped_version IS NOT NULL AND kind IN ('posting','request')
+  FROM documents d WHERE duplicate_of IS NULL AND kind IN ('posting','request') AND ${MAPPED}
   GROUP BY kind, month`
 const COUNTS_FROM_MENTIONS = `SELECT m.concept_id AS concept_id, CASE d.kind WHEN 'posting' THEN 'external' ELSE 'internal' END AS series, d.month AS month, COUNT(*) AS n
   FROM mentions m JOIN documents d ON d.id = m.document_id
-  WHERE d.duplicate_of IS NULL AND d.mapped_version IS NOT NULL AND d.kind IN ('posting','request')
+  WHERE d.duplicate_of IS NULL AND d.kind IN ('posting','request') AND ${MAPPED}
   GROUP BY m.concept_id, d.kind, d.month`
 
 /**
@@ -167,7 +169,7 @@ export function seriesOfKind(kind: string): DemandSeries | null {
 /**
  * Changes to the demand aggregates collected in memory while a batch of documents is written, then
  * applied in one pass per key ({@link DemandDelta.apply}) inside the same transaction. A document
- * "counts" while it is an original (duplicate_of IS NULL) and mapped (mapped_version IS NOT NULL):
+ * "counts" while it is an original (duplicate_of IS NULL) and mapped (not in `unmapped_documents`):
  * a writer calls {@link DemandDelta.document} with +1 when a document starts to count (with its
  * concepts after roll-up) and with -1 when it stops or before its mentions change.
  *

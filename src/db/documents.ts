@@ -252,18 +252,21 @@ interface CountState {
   kind: string
   month: string
   duplicate_of: number | null
-  mapped_version: number | null
+  /** 1 while the document waits in the map's queue (unmapped), else 0 */
+  queued: number
 }
 
 /** Takes a document out of the demand aggregates when it counts there (a mapped original). */
 function uncountDocument(db: Db, delta: DemandDelta, doc: CountState): void {
-  if (doc.duplicate_of !== null || doc.mapped_version === null) return
+  if (doc.duplicate_of !== null || doc.queued) return
   const concepts = db.prepare('SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(doc.id) as string[]
   delta.document(doc.kind, doc.month, concepts, -1)
 }
 
 function countState(db: Db, id: number): CountState | undefined {
-  return db.prepare('SELECT id, kind, month, duplicate_of, mapped_version FROM documents WHERE id = ?').get(id) as CountState | undefined
+  return db
+    .prepare('SELECT id, kind, month, duplicate_of, EXISTS (SELECT 1 FROM unmapped_documents u WHERE u.id = documents.id) AS queued FROM documents WHERE id = ?')
+    .get(id) as CountState | undefined
 }
 
 /**
@@ -284,7 +287,8 @@ export function markDuplicate(db: Db, id: number, originalId: number, similarity
   uncountDocument(db, delta, doc)
   db.prepare('DELETE FROM mentions WHERE document_id = ?').run(id)
   deleteMentionList(db, doc.kind, doc.month, id)
-  db.prepare('UPDATE documents SET duplicate_of = ?, dup_similarity = ?, mapped_version = NULL WHERE id = ?').run(root, similarity, id)
+  // a trigger takes it off the map's queue (migration 9)
+  db.prepare('UPDATE documents SET duplicate_of = ?, dup_similarity = ? WHERE id = ?').run(root, similarity, id)
   db.prepare('UPDATE documents SET duplicate_of = ? WHERE duplicate_of = ?').run(root, id)
   delta.apply(db)
 }
@@ -307,7 +311,8 @@ export function deleteDocuments(db: Db, ids: readonly number[]): number {
     const children = reposts.all(id) as number[]
     if (children.length > 0) {
       const [heir, ...rest] = children as [number, ...number[]]
-      db.prepare('UPDATE documents SET duplicate_of = NULL, dup_similarity = NULL, mapped_version = NULL WHERE id = ?').run(heir)
+      // a trigger puts it on the map's queue (migration 9)
+      db.prepare('UPDATE documents SET duplicate_of = NULL, dup_similarity = NULL WHERE id = ?').run(heir)
       db.prepare('DELETE FROM mentions WHERE document_id = ?').run(heir)
       const heirState = countState(db, heir)!
       deleteMentionList(db, heirState.kind, heirState.month, heir)

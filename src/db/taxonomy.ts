@@ -104,7 +104,8 @@ export function replaceTaxonomy(db: Db, concepts: readonly Concept[], rules: Sto
   if (rules) setSetting(db, RULES_KEY, JSON.stringify(rules))
   else stmt(db, 'DELETE FROM settings WHERE key = ?').run(RULES_KEY)
   setSetting(db, SOURCE_KEY, source)
-  return stmt(db, 'UPDATE documents SET mapped_version = NULL WHERE duplicate_of IS NULL').run().changes
+  stmt(db, 'INSERT OR IGNORE INTO unmapped_documents (id) SELECT id FROM documents WHERE duplicate_of IS NULL').run()
+  return countUnmapped(db)
 }
 
 /** Inserts one concept with its labels (not its broader links). */
@@ -155,14 +156,22 @@ export interface DocumentToMap {
 }
 
 /**
- * The unmapped original documents, read from the partial index that holds only them (migration 5),
- * named because the planner would otherwise take the duplicate_of index.
+ * The unmapped original documents: the map's queue (migration 9; its triggers keep it to originals),
+ * with their rows of documents where the texts are read.
  */
-const UNMAPPED_ORIGINALS = 'FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL'
+const QUEUED_DOCUMENTS = 'FROM unmapped_documents u JOIN documents d ON d.id = u.id'
 
-/** Unmapped original documents, counted on their index. */
+/** Unmapped original documents: the length of the map's queue. */
 export function countUnmapped(db: Db): number {
-  return (stmt(db, `SELECT COUNT(*) AS n ${UNMAPPED_ORIGINALS}`).get() as { n: number }).n
+  return stmt(db, 'SELECT COUNT(*) FROM unmapped_documents').pluck().get() as number
+}
+
+/** SQL counting the mapped original documents of any kind (those not queued), as `n`. */
+export const COUNT_MAPPED = 'SELECT COUNT(*) AS n FROM documents d WHERE d.duplicate_of IS NULL AND NOT EXISTS (SELECT 1 FROM unmapped_documents u WHERE u.id = d.id)'
+
+/** Mapped original documents of any kind (those not queued). */
+export function countMapped(db: Db): number {
+  return stmt(db, COUNT_MAPPED).pluck().get() as number
 }
 
 /** Mapped original postings and requests: the sum of the running totals (no scan of documents). */
@@ -193,22 +202,22 @@ export function ensureMentionConceptIndex(db: Db): boolean {
 
 /** The next unmapped original documents after `afterId`, in id order. */
 export function unmappedAfter(db: Db, afterId: number, limit: number): DocumentToMap[] {
-  return stmt(db, `SELECT id, kind, title, body, skills_json ${UNMAPPED_ORIGINALS} AND id > ? ORDER BY id LIMIT ?`).all(afterId, limit) as DocumentToMap[]
+  return stmt(db, `SELECT d.id, d.kind, d.title, d.body, d.skills_json ${QUEUED_DOCUMENTS} WHERE u.id > ? ORDER BY u.id LIMIT ?`).all(afterId, limit) as DocumentToMap[]
 }
 
 /**
  * The id that ends the next batch after `afterId`: the `size`-th unmapped original or the last one,
- * or undefined when none is left. Read from the unmapped index alone, so that the map's main thread
- * touches no document row when worker threads read the texts (unmappedBetween).
+ * or undefined when none is left. Read from the queue alone, so that the map's main thread touches
+ * no document row when worker threads read the texts (unmappedBetween).
  */
 export function unmappedBatchEnd(db: Db, afterId: number, size: number): number | undefined {
-  const end = stmt(db, `SELECT id ${UNMAPPED_ORIGINALS} AND id > ? ORDER BY id LIMIT 1 OFFSET ?`).pluck().get(afterId, size - 1) as number | undefined
-  return end ?? ((stmt(db, `SELECT MAX(id) ${UNMAPPED_ORIGINALS} AND id > ?`).pluck().get(afterId) as number | null) ?? undefined)
+  const end = stmt(db, 'SELECT id FROM unmapped_documents WHERE id > ? ORDER BY id LIMIT 1 OFFSET ?').pluck().get(afterId, size - 1) as number | undefined
+  return end ?? ((stmt(db, 'SELECT MAX(id) FROM unmapped_documents WHERE id > ?').pluck().get(afterId) as number | null) ?? undefined)
 }
 
 /** The unmapped original documents with ids from `first` to `last`, in id order (a worker thread's read). */
 export function unmappedBetween(db: Db, first: number, last: number): DocumentToMap[] {
-  return stmt(db, `SELECT id, kind, title, body, skills_json ${UNMAPPED_ORIGINALS} AND id >= ? AND id <= ? ORDER BY id`).all(first, last) as DocumentToMap[]
+  return stmt(db, `SELECT d.id, d.kind, d.title, d.body, d.skills_json ${QUEUED_DOCUMENTS} WHERE u.id >= ? AND u.id <= ? ORDER BY u.id`).all(first, last) as DocumentToMap[]
 }
 
 /** Original documents after `afterId`, mapped or not (for finding those a taxonomy change affects). */
@@ -231,53 +240,51 @@ function uncount(db: Db, delta: DemandDelta, id: number, kind: string, month: st
 }
 
 /**
- * Replaces the mentions of a batch of documents (and their rows of mention_lists), records the
- * taxonomy version they were mapped with, and keeps the demand aggregates in step (a document that
- * counted before has its old mentions taken out; an original counts with its new ones). Documents
+ * Replaces the mentions of a batch of documents (and their rows of mention_lists), takes them off
+ * the map's queue, and keeps the demand aggregates in step (a document that counted before, a mapped
+ * original, has its old mentions taken out; an original counts with its new ones). Documents
  * go in id order, each one's mentions in concept order (appends to the table's primary key). One
  * prepared single-row INSERT: measured on the N = 100,000 benchmark database, 100-row INSERT
  * statements stored 289,617 mention rows about 2.5 times slower than single-row ones. Call inside
  * the batch's transaction.
  */
-export function saveMappings(db: Db, version: number, docs: readonly DocumentMapping[]): void {
+export function saveMappings(db: Db, docs: readonly DocumentMapping[]): void {
   const delta = new DemandDelta()
-  const state = stmt(db, 'SELECT kind, month, duplicate_of, mapped_version FROM documents WHERE id = ?')
+  const state = stmt(db, 'SELECT kind, month, duplicate_of FROM documents WHERE id = ?')
   const clear = stmt(db, 'DELETE FROM mentions WHERE document_id = ?')
   const insert = stmt(db, 'INSERT INTO mentions(document_id, concept_id, count, first_offset, via) VALUES (?, ?, ?, ?, ?)')
-  const setVersion = stmt(db, 'UPDATE documents SET mapped_version = ? WHERE id = ?')
+  const dequeue = stmt(db, 'DELETE FROM unmapped_documents WHERE id = ?')
   const sorted = [...docs].sort((a, b) => a.id - b.id)
   // the documents' direct concepts, for their rows of mention_lists (db/mention-lists.ts)
   const direct = sorted.map((d) => d.rows.filter((r) => r.via !== 'rollup').map((r) => r.conceptId).sort())
   const writeList = mentionListWriter(db, new Set(direct.flat()))
   for (const [i, d] of sorted.entries()) {
-    const doc = state.get(d.id) as { kind: string; month: string; duplicate_of: number | null; mapped_version: number | null } | undefined
+    const doc = state.get(d.id) as { kind: string; month: string; duplicate_of: number | null } | undefined
     if (!doc) throw new Error(`saveMappings: document ${d.id} is not stored`)
-    if (doc.duplicate_of === null && doc.mapped_version !== null) uncount(db, delta, d.id, doc.kind, doc.month)
+    // an original that was not queued was mapped and counts: its old mentions come out first
+    const wasQueued = dequeue.run(d.id).changes > 0
+    if (doc.duplicate_of === null && !wasQueued) uncount(db, delta, d.id, doc.kind, doc.month)
     clear.run(d.id)
     const rows = [...d.rows].sort((a, b) => (a.conceptId < b.conceptId ? -1 : a.conceptId > b.conceptId ? 1 : 0))
     for (const r of rows) insert.run(d.id, r.conceptId, r.count, r.firstOffset, r.via)
     writeList(doc.kind, doc.month, d.id, direct[i]!)
-    setVersion.run(version, d.id)
     if (doc.duplicate_of === null) delta.document(doc.kind, doc.month, rows.map((r) => r.conceptId), 1)
   }
   delta.apply(db)
 }
 
-/** Replaces a document's mentions and records the taxonomy version it was mapped with. */
-export function saveMapping(db: Db, documentId: number, version: number, rows: readonly MentionRow[]): void {
-  saveMappings(db, version, [{ id: documentId, rows }])
-}
-
 /** Marks documents unmapped so that the map stage maps them again (they stop counting in demand until then). */
 export function markUnmapped(db: Db, ids: readonly number[]): number {
   const delta = new DemandDelta()
-  const state = stmt(db, 'SELECT kind, month, duplicate_of, mapped_version FROM documents WHERE id = ?')
-  const s = stmt(db, 'UPDATE documents SET mapped_version = NULL WHERE id = ?')
+  const state = stmt(db, 'SELECT kind, month, duplicate_of FROM documents WHERE id = ?')
+  const queue = stmt(db, 'INSERT OR IGNORE INTO unmapped_documents (id) VALUES (?)')
   let n = 0
   for (const id of ids) {
-    const doc = state.get(id) as { kind: string; month: string; duplicate_of: number | null; mapped_version: number | null } | undefined
-    if (doc && doc.duplicate_of === null && doc.mapped_version !== null) uncount(db, delta, id, doc.kind, doc.month)
-    n += s.run(id).changes
+    const doc = state.get(id) as { kind: string; month: string; duplicate_of: number | null } | undefined
+    // reposts are never mapped; a mapped original stops counting until it is mapped again
+    if (!doc || doc.duplicate_of !== null) continue
+    if (queue.run(id).changes > 0) uncount(db, delta, id, doc.kind, doc.month)
+    n++
   }
   delta.apply(db)
   return n

@@ -173,7 +173,7 @@ export async function mapUnmapped(
         // mentions and the demand aggregates they feed, in one transaction per group
         markCandidatesOwed(db)
         for (const { ids, rows: perDoc } of group) {
-          saveMappings(db, version, ids.map((id, i) => ({ id, rows: perDoc[i]! })))
+          saveMappings(db, ids.map((id, i) => ({ id, rows: perDoc[i]! })))
           for (const rows of perDoc) {
             for (const r of rows) {
               if (r.via === 'rollup') counts.rollups++

@@ -18,7 +18,7 @@ import { isMonth } from '../../src/curves/months.ts'
 import { referenceInputs } from './reference-inputs.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
 import { deleteDocuments, markDuplicate } from '../../src/db/documents.ts'
-import { countUnmapped, replaceOpenCandidates, unmappedAfter, unmappedBatchEnd } from '../../src/db/taxonomy.ts'
+import { countMapped, countUnmapped, replaceOpenCandidates, unmappedAfter, unmappedBatchEnd } from '../../src/db/taxonomy.ts'
 import { importDocuments } from '../../src/ingest/import.ts'
 import { acceptAsConcept } from '../../src/taxonomy/decisions.ts'
 import { mapStage } from '../../src/taxonomy/stage.ts'
@@ -94,13 +94,21 @@ async function map(db: Db): Promise<void> {
  */
 function expectInStep(db: Db): MonthlyDemand {
   const full = recomputeMonthlyDemand(db)
+  expectAggregates(db, full)
+  return full
+}
+
+/**
+ * The fit's inputs read from the aggregates equal those built from a recomputed demand (the current
+ * schema's, or one computed elsewhere for a schema older than the current queries).
+ */
+function expectAggregates(db: Db, expected: MonthlyDemand): void {
   const read = demandInputs(db)
-  expect(read.months).toEqual(full.months.filter((month) => isMonth(month)))
-  expect(read.inputs).toEqual(referenceInputs(full))
+  expect(read.months).toEqual(expected.months.filter((month) => isMonth(month)))
+  expect(read.inputs).toEqual(referenceInputs(expected))
   // and no row of the aggregates is left at zero (the recomputation has none)
   expect(db.prepare('SELECT COUNT(*) FROM demand_counts WHERE n <= 0').pluck().get()).toBe(0)
   expect(db.prepare('SELECT COUNT(*) FROM demand_totals WHERE total <= 0').pluck().get()).toBe(0)
-  return full
 }
 
 const ext = (d: MonthlyDemand, id: string, month: string) => d.mentions.get(id)?.external.get(month) ?? 0
@@ -152,10 +160,12 @@ describe('demand aggregates kept by the map stage', () => {
 
     // a second import (later months, and more in a month already counted) adds only its own documents
     await importPostings(db, [...postings('b', 6, 3, 10)])
-    const mappedBefore = db.prepare('SELECT COUNT(*) FROM documents WHERE mapped_version IS NOT NULL').pluck().get() as number
+    const mappedBefore = countMapped(db)
+    expect(countUnmapped(db)).toBe(30)
     await map(db)
     const after = expectInStep(db)
-    expect(db.prepare('SELECT COUNT(*) FROM documents WHERE mapped_version IS NOT NULL').pluck().get()).toBe(mappedBefore + 30)
+    expect(countMapped(db)).toBe(mappedBefore + 30)
+    expect(countUnmapped(db)).toBe(0)
     expect(after.totals.external.get('2024-06')).toBe(22)
     expect(after.totals.external.get('2024-08')).toBe(10)
 
@@ -304,15 +314,20 @@ describe('migration 3', () => {
       v2.prepare("INSERT INTO demand (concept_id, series, month, n, total) VALUES ('sql', 'external', '2024-01', 2, 4)").run()
     })()
     const mentionsBefore = v2.prepare('SELECT * FROM mentions ORDER BY document_id, concept_id').all()
-    const expected = recomputeMonthlyDemand(v2)
     v2.close()
+    // the demand of these documents, recomputed by the current schema's queries on a fully migrated
+    // copy (the counts checked by hand below); each step's aggregates must equal it
+    fs.copyFileSync(file, path.join(tmp, 'v2-latest.db'))
+    const latest = openDb(path.join(tmp, 'v2-latest.db'))
+    const expected = recomputeMonthlyDemand(latest)
+    latest.close()
 
     const db = openDb(file, { upTo: 3 })
     expect(schemaVersion(db)).toBe(3)
     expect(db.prepare('SELECT * FROM mentions ORDER BY document_id, concept_id').all()).toEqual(mentionsBefore)
     expect(db.prepare('SELECT * FROM demand').all()).toEqual([{ concept_id: 'sql', series: 'external', month: '2024-01', n: 2, total: 4 }])
-    const d = expectInStep(db)
-    expect(d).toEqual(expected)
+    const d = expected
+    expectAggregates(db, expected)
     expect(d.totals.external.get('2024-02')).toBe(4)
     expect(d.totals.internal.get('2024-02')).toBe(1)
     expect(d.mentions.get('data')!.external.get('2024-03')).toBe(4)
@@ -339,17 +354,29 @@ describe('migration 3', () => {
     v4.close()
 
     // migration 5: the unmapped index holds only the unmapped originals (not the reposts, never
-    // mapped) and the map's queries read it alone
+    // mapped) and counting them reads it alone
     const v5 = openDb(file, { upTo: 5 })
     expect(schemaVersion(v5)).toBe(5)
     expect(unmappedBefore).toHaveLength(3)
-    expect(countUnmapped(v5)).toBe(3)
-    expect(unmappedAfter(v5, 0, 10).map((d) => d.id)).toEqual(unmappedBefore)
-    expect(unmappedBatchEnd(v5, 0, 2)).toBe(unmappedBefore[1])
-    expect(unmappedBatchEnd(v5, unmappedBefore[2] as number, 2)).toBeUndefined()
     expect(v5.prepare("SELECT sql FROM sqlite_master WHERE name = 'documents_unmapped'").pluck().get()).toMatch(/WHERE mapped_version IS NULL AND duplicate_of IS NULL/)
     const plan = v5.prepare('EXPLAIN QUERY PLAN SELECT COUNT(*) FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL').all() as { detail: string }[]
     expect(plan.map((r) => r.detail).join(' ')).toMatch(/COVERING INDEX documents_unmapped/)
+    expect(v5.prepare('SELECT id FROM documents INDEXED BY documents_unmapped WHERE mapped_version IS NULL AND duplicate_of IS NULL ORDER BY id').pluck().all()).toEqual(unmappedBefore)
     v5.close()
+
+    // migration 9: the map's queue holds the same unmapped originals, the column and its index go,
+    // and the aggregates are still in step with the documents the queue calls mapped
+    const v9 = openDb(file, { upTo: 9 })
+    expect(schemaVersion(v9)).toBe(9)
+    expect(countUnmapped(v9)).toBe(3)
+    expect(unmappedAfter(v9, 0, 10).map((doc) => doc.id)).toEqual(unmappedBefore)
+    expect(unmappedBatchEnd(v9, 0, 2)).toBe(unmappedBefore[1])
+    expect(unmappedBatchEnd(v9, unmappedBefore[2] as number, 2)).toBeUndefined()
+    expect(countMapped(v9)).toBe(15) // 6 originals a month, one of them unmapped, over 3 months
+    expect((v9.prepare('PRAGMA table_info(documents)').all() as { name: string }[]).map((c) => c.name)).not.toContain('mapped_version')
+    expect(v9.prepare("SELECT COUNT(*) FROM sqlite_master WHERE name = 'documents_unmapped'").pluck().get()).toBe(0)
+    expect(expectInStep(v9)).toEqual(expected)
+    expect(v9.pragma('integrity_check', { simple: true })).toBe('ok')
+    v9.close()
   })
 })

@@ -5,7 +5,9 @@
  * concepts, rolled-back transactions), on a second connection's writes, through the real stages,
  * and after migration 7's fill of an older database. The plan's reading of the adjacency window
  * (db/plan.ts readConceptLists) must give the lists, and so the co-occurrence counts, of the query
- * it replaced, which read the mentions (kept here as the reference).
+ * it replaced, which read the mentions (kept here as the reference). The same random writes keep the
+ * map's queue (`unmapped_documents`, migration 9) equal to the originals not mapped since, by a model
+ * of the writers' rules, and the demand aggregates equal to their recomputation.
  */
 import fs from 'node:fs'
 import os from 'node:os'
@@ -17,6 +19,9 @@ import { openDb, schemaVersion, type Db } from '../../src/db/connection.ts'
 import { deleteDocuments, markDuplicate } from '../../src/db/documents.ts'
 import { decodeCodes, encodeCodes, readMentionLists, rebuildMentionLists } from '../../src/db/mention-lists.ts'
 import { readConceptLists } from '../../src/db/plan.ts'
+import { recomputeMonthlyDemand } from '../../src/db/curves.ts'
+import { demandInputs } from '../../src/curves/stage.ts'
+import { referenceInputs } from '../curves/reference-inputs.ts'
 import { insertConcept, markUnmapped, replaceOpenCandidates, replaceTaxonomy, saveMappings, type MentionRow } from '../../src/db/taxonomy.ts'
 import { importDocuments } from '../../src/ingest/import.ts'
 import { countCoOccurrence, support } from '../../src/plan/adjacency.ts'
@@ -146,6 +151,12 @@ describe('mention_lists kept by every writer of mentions', () => {
         }
         const concepts = () => db.prepare('SELECT id FROM concepts ORDER BY rowid').pluck().all() as string[]
         const exists = (id: number) => db.prepare('SELECT 1 FROM documents WHERE id = ?').get(id) !== undefined
+        // the model of the map's queue: the originals mapped since they last became unmapped
+        const mapped = new Set<number>()
+        const originals = () => new Set(db.prepare('SELECT id FROM documents WHERE duplicate_of IS NULL').pluck().all() as number[])
+        const mapIfOriginal = (before: Set<number>, docs: number[]) => {
+          for (const d of docs) if (before.has(ids[d]!)) mapped.add(ids[d]!)
+        }
         const mapDocs = (docs: { doc: number; rows: { concept: number; via: MentionRow['via'] }[] }[]) => {
           const known = concepts()
           const mappings = new Map<number, MentionRow[]>()
@@ -159,9 +170,10 @@ describe('mention_lists kept by every writer of mentions', () => {
             }
             mappings.set(id, [...rows.values()])
           }
-          saveMappings(db, 1, [...mappings].map(([id, rows]) => ({ id, rows })))
+          saveMappings(db, [...mappings].map(([id, rows]) => ({ id, rows })))
         }
         for (const o of ops) {
+          const before = originals()
           try {
             db.transaction(() => {
               switch (o.op) {
@@ -194,7 +206,7 @@ describe('mention_lists kept by every writer of mentions', () => {
                   const doc = ids[o.doc]!
                   const addAndMap = (c: string, d: number) => {
                     insertConcept(db, concept(c), 'accepted', noFlags)
-                    if (exists(d)) saveMappings(db, 1, [{ id: d, rows: [{ conceptId: c, count: 1, firstOffset: 0, via: 'text' }] }])
+                    if (exists(d)) saveMappings(db, [{ id: d, rows: [{ conceptId: c, count: 1, firstOffset: 0, via: 'text' }] }])
                   }
                   expect(() =>
                     db.transaction(() => {
@@ -210,8 +222,19 @@ describe('mention_lists kept by every writer of mentions', () => {
             })()
           } catch (err) {
             if (!/rolled back|cannot be its own original/.test((err as Error).message)) throw err
+            continue
           }
+          const after = originals()
+          if (o.op === 'map' && concepts().length > 0) mapIfOriginal(before, o.docs.map((d) => d.doc))
+          if (o.op === 'rollback') mapIfOriginal(before, [o.doc, (o.doc + 1) % ids.length])
+          if (o.op === 'unmap') for (const d of o.docs) mapped.delete(ids[d]!)
+          if (o.op === 'taxonomy') mapped.clear()
+          // reposts are never mapped; a repost that became the original (an heir) waits to be mapped
+          for (const id of [...mapped]) if (!after.has(id) || !before.has(id)) mapped.delete(id)
+          const queued = db.prepare('SELECT id FROM unmapped_documents ORDER BY id').pluck().all()
+          expect(queued, `the map's queue after ${o.op}`).toEqual([...after].filter((id) => !mapped.has(id)).sort((a, b) => a - b))
         }
+        expect(demandInputs(db).inputs).toEqual(referenceInputs(recomputeMonthlyDemand(db)))
         // and a last map with every concept there is now (codes added after the rollbacks)
         mapDocs(ids.map((_, doc) => ({ doc, rows: [{ concept: doc, via: 'text' as const }, { concept: doc + 1, via: 'skills' as const }] })).filter((_, i) => i % 3 === 0))
         expectMirror(db)
@@ -237,13 +260,13 @@ describe('mention_lists kept by every writer of mentions', () => {
     const doc = a.prepare("INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, text_hash) VALUES ('fern', ?, 'posting', '', 'x', '2024-01-02', '2024-01', ?)")
     const d = [1, 2, 3].map((i) => Number(doc.run(`d${i}`, `h${i}`).lastInsertRowid))
     insertConcept(a, concept('alpha'), 'import', noFlags)
-    a.transaction(() => saveMappings(a, 1, [{ id: d[0]!, rows: [{ conceptId: 'alpha', count: 1, firstOffset: 0, via: 'text' }] }]))()
+    a.transaction(() => saveMappings(a, [{ id: d[0]!, rows: [{ conceptId: 'alpha', count: 1, firstOffset: 0, via: 'text' }] }]))()
     // b gives the next code to beta; a then codes gamma (a code after beta's, not beta's)
     insertConcept(b, concept('beta'), 'import', noFlags)
     insertConcept(b, concept('gamma'), 'import', noFlags)
-    b.transaction(() => saveMappings(b, 1, [{ id: d[1]!, rows: [{ conceptId: 'beta', count: 1, firstOffset: 0, via: 'text' }] }]))()
+    b.transaction(() => saveMappings(b, [{ id: d[1]!, rows: [{ conceptId: 'beta', count: 1, firstOffset: 0, via: 'text' }] }]))()
     a.transaction(() =>
-      saveMappings(a, 1, [{ id: d[2]!, rows: [{ conceptId: 'gamma', count: 1, firstOffset: 0, via: 'text' }, { conceptId: 'beta', count: 1, firstOffset: 0, via: 'skills' }, { conceptId: 'alpha', count: 1, firstOffset: 0, via: 'rollup' }] }]),
+      saveMappings(a, [{ id: d[2]!, rows: [{ conceptId: 'gamma', count: 1, firstOffset: 0, via: 'text' }, { conceptId: 'beta', count: 1, firstOffset: 0, via: 'skills' }, { conceptId: 'alpha', count: 1, firstOffset: 0, via: 'rollup' }] }]),
     )()
     expectMirror(a)
     expect(canonical(readConceptLists(b, 'posting', null, null))).toEqual(['alpha', 'beta', 'beta,gamma'])

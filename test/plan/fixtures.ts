@@ -88,7 +88,7 @@ export function addDocument(db: Db, doc: { month: string; concepts: string[]; ti
   const direct = [...new Set(doc.concepts)]
   mentionListWriter(db, direct)(doc.kind ?? 'posting', doc.month, id, direct)
   // a mapped original: counted in the demand aggregates as the map stage would count it
-  db.prepare('UPDATE documents SET mapped_version = 1 WHERE id = ?').run(id)
+  db.prepare('DELETE FROM unmapped_documents WHERE id = ?').run(id)
   const series = (doc.kind ?? 'posting') === 'posting' ? 'external' : 'internal'
   db.prepare('INSERT INTO demand_totals(series, month, total) VALUES (?, ?, 1) ON CONFLICT DO UPDATE SET total = total + 1').run(series, doc.month)
   for (const c of new Set(doc.concepts)) {

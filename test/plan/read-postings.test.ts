@@ -16,7 +16,7 @@ function corpus() {
   db.prepare("INSERT INTO sources (id, kind, location) VALUES ('fern', 'import', 'test')").run()
   for (const id of ['data', 'python', 'sql', 'excel']) db.prepare("INSERT INTO concepts (id, pref_label, type) VALUES (?, ?, 'hard')").run(id, id)
   const doc = db.prepare(
-    "INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, text_hash, duplicate_of, mapped_version) VALUES ('fern', ?, ?, ?, 'text', ?, ?, ?, ?, 1)",
+    "INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, text_hash, duplicate_of) VALUES ('fern', ?, ?, ?, 'text', ?, ?, ?, ?)",
   )
   const mention = db.prepare('INSERT INTO mentions (document_id, concept_id, count, first_offset, via) VALUES (?, ?, 1, 0, ?)')
   let serial = 0
@@ -32,6 +32,7 @@ function corpus() {
   add('posting', '2024-03', []) // mapped, no skill
   add('request', '2024-02', [['sql', 'text']]) // another kind
   add('posting', '2024-03', [['sql', 'skills'], ['python', 'text']])
+  db.prepare('DELETE FROM unmapped_documents').run() // all mapped
   rebuildMentionLists(db)
   return db
 }

@@ -14,6 +14,7 @@ import Database from 'better-sqlite3'
 import { expect } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
 import { findStage } from '../../src/stages.ts'
+import { COUNT_MAPPED } from '../../src/db/taxonomy.ts'
 import { changedTables, copyDb, integrity, query, resultHash, sleep, startTides, tides, type Workspace } from './helpers.ts'
 
 export type CrashStage = 'ingest' | 'map' | 'fit' | 'plan'
@@ -52,7 +53,7 @@ export interface Baseline {
 export function baselineOf(file: string): Baseline {
   return {
     lastEvent: query<{ id: number }>(file, 'SELECT COALESCE(MAX(id), 0) AS id FROM events')[0]!.id,
-    mapped: query<{ n: number }>(file, 'SELECT COUNT(*) AS n FROM documents WHERE mapped_version IS NOT NULL')[0]!.n,
+    mapped: query<{ n: number }>(file, COUNT_MAPPED)[0]!.n,
   }
 }
 
@@ -72,7 +73,7 @@ export function expectEventsBackedByWork(file: string, base: Baseline = { lastEv
   }
   const mapped = eventsAfter(file, base.lastEvent, 'documents.mapped').map((e) => Number(e.p['mapped'] ?? 0))
   if (mapped.length) {
-    const now = query<{ n: number }>(file, 'SELECT COUNT(*) AS n FROM documents WHERE mapped_version IS NOT NULL')[0]!.n
+    const now = query<{ n: number }>(file, COUNT_MAPPED)[0]!.n
     // runs restart their count: the sum of each run's last (largest) count is what was announced
     let announced = 0
     mapped.forEach((m, i) => {
