@@ -136,6 +136,7 @@ export class DocumentStore {
   private readonly textOf: Statement
   private readonly insertBandsStmt: Statement
   private readonly pointStmt: Statement
+  private readonly enqueue: Statement
 
   constructor(
     readonly db: Db,
@@ -144,6 +145,7 @@ export class DocumentStore {
     this.byHash = db.prepare("SELECT id, duplicate_of FROM documents WHERE text_hash = ? AND kind = 'posting' ORDER BY id LIMIT 1")
     this.byExternal = db.prepare('SELECT id FROM documents WHERE source_id = ? AND external_id = ?').pluck()
     this.insert = db.prepare(INSERT_DOCUMENT)
+    this.enqueue = db.prepare('INSERT OR IGNORE INTO unmapped_documents (id) VALUES (?)')
     this.signatureOf = db.prepare('SELECT id, duplicate_of, signature FROM documents WHERE id = ?')
     this.textOf = db.prepare('SELECT title, body FROM documents WHERE id = ?')
     const marks = Array.from({ length: bands }, () => '(?, ?)').join(', ')
@@ -164,7 +166,8 @@ export class DocumentStore {
 
   /**
    * Inserts a document unless its source already has one with the same external id (callers check
-   * with existing() first; the conflict clause keeps a race harmless).
+   * with existing() first; the conflict clause keeps a race harmless). A new original joins the
+   * map's queue (migration 9).
    * @returns the new id, or null when it was already stored
    */
   insertDocument(row: DocumentRow): number | null {
@@ -172,7 +175,10 @@ export class DocumentStore {
       row.source_id, row.external_id, row.kind, row.title, row.body, row.posted_at, row.month, row.date_estimated, row.text_hash, row.duplicate_of,
       row.dup_similarity, row.occupation, row.organisation, row.location, row.channel, row.team, row.skills_json, row.signature,
     )
-    return info.changes === 0 ? null : Number(info.lastInsertRowid)
+    if (info.changes === 0) return null
+    const id = Number(info.lastInsertRowid)
+    if (row.duplicate_of === null) this.enqueue.run(id)
+    return id
   }
 
   /** Band keys as stored: band * 2^32 + key (exact in a double, below 2^53). */

@@ -499,10 +499,12 @@ CREATE TABLE matcher_cache (
  * document mapped used to rewrite its row of the wide documents table (about three documents to an
  * 8 KB page, with their texts): a bulk map of a million postings wrote the whole 2.3 GB table to
  * the WAL and again to the database (300,000 of those updates took 4.0 s wall against 0.96 s to
- * read the same rows); now it deletes one narrow row. Triggers keep the queue: a new original joins
- * it, a document that becomes a repost leaves it (reposts are never mapped), a repost that becomes
- * the original (its original deleted) joins it, a deleted document leaves it. The column goes
- * (SQLite rewrites the table once to drop it: at a million postings, measured in DEVELOPERS.md).
+ * read the same rows); now it deletes one narrow row. A new original joins the queue where the
+ * ingest stores it (DocumentStore.insertDocument; the same as an AFTER INSERT trigger made an import
+ * of 100,000 postings 3.5 s slower, 8.5 -> 12.1 s, measured); triggers keep it through the rare
+ * changes: a document that becomes a repost leaves it (reposts are never mapped), a repost that
+ * becomes the original (its original deleted) joins it, a deleted document leaves it. The column
+ * goes: SQLite rewrites the table once to drop it (26.6 s at a million postings).
  */
 const V9_MAP_QUEUE = `
 CREATE TABLE unmapped_documents (id INTEGER PRIMARY KEY);
@@ -511,9 +513,6 @@ INSERT INTO unmapped_documents (id)
 DROP INDEX documents_unmapped;
 ALTER TABLE documents DROP COLUMN mapped_version;
 
-CREATE TRIGGER documents_queue_new AFTER INSERT ON documents WHEN NEW.duplicate_of IS NULL BEGIN
-  INSERT OR IGNORE INTO unmapped_documents (id) VALUES (NEW.id);
-END;
 CREATE TRIGGER documents_queue_repost AFTER UPDATE OF duplicate_of ON documents
   WHEN OLD.duplicate_of IS NULL AND NEW.duplicate_of IS NOT NULL BEGIN
   DELETE FROM unmapped_documents WHERE id = NEW.id;

@@ -149,6 +149,8 @@ describe('mention_lists kept by every writer of mentions', () => {
           const dup = i % 7 === 6 ? ids[i - 1]! : null
           ids.push(Number(insertDoc.run(`d${i}`, i % 5 === 4 ? 'request' : 'posting', `${month}-10`, month, `h${i}`, dup).lastInsertRowid))
         }
+        // the originals wait in the map's queue, as the import leaves them
+        db.prepare('INSERT INTO unmapped_documents (id) SELECT id FROM documents WHERE duplicate_of IS NULL').run()
         const concepts = () => db.prepare('SELECT id FROM concepts ORDER BY rowid').pluck().all() as string[]
         const exists = (id: number) => db.prepare('SELECT 1 FROM documents WHERE id = ?').get(id) !== undefined
         // the model of the map's queue: the originals mapped since they last became unmapped
