@@ -144,6 +144,10 @@ describe('demand aggregates kept by the map stage', () => {
       { timestamp: '2024-02-09T10:00:00Z', text: 'Kubernetes training please', channel: 'portal', team: 'south' },
       { timestamp: '2024-05-01T10:00:00Z', text: 'Excel refresher for the finance office', channel: 'ticket', team: 'north' },
     ])
+    // the import queues the originals for the map, not the reposts (never mapped)
+    expect(db.prepare('SELECT COUNT(*) FROM documents WHERE duplicate_of IS NOT NULL').pluck().get()).toBe(reposts.length)
+    expect(countUnmapped(db)).toBe(first.length + 3)
+    expect(db.prepare('SELECT COUNT(*) FROM unmapped_documents u JOIN documents d ON d.id = u.id WHERE d.duplicate_of IS NOT NULL').pluck().get()).toBe(0)
     await map(db)
     expect(countUnmapped(db)).toBe(0)
     const d = expectInStep(db)
