@@ -318,7 +318,11 @@ async function run(ctx: StageContext): Promise<StageResult> {
     settleCandidates(db)
   }
   await background?.stop()
-  const after = ctx.trigger.includes('taxonomy.changed') ? ' after a taxonomy change' : ''
+  const afterChange = ctx.trigger.includes('taxonomy.changed')
+  // a change that touched no stored document still changes the taxonomy (a new concept needs its
+  // curve), and the dashboard follows the change to its refit: announce the map done all the same
+  if (afterChange && counts.mapped === 0) db.transaction(() => emit(db, 'documents.mapped', { mapped: 0, version, mentions: 0, rollups: 0 }))()
+  const after = afterChange ? ' after a taxonomy change' : ''
   const summary =
     `mapped ${counts.mapped} documents${after} (${counts.mentions} mentions, ${counts.rollups} rollups` +
     `${counts.workers ? `, ${counts.workers} worker threads` : ''})` +

@@ -199,6 +199,21 @@ describe('taxonomy import and changes', () => {
     expect(mentionSummary(db).map((m) => m.concept_id).sort()).toEqual(['containers', 'kubernetes', 'teamwork'])
   })
 
+  it('announces the map done after a taxonomy change that touched no document, so that the refit follows', async () => {
+    const db = await dbWith(POSTINGS)
+    await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    const mappedEvents = () => pendingFor(db, 'test', ['documents.mapped']).events.map((e) => JSON.parse(e.payload_json) as { mapped: number })
+    const before = mappedEvents().length
+    replaceOpenCandidates(db, [{ term: 'loomwright', score: 9, recentDf: 1, earlierDf: 0, trend: [], examples: [] }])
+    expect(acceptAsConcept(db, 'loomwright', { type: 'hard' }, 'curator').affected).toBe(0)
+    expect(countUnmapped(db)).toBe(0)
+    await mapStage.run({ db, config, log: quiet, trigger: 'event:taxonomy.changed', options: {} })
+    expect(mappedEvents().slice(before)).toEqual([{ mapped: 0, version: taxonomyVersion(db), mentions: 0, rollups: 0 }])
+    // a run with nothing to map and no change announces nothing
+    await mapStage.run({ db, config, log: quiet, trigger: 'manual', options: {} })
+    expect(mappedEvents()).toHaveLength(before + 1)
+  })
+
   it('refuses a taxonomy with errors, naming file and line, unless --skip-bad', async () => {
     const db = openDb(':memory:')
     const file = path.join(tmp, 'bad.csv')
