@@ -500,8 +500,8 @@ CREATE TABLE matcher_cache (
  * 8 KB page, with their texts): a bulk map of a million postings wrote the whole 2.3 GB table to
  * the WAL and again to the database (300,000 of those updates took 4.0 s wall against 0.96 s to
  * read the same rows); now it deletes one narrow row. A new original joins the queue where the
- * ingest stores it (DocumentStore.insertDocument; the same as an AFTER INSERT trigger made an import
- * of 100,000 postings 3.5 s slower, 8.5 -> 12.1 s, measured); triggers keep it through the rare
+ * ingest stores it (DocumentStore.insertDocument: done by an AFTER INSERT trigger instead, an import
+ * of 100,000 postings took 3.5 s longer, 8.5 -> 12.1 s, measured); triggers keep it through the rare
  * changes: a document that becomes a repost leaves it (reposts are never mapped), a repost that
  * becomes the original (its original deleted) joins it, a deleted document leaves it. The column
  * goes: SQLite rewrites the table once to drop it (26.6 s at a million postings).

@@ -156,8 +156,8 @@ export interface DocumentToMap {
 }
 
 /**
- * The unmapped original documents: the map's queue (migration 9; its triggers keep it to originals),
- * with their rows of documents where the texts are read.
+ * The unmapped original documents: the map's queue (migration 9: the ingest queues new originals,
+ * triggers follow the rare changes), with their rows of documents where the texts are read.
  */
 const QUEUED_DOCUMENTS = 'FROM unmapped_documents u JOIN documents d ON d.id = u.id'
 
