@@ -11,7 +11,7 @@ import { parseArgs, type ParseArgsConfig } from 'node:util'
 import { IMPORT_KINDS, IMPORTERS, PLANNED_REPORTS, REPORTS, type ImportKind } from './commands/registry.ts'
 import { COMMANDS as EXTRA_COMMANDS } from './commands/extra.ts'
 import { ConfigError, loadConfig, type Config } from './config.ts'
-import { DbError, describeDbFailure, openDb, type Db } from './db/connection.ts'
+import { DbError, describeDbFailure, openDb, upgradeNotice, type Db } from './db/connection.ts'
 import { closeAbandonedRuns } from './db/runs.ts'
 import { BusyError, ServeError } from './errors.ts'
 import { NotBuiltError, STAGE_ORDER } from './stage.ts'
@@ -274,7 +274,7 @@ export async function main(argv: string[], io: Io): Promise<number> {
         if (options?.existing && cfg.db !== ':memory:' && !fs.existsSync(cfg.db)) {
           throw new CliError(`no database at ${cfg.db}: create one with \`tides init\` or \`tides demo\`, or give the right --db (or TIDES_DB)`)
         }
-        const db = openDb(cfg.db)
+        const db = openDb(cfg.db, { onMigrate: (m) => io.err(upgradeNotice(cfg.db, m)) })
         closeAbandonedRuns(db)
         opened = { db, config: cfg }
       }

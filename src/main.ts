@@ -8,7 +8,7 @@
 process.env['DOTENV_CONFIG_QUIET'] = 'true'
 
 import { ConfigError, loadConfig } from './config.ts'
-import { DbError, getSetting, openDb } from './db/connection.ts'
+import { DbError, getSetting, openDb, upgradeNotice } from './db/connection.ts'
 import { closeAbandonedRuns } from './db/runs.ts'
 import { runDemo } from './demo/load.ts'
 import { runPipeline } from './pipeline.ts'
@@ -19,7 +19,7 @@ async function start(): Promise<void> {
   const started = performance.now()
   const log = (m: string) => process.stderr.write(`[${((performance.now() - started) / 1000).toFixed(1)}s] ${m}\n`)
   const config = loadConfig()
-  const db = openDb(config.db)
+  const db = openDb(config.db, { onMigrate: (m) => log(upgradeNotice(config.db, m).trimEnd()) })
   closeAbandonedRuns(db)
   log(`database ${config.db}`)
   const running = await serve(db, config, { schedules: false, log })

@@ -25,6 +25,11 @@ export interface OpenOptions {
   readonly?: boolean
   /** apply migrations up to this version only (tests of the upgrade path) */
   upTo?: number
+  /**
+   * told before each migration of a database that already has a schema (a new one is created at
+   * once): some rewrite a large table (migration 9 takes about 27 s at a million postings)
+   */
+  onMigrate?: (migration: { from: number; version: number; name: string }) => void
 }
 
 /**
@@ -56,7 +61,7 @@ export function openDb(file: string, options: OpenOptions = {}): Db {
     db.pragma('busy_timeout = 5000')
     // migration 6 computes the sketches of the stored signatures with it
     registerSketchFunction(db)
-    if (!options.readonly) migrate(db, options.upTo ?? SCHEMA_VERSION)
+    if (!options.readonly) migrate(db, options.upTo ?? SCHEMA_VERSION, MIGRATIONS, options.onMigrate)
     else checkVersion(db, file)
   } catch (err) {
     db.close()
@@ -77,14 +82,28 @@ function checkVersion(db: Db, file: string): number {
 }
 
 /**
+ * The line a command prints before a migration of an existing database (see OpenOptions.onMigrate).
+ *
+ * @example
+ * ```ts
+ * upgradeNotice('tides.db', { from: 8, version: 9, name: 'the map queue' })
+ * // => 'database tides.db: upgrading from schema 8 to 9 (the map queue); a large database takes a while ...\n'
+ * ```
+ */
+export function upgradeNotice(file: string, m: { from: number; version: number; name: string }): string {
+  return `database ${file}: upgrading from schema ${m.from} to ${m.version} (${m.name}); a large database takes a while (about half a minute at a million postings); if stopped, the step is rolled back and runs again next time\n`
+}
+
+/**
  * Applies every migration above the database's `user_version`, each in its own transaction.
  * @returns the versions applied
  */
-export function migrate(db: Db, upTo: number = SCHEMA_VERSION, migrations: readonly Migration[] = MIGRATIONS): number[] {
+export function migrate(db: Db, upTo: number = SCHEMA_VERSION, migrations: readonly Migration[] = MIGRATIONS, onMigrate?: OpenOptions['onMigrate']): number[] {
   const current = checkVersion(db, db.name)
   const applied: number[] = []
   for (const m of migrations) {
     if (m.version <= current || m.version > upTo) continue
+    if (current > 0) onMigrate?.({ from: applied.at(-1) ?? current, version: m.version, name: m.name })
     const step = db.transaction(() => {
       db.exec(m.sql)
       db.pragma(`user_version = ${m.version}`)

@@ -62,6 +62,25 @@ describe('tides CLI', () => {
     expect(JSON.parse(skipped.out)[0]).toMatchObject({ imported: 1, skipped: 1 })
   })
 
+  it('says so on stderr while it upgrades an older database, and only then; --json output stays clean', async () => {
+    const dir = tmpDir()
+    const file = path.join(dir, 'old.db')
+    openDb(file, { upTo: 8 }).close()
+    const first = await tides('report', 'runs', '--json', '--db', file)
+    expect(first.code).toBe(0)
+    expect(first.err).toMatch(new RegExp(`^database ${file.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}: upgrading from schema 8 to 9 \\(the map queue replaces documents.mapped_version\\); a large database takes a while`))
+    expect(JSON.parse(first.out)).toEqual([])
+    const again = await tides('report', 'runs', '--db', file)
+    expect(again.err).not.toMatch(/upgrading/)
+    // a new database is created at the current schema without a word; an old one hears of each step
+    const told: { from: number; version: number }[] = []
+    openDb(path.join(dir, 'new.db'), { onMigrate: (m) => told.push(m) }).close()
+    expect(told).toEqual([])
+    openDb(path.join(dir, 'older.db'), { upTo: 7 }).close()
+    openDb(path.join(dir, 'older.db'), { onMigrate: (m) => told.push({ from: m.from, version: m.version }) }).close()
+    expect(told).toEqual([{ from: 7, version: 8 }, { from: 8, version: 9 }])
+  })
+
   it('--json prints exactly one parseable JSON document on stdout', async () => {
     const dir = tmpDir()
     openDb(path.join(dir, 't.db')).close()
