@@ -87,11 +87,11 @@ function checkVersion(db: Db, file: string): number {
  * @example
  * ```ts
  * upgradeNotice('tides.db', { from: 8, version: 9, name: 'the map queue' })
- * // => 'database tides.db: upgrading from schema 8 to 9 (the map queue); a large database takes a while ...\n'
+ * // => 'database tides.db: upgrading from schema 8 to 9 (the map queue); a large database can take a while ...\n'
  * ```
  */
 export function upgradeNotice(file: string, m: { from: number; version: number; name: string }): string {
-  return `database ${file}: upgrading from schema ${m.from} to ${m.version} (${m.name}); a large database takes a while (about half a minute at a million postings); if stopped, the step is rolled back and runs again next time\n`
+  return `database ${file}: upgrading from schema ${m.from} to ${m.version} (${m.name}); a large database can take a while (up to about half a minute a step at a million postings); if stopped, the step is rolled back and runs again next time\n`
 }
 
 /**
