@@ -110,8 +110,12 @@ export function readConceptLabelList(db: Db): [string, string][] {
   return db.prepare('SELECT id, pref_label FROM concepts ORDER BY id').raw().all() as [string, string][]
 }
 
-/** a document d that is not waiting in the map's queue */
-const MAPPED = 'NOT EXISTS (SELECT 1 FROM unmapped_documents u WHERE u.id = d.id)'
+/**
+ * SQL: the document row `alias` is mapped (not waiting in the map's queue, migration 9); with
+ * duplicate_of IS NULL, it counts in the demand aggregates.
+ */
+export const isMapped = (alias: string) => `NOT EXISTS (SELECT 1 FROM unmapped_documents u WHERE u.id = ${alias}.id)`
+const MAPPED = isMapped('d')
 const TOTALS_FROM_DOCUMENTS = `SELECT CASE kind WHEN 'posting' THEN 'external' ELSE 'internal' END AS series, month, COUNT(*) AS total
   FROM documents d WHERE duplicate_of IS NULL AND kind IN ('posting','request') AND ${MAPPED}
   GROUP BY kind, month`

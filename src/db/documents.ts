@@ -5,7 +5,7 @@
  */
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
-import { DemandDelta } from './curves.ts'
+import { DemandDelta, isMapped } from './curves.ts'
 import { deleteMentionList } from './mention-lists.ts'
 
 // ------------------------------------------------------------------------------------------------
@@ -258,20 +258,20 @@ interface CountState {
   kind: string
   month: string
   duplicate_of: number | null
-  /** 1 while the document waits in the map's queue (unmapped), else 0 */
-  queued: number
+  /** 1 when the document is mapped (not waiting in the map's queue), else 0 */
+  mapped: number
 }
 
 /** Takes a document out of the demand aggregates when it counts there (a mapped original). */
 function uncountDocument(db: Db, delta: DemandDelta, doc: CountState): void {
-  if (doc.duplicate_of !== null || doc.queued) return
+  if (doc.duplicate_of !== null || !doc.mapped) return
   const concepts = db.prepare('SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(doc.id) as string[]
   delta.document(doc.kind, doc.month, concepts, -1)
 }
 
 function countState(db: Db, id: number): CountState | undefined {
   return db
-    .prepare('SELECT id, kind, month, duplicate_of, EXISTS (SELECT 1 FROM unmapped_documents u WHERE u.id = documents.id) AS queued FROM documents WHERE id = ?')
+    .prepare(`SELECT id, kind, month, duplicate_of, ${isMapped('documents')} AS mapped FROM documents WHERE id = ?`)
     .get(id) as CountState | undefined
 }
 

@@ -7,7 +7,7 @@
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
 import { getSetting, setSetting } from './connection.ts'
-import { clearDemandCounts, DemandDelta } from './curves.ts'
+import { clearDemandCounts, DemandDelta, isMapped } from './curves.ts'
 import { clearMentionLists, mentionListWriter } from './mention-lists.ts'
 import type { Concept, SkillType } from '../taxonomy/types.ts'
 import type { MentionRow } from '../taxonomy/rows.ts'
@@ -167,7 +167,7 @@ export function countUnmapped(db: Db): number {
 }
 
 /** SQL counting the mapped original documents of any kind (those not queued), as `n`. */
-export const COUNT_MAPPED = 'SELECT COUNT(*) AS n FROM documents d WHERE d.duplicate_of IS NULL AND NOT EXISTS (SELECT 1 FROM unmapped_documents u WHERE u.id = d.id)'
+export const COUNT_MAPPED = `SELECT COUNT(*) AS n FROM documents d WHERE d.duplicate_of IS NULL AND ${isMapped('d')}`
 
 /** Mapped original documents of any kind (those not queued). */
 export function countMapped(db: Db): number {
