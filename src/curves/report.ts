@@ -8,26 +8,18 @@ import type { Db } from '../db/connection.ts'
 import { readCurvesWithLabels } from '../db/curves.ts'
 import type { CurveRow } from '../db/curves.ts'
 import { SKILL_STATES } from './state.ts'
+import { curveRowDetails } from './stored-series.ts'
 
 function round(x: number | null | undefined, digits: number): number | null {
   if (x === null || x === undefined || !Number.isFinite(x)) return null
   return Number(x.toPrecision(digits))
 }
 
-function detailsOf(row: CurveRow): Record<string, unknown> {
-  try {
-    const parsed: unknown = JSON.parse(row.details_json)
-    return parsed && typeof parsed === 'object' && !Array.isArray(parsed) ? (parsed as Record<string, unknown>) : {}
-  } catch {
-    return {}
-  }
-}
-
 const pick = <T>(details: Record<string, unknown>, key: string): T | null => (details[key] === undefined ? null : (details[key] as T))
 
 /** One skill as `--json` prints it: DESIGN.md's fields first, then the method details. */
 export function skillJson(row: CurveRow & { label: string | null }): Record<string, unknown> {
-  const details = detailsOf(row)
+  const details = curveRowDetails(row)
   const declining = row.state === 'declining' || row.state === 'fading'
   const mannKendall = pick<{ s: number; tau: number; z: number; pValue: number; n: number; seasonal: boolean }>(details, 'mannKendall')
   return {

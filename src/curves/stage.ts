@@ -14,7 +14,8 @@ import { emit } from '../events/outbox.ts'
 import type { Stage, StageContext, StageResult } from '../stage.ts'
 import { fitAll } from './fit-all.ts'
 import type { SkillCurve } from './fit-skill.ts'
-import { isMonth, monthIndex } from './months.ts'
+import { isMonth } from './months.ts'
+import { consecutiveMonths, encodeSeries } from './stored-series.ts'
 import type { SkillSeriesInput } from './series.ts'
 import type { SkillState } from './state.ts'
 
@@ -61,29 +62,21 @@ function isMonthSeries(x: unknown): x is MonthSeries {
   return typeof x === 'object' && x !== null && Array.isArray((x as MonthSeries).months) && Array.isArray((x as MonthSeries).values)
 }
 
-/** Month lists already checked to be consecutive (every skill of a run shares the run's list). */
-const consecutiveLists = new WeakMap<readonly string[], boolean>()
-
 /**
- * A month series as stored in details_json: its first month and its values when the months are
- * consecutive (`{ start, values }`; server/payloads.ts readMonthSeries expands it), else as it is.
- * The fitted and combined series' month strings were a fifth of the details' bytes.
+ * A month series as stored in details_json when it cannot go in the binary column (see
+ * curves/stored-series.ts): its first month and its values when the months are consecutive
+ * (`{ start, values }`; server/payloads.ts readMonthSeries expands it), else as it is.
  */
 export function compactSeries<T>(series: T): T | { start: string; values: number[] } {
   if (!isMonthSeries(series) || series.months.length === 0 || series.months.length !== series.values.length) return series
-  let consecutive = consecutiveLists.get(series.months)
-  if (consecutive === undefined) {
-    const first = monthIndex(series.months[0]!)
-    consecutive = series.months.every((month, i) => isMonth(month) && monthIndex(month) === first + i)
-    consecutiveLists.set(series.months, consecutive)
-  }
-  return consecutive ? { start: series.months[0]!, values: series.values } : series
+  return consecutiveMonths(series.months) ? { start: series.months[0]!, values: series.values } : series
 }
 
 const finite = (x: number | null | undefined): number | null => (x !== null && x !== undefined && Number.isFinite(x) ? x : null)
 
 /** The stored row of a fitted curve; details carry the method figures the columns do not. */
 export function curveRow(curve: SkillCurve, fittedAt: string): CurveRow {
+  const series = encodeSeries(curve.details)
   return {
     concept_id: curve.id,
     state: curve.state,
@@ -102,8 +95,10 @@ export function curveRow(curve: SkillCurve, fittedAt: string): CurveRow {
     emerged_month: curve.emergedMonth,
     details_json: JSON.stringify({
       ...curve.details,
-      fitted: compactSeries(curve.details.fitted),
-      combined: compactSeries(curve.details.combined),
+      // the month series go in the binary column when they have its shape (undefined: left out)
+      ...(series
+        ? { fitted: undefined, combined: undefined, forecast: undefined, seriesLayout: series.layout }
+        : { fitted: compactSeries(curve.details['fitted']), combined: compactSeries(curve.details['combined']) }),
       stateReason: curve.stateReason,
       beta: curve.beta,
       betaInterval: curve.betaInterval,
@@ -111,6 +106,7 @@ export function curveRow(curve: SkillCurve, fittedAt: string): CurveRow {
       senSlope: curve.senSlope,
       latestMonth: curve.latestMonth,
     }),
+    series: series?.blob ?? null,
     fitted_at: fittedAt,
   }
 }

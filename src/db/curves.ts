@@ -275,6 +275,8 @@ export interface CurveRow {
   change_month: string | null
   emerged_month: string | null
   details_json: string
+  /** the month series in binary (curves/stored-series.ts; migration 10); null in older rows */
+  series?: Uint8Array | null
   fitted_at: string
 }
 
@@ -306,14 +308,15 @@ export function replaceCurves(db: Db, rows: Iterable<CurveRow>): number {
   const insert = db.prepare(
     `INSERT INTO curves (concept_id, state, annual_growth, growth_low, growth_high, half_life_months, half_life_low,
        half_life_high, p_value, p_adjusted, latest_share, forecast_share12, forecast_method, change_month, emerged_month,
-       details_json, fitted_at)
-     VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
+       details_json, series, fitted_at)
+     VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`,
   )
   let count = 0
   for (const r of rows) {
     insert.run(
       r.concept_id, r.state, r.annual_growth, r.growth_low, r.growth_high, r.half_life_months, r.half_life_low, r.half_life_high, r.p_value,
-      r.p_adjusted, r.latest_share, r.forecast_share12, r.forecast_method, r.change_month, r.emerged_month, r.details_json, r.fitted_at,
+      r.p_adjusted, r.latest_share, r.forecast_share12, r.forecast_method, r.change_month, r.emerged_month, r.details_json,
+      r.series ?? null, r.fitted_at,
     )
     count++
   }

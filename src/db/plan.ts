@@ -21,18 +21,21 @@ export type CurveRecord = Omit<CurveRow, 'forecast_method' | 'change_month' | 'e
  */
 export function readCurves(db: Db, bandStates?: readonly string[]): CurveRecord[] {
   const object = `json_valid(details_json) AND json_type(details_json) = 'object'`
+  const skip = `state = 'insufficient-evidence' OR latest_share IS NULL OR forecast_share12 IS NULL OR NOT (${object})`
+  const banded = `state IN (SELECT value FROM json_each(?))`
   const details = bandStates
-    ? `CASE WHEN state = 'insufficient-evidence' OR latest_share IS NULL OR forecast_share12 IS NULL OR NOT (${object}) THEN '{}'
-            WHEN state IN (SELECT value FROM json_each(?)) THEN ${pickDetails(PLAN_DETAIL_KEYS)}
-            ELSE ${pickDetails(['fittedLatestShare'])} END`
+    ? `CASE WHEN ${skip} THEN '{}' WHEN ${banded} THEN ${pickDetails(PLAN_DETAIL_KEYS)} ELSE ${pickDetails(['fittedLatestShare'])} END`
     : `CASE WHEN ${object} THEN ${pickDetails(PLAN_DETAIL_KEYS)} ELSE '{}' END`
+  // the binary series (forecast bands since migration 10) only where the bands are read
+  const series = bandStates ? `CASE WHEN ${skip} THEN NULL WHEN ${banded} THEN series END` : 'series'
+  const states = bandStates ? [JSON.stringify(bandStates)] : []
   return db
     .prepare(
       `SELECT concept_id, state, annual_growth, growth_low, growth_high, half_life_months, half_life_low, half_life_high,
-              p_value, p_adjusted, latest_share, forecast_share12, ${details} AS details_json, fitted_at
+              p_value, p_adjusted, latest_share, forecast_share12, ${details} AS details_json, ${series} AS series, fitted_at
        FROM curves ORDER BY concept_id`,
     )
-    .all(...(bandStates ? [JSON.stringify(bandStates)] : [])) as CurveRecord[]
+    .all(...states, ...states) as CurveRecord[]
 }
 
 /**
@@ -42,7 +45,7 @@ export function readCurves(db: Db, bandStates?: readonly string[]): CurveRecord[
  * parsing them all was the plan's largest read (0.85 s of 20,000 curves at N = 100,000). Malformed
  * details read as {} (absent, as before).
  */
-const PLAN_DETAIL_KEYS = ['forecast', 'bands', 'forecastBands', 'forecastLevel', 'bandLevel', 'level', 'fittedLatestShare', 'lastMonth', 'latestMonth']
+const PLAN_DETAIL_KEYS = ['forecast', 'seriesLayout', 'bands', 'forecastBands', 'forecastLevel', 'bandLevel', 'level', 'fittedLatestShare', 'lastMonth', 'latestMonth']
 const pickDetails = (keys: readonly string[]) => `json_object(${keys.map((k) => `'${k}', json_extract(details_json, '$.${k}')`).join(', ')})`
 
 /** concept id -> prefLabel */

@@ -5,6 +5,7 @@
  * per month ahead, so that demand paths can be drawn for the reskilling simulation.
  */
 import type { CurveRecord } from '../db/plan.ts'
+import { curveRowDetails } from '../curves/stored-series.ts'
 
 export type CurveState = 'emerging' | 'rising' | 'steady' | 'declining' | 'fading' | 'insufficient-evidence'
 
@@ -99,13 +100,7 @@ export function parseBands(details: Record<string, unknown>): { bands: ForecastB
 
 /** Turns a curves row into a SkillCurve. Malformed details are treated as absent, never fatal. */
 export function readSkillCurve(row: CurveRecord): SkillCurve {
-  let details: Record<string, unknown> = {}
-  try {
-    const parsed: unknown = JSON.parse(row.details_json || '{}')
-    if (parsed && typeof parsed === 'object' && !Array.isArray(parsed)) details = parsed as Record<string, unknown>
-  } catch {
-    details = {}
-  }
+  const details = curveRowDetails(row)
   const { bands, level } = parseBands(details)
   const evidenced = row.state !== 'insufficient-evidence' && finite(row.latest_share) && finite(row.forecast_share12)
   // a half-life, when given, is the curve's own statement of its decay; otherwise use the growth

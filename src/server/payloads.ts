@@ -149,8 +149,8 @@ export interface CurveDetails {
   stateReason: string | null
 }
 
-export function readCurveDetails(json: string | null | undefined): CurveDetails {
-  const d = parseJson(json)
+/** The skill page's parts of a curve's details (curves/stored-series.ts curveRowDetails gives them). */
+export function readCurveDetails(d: unknown): CurveDetails {
   if (!isRecord(d)) return { fitted: null, forecast: null, tests: [], model: null, combined: null, stateReason: null }
   return {
     fitted: readMonthSeries(pick(d, 'fitted', 'fit', 'fittedCurve')),

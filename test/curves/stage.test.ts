@@ -10,7 +10,9 @@ import { emit } from '../../src/events/outbox.ts'
 import { ripple } from '../../src/pipeline.ts'
 import { compactSeries, demandInputs, runFit } from '../../src/curves/stage.ts'
 import { readCurveDetails, readMonthSeries } from '../../src/server/payloads.ts'
-import { rebuildDemandCounts, recomputeMonthlyDemand } from '../../src/db/curves.ts'
+import { curveRowDetails, encodeSeries } from '../../src/curves/stored-series.ts'
+import { fitAll } from '../../src/curves/fit-all.ts'
+import { rebuildDemandCounts, recomputeMonthlyDemand, type CurveRow } from '../../src/db/curves.ts'
 import { referenceInputs } from './reference-inputs.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
 import { monthRange } from './simulate.ts'
@@ -231,19 +233,62 @@ describe('fit stage', () => {
   })
 })
 
-describe('fitted and combined series stored compactly', () => {
-  it('stores consecutive months as their start, and the dashboard reads back the same months and values', () => {
+describe('month series stored in binary (curves.series, migration 10)', () => {
+  it('keeps the series out of details_json, and every reader gets back the JSON shape the fit wrote before, value for value', () => {
     const db = openDb(':memory:')
     loadCorpus(db)
     runFit(db, config, { now: NOW })
-    const row = db.prepare("SELECT details_json FROM curves WHERE concept_id = 'kubernetes'").get() as { details_json: string }
-    const stored = JSON.parse(row.details_json) as { fitted: { start: string; values: number[] }; combined: { start: string; values: number[] } }
-    expect(stored.fitted).toEqual({ start: '2023-01', values: expect.any(Array) })
-    expect(stored.fitted.values).toHaveLength(36)
-    const read = readCurveDetails(row.details_json)
-    expect(read.fitted!.months).toEqual(monthRange('2023-01', 36))
-    expect(read.combined!.months).toEqual(monthRange('2023-01', 36))
-    expect(read.fitted!.values).toEqual(stored.fitted.values)
+    // the same fit in memory: the old stored form of its series was compactSeries() and the points, through JSON
+    const inMemory = new Map(fitAll(demandInputs(db).inputs, config.curves).curves.map((curve) => [curve.id, curve]))
+    const rows = db.prepare('SELECT * FROM curves ORDER BY concept_id').all() as CurveRow[]
+    expect(rows.map((row) => row.concept_id)).toEqual(['cobol', 'ghost', 'jquery', 'kubernetes', 'sql'])
+    for (const row of rows) {
+      const curve = inMemory.get(row.concept_id)!
+      const json = JSON.parse(row.details_json) as Record<string, unknown>
+      expect(json, row.concept_id).not.toHaveProperty('fitted')
+      expect(json).not.toHaveProperty('forecast')
+      expect(json['seriesLayout']).toMatchObject({ format: 'f64le', start: '2023-01', months: 36 })
+      const read = curveRowDetails(row)
+      const before = JSON.parse(JSON.stringify({ fitted: compactSeries(curve.details['fitted']), combined: compactSeries(curve.details['combined']), forecast: curve.details['forecast'] }))
+      expect({ fitted: read['fitted'], combined: read['combined'], forecast: read['forecast'] }, row.concept_id).toEqual(before)
+      expect(read).not.toHaveProperty('seriesLayout')
+      expect(read['tests']).toEqual(json['tests'])
+    }
+    // a fitted skill has all three; the skill that never appears has its (empty) index and no forecast
+    const kubernetes = curveRowDetails(rows[3]!)
+    expect((kubernetes['fitted'] as { values: number[] }).values).toHaveLength(36)
+    expect((kubernetes['forecast'] as { month: string }[]).map((p) => p.month)).toEqual(monthRange('2026-01', 12))
+    expect(curveRowDetails(rows[1]!)['forecast']).toEqual([])
+    const page = readCurveDetails(kubernetes)
+    expect(page.fitted!.months).toEqual(MONTHS)
+    expect(page.combined!.months).toEqual(MONTHS)
+    expect(page.forecast!.lo95).toEqual((kubernetes['forecast'] as { lo95: number }[]).map((p) => p.lo95))
+  })
+
+  it('reads rows written before the column as they are, and leaves out series whose bytes do not match their layout', () => {
+    const old = { fitted: { start: '2024-01', values: [1, 2] }, tests: [] }
+    expect(curveRowDetails({ details_json: JSON.stringify(old), series: null })).toEqual(old)
+    const layout = { format: 'f64le', start: '2024-01', months: 2, fitted: true, forecastMonths: 1 }
+    const blob = Buffer.from(Float64Array.from([1, 2, 3, Number.NaN, 5, 6, 7, 8, 9]).buffer)
+    expect(curveRowDetails({ details_json: JSON.stringify({ seriesLayout: layout, model: 'm' }), series: blob })).toEqual({
+      model: 'm',
+      fitted: { start: '2024-01', values: [1, 2] },
+      combined: { start: '2024-01', values: [3, null] },
+      forecast: [{ month: '2024-03', monthsAhead: 1, share: 5, lo80: 6, hi80: 7, lo95: 8, hi95: 9, low: 8, high: 9 }],
+    })
+    // too short, a layout that is not one, no blob: the series are left out, the rest is kept
+    for (const [seriesLayout, series] of [[layout, blob.subarray(8)], [{ ...layout, format: 'f32' }, blob], [{ ...layout, months: -1 }, blob], [layout, null]] as const) {
+      expect(curveRowDetails({ details_json: JSON.stringify({ seriesLayout, model: 'm' }), series })).toEqual({ model: 'm' })
+    }
+    expect(curveRowDetails({ details_json: '{"seriesLayout": ', series: blob })).toEqual({})
+  })
+
+  it('keeps series as JSON when they do not have the column\'s shape (months with a gap)', () => {
+    const gap = { months: ['2024-01', '2024-03'], values: [1, 2] }
+    expect(encodeSeries({ combined: gap, fitted: null, forecast: [] })).toBeNull()
+    const months = ['2024-01', '2024-02']
+    expect(encodeSeries({ combined: { months, values: [1, 2] }, fitted: null, forecast: [{ month: '2024-05', monthsAhead: 1 }] })).toBeNull()
+    expect(encodeSeries({ combined: { months, values: [1, null] }, fitted: { months, values: [3, 4] }, forecast: [] })!.layout).toEqual({ format: 'f64le', start: '2024-01', months: 2, fitted: true, forecastMonths: 0 })
   })
 
   it('leaves a series with a gap in its months, or without months, as it is', () => {

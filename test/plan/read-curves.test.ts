@@ -38,4 +38,24 @@ describe('readCurves picks out the details the plan uses', () => {
     // the big parts stay in the database
     expect(picked.get('full')!.details_json).not.toMatch(/fitted"|combined|Mann-Kendall/)
   })
+
+  it('reads the forecast bands of the binary series column (migration 10) as those of the JSON, with or without band states', () => {
+    const db = openDb(':memory:')
+    const insert = db.prepare(
+      `INSERT INTO curves (concept_id, state, annual_growth, latest_share, forecast_share12, details_json, series, fitted_at) VALUES (?, ?, 0.2, 0.01, 0.012, ?, ?, '2025-01-01T00:00:00Z')`,
+    )
+    const common = { forecastLevel: 0.9, fittedLatestShare: 0.0105, latestMonth: '2024-12' }
+    insert.run('json', 'rising', JSON.stringify({ ...common, combined: { months: ['2024-12'], values: [0.011] }, forecast: FORECAST }), null)
+    // combined over 2024-12, then share, lo80, hi80, lo95, hi95 of the three forecast months
+    const columns = [[0.011], ...(['share', 'lo80', 'hi80', 'lo95', 'hi95'] as const).map((key) => FORECAST.map((p) => p[key]))].flat()
+    const layout = { format: 'f64le', start: '2024-12', months: 1, fitted: false, forecastMonths: 3 }
+    for (const state of ['rising', 'steady']) insert.run(`binary-${state}`, state, JSON.stringify({ ...common, seriesLayout: layout }), Buffer.from(Float64Array.from(columns).buffer))
+    const expected = readSkillCurve(readCurves(db).find((r) => r.concept_id === 'json')!)
+    expect(expected.bands).toHaveLength(3)
+    for (const row of readCurves(db).filter((r) => r.concept_id !== 'json')) expect(readSkillCurve(row), row.concept_id).toEqual({ ...expected, id: row.concept_id, state: row.state })
+    // with band states, only the rising curve's series is read
+    const banded = new Map(readCurves(db, ['rising']).map((r) => [r.concept_id, r]))
+    expect(readSkillCurve(banded.get('binary-rising')!).bands).toEqual(expected.bands)
+    expect(banded.get('binary-steady')!.series).toBeNull()
+  })
 })

@@ -17,6 +17,7 @@ import { csvRows, dataTable, notice, page, stateMark, type Column, type Html } f
 import { needNotes, parseJson, readCurveDetails, scoreParts, type ScorePartView, type TestResult } from '../payloads.ts'
 import { skillCoverage, type CoverageFigure } from '../privacy.ts'
 import { describeCurve, type CurveSummary } from './skill-words.ts'
+import { curveRowDetails } from '../../curves/stored-series.ts'
 
 export interface SkillChart {
   months: string[]
@@ -99,7 +100,7 @@ export function buildSkill(deps: Deps, id: string): SkillData | null {
   const concept = conceptById(db, id)
   if (!concept) return null
   const curveRow = curveFor(db, id)
-  const details = readCurveDetails(curveRow?.details_json)
+  const details = readCurveDetails(curveRow ? curveRowDetails(curveRow) : null)
   const curve: CurveSummary | null = curveRow
     ? {
         state: curveRow.state, annualGrowth: curveRow.annual_growth, growthLow: curveRow.growth_low, growthHigh: curveRow.growth_high,
