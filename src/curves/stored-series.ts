@@ -34,6 +34,8 @@ type Point = { month: string; monthsAhead: number; share: number; lo80: number; 
 
 const BAND_KEYS = ['share', 'lo80', 'hi80', 'lo95', 'hi95'] as const
 
+const BIG_ENDIAN = new Uint8Array(Float64Array.of(1).buffer)[7] !== 0x3f
+
 function isColumn(x: unknown): x is Column {
   return typeof x === 'object' && x !== null && Array.isArray((x as Column).months) && Array.isArray((x as Column).values)
 }
@@ -85,7 +87,8 @@ export function encodeSeries(details: Record<string, unknown>): { layout: Series
   for (const x of combined.values) put(x)
   for (const key of BAND_KEYS) for (const point of points) put(point[key])
   const blob = Buffer.from(values.buffer, values.byteOffset, values.byteLength)
-  // float64 in the machine's order; every platform Node.js supports here is little-endian
+  // a Float64Array holds the machine's byte order; the column is little-endian everywhere
+  if (BIG_ENDIAN) blob.swap64()
   return { layout: { format: 'f64le', start: combined.months[0]!, months, fitted: fitted !== null, forecastMonths: points.length }, blob }
 }
 

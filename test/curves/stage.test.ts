@@ -288,7 +288,10 @@ describe('month series stored in binary (curves.series, migration 10)', () => {
     expect(encodeSeries({ combined: gap, fitted: null, forecast: [] })).toBeNull()
     const months = ['2024-01', '2024-02']
     expect(encodeSeries({ combined: { months, values: [1, 2] }, fitted: null, forecast: [{ month: '2024-05', monthsAhead: 1 }] })).toBeNull()
-    expect(encodeSeries({ combined: { months, values: [1, null] }, fitted: { months, values: [3, 4] }, forecast: [] })!.layout).toEqual({ format: 'f64le', start: '2024-01', months: 2, fitted: true, forecastMonths: 0 })
+    const encoded = encodeSeries({ combined: { months, values: [1, null] }, fitted: { months, values: [3, 4] }, forecast: [] })!
+    expect(encoded.layout).toEqual({ format: 'f64le', start: '2024-01', months: 2, fitted: true, forecastMonths: 0 })
+    // IEEE 754 binary64: 1.0 is 0x3FF0000000000000, so little-endian bytes 00 00 00 00 00 00 f0 3f
+    expect([...encoded.blob.subarray(16, 24)]).toEqual([0, 0, 0, 0, 0, 0, 0xf0, 0x3f])
   })
 
   it('leaves a series with a gap in its months, or without months, as it is', () => {
