@@ -29,11 +29,14 @@ import { ensureCorpus, generatePostings, WORK_DIR, type PlantedTrend } from './c
 import { rawInsertRate, rawTokeniseMBps, syntheticText } from './limits.ts'
 import { COUNT_MAPPED } from '../src/db/taxonomy.ts'
 import { reportBench, type Figure } from './report.ts'
+import { freshBundle } from '../bin/bundle.js'
 import { TSX_LOADER_ARGS } from '../bin/tsx-loader.js'
 
 const here = path.dirname(fileURLToPath(import.meta.url))
 const ROOT = path.join(here, '..')
-const CLI = path.join(ROOT, 'src', 'cli.ts')
+// what `tides` runs (bin/tides.js): the bundled CLI when it is up to date, else the sources under tsx
+const BUNDLE = freshBundle('cli')
+const CLI_ARGS = BUNDLE ? [BUNDLE] : [...TSX_LOADER_ARGS, path.join(ROOT, 'src', 'cli.ts')]
 const PROBE = pathToFileURL(path.join(here, 'rss-probe.mjs')).href
 
 const SIZES = (process.env['BENCH_N'] ?? '10000,100000').split(',').map((s) => Number(s.trim())).filter((n) => Number.isInteger(n) && n > 0)
@@ -56,7 +59,7 @@ interface Step {
 function tides(config: string, args: string[]): Promise<Step> {
   const t0 = performance.now()
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [...TSX_LOADER_ARGS, '--import', PROBE, CLI, '--config', config, ...args], {
+    const child = spawn(process.execPath, ['--import', PROBE, ...CLI_ARGS, '--config', config, ...args], {
       cwd: ROOT,
       env: { ...process.env, NO_COLOR: '1' },
       stdio: ['ignore', 'pipe', 'pipe'],

@@ -8,9 +8,9 @@ import crypto from 'node:crypto'
 import fs from 'node:fs'
 import { createRequire } from 'node:module'
 import path from 'node:path'
-import { fileURLToPath } from 'node:url'
 import type { Hono } from 'hono'
 import type { Env } from './deps.ts'
+import { PROJECT_ROOT } from '../util/build.ts'
 
 interface Asset {
   body: Buffer
@@ -18,7 +18,7 @@ interface Asset {
   etag: string
 }
 
-export const DASHBOARD_DIR = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../dashboard')
+export const DASHBOARD_DIR = path.join(PROJECT_ROOT, 'dashboard')
 
 const TYPES: Record<string, string> = { '.css': 'text/css; charset=utf-8', '.js': 'text/javascript; charset=utf-8', '.svg': 'image/svg+xml' }
 

@@ -6,18 +6,17 @@
  */
 import fs from 'node:fs'
 import path from 'node:path'
-import { fileURLToPath } from 'node:url'
 import { parseTaxonomyCsv } from './csv-loader.ts'
 import { Matcher } from './matcher.ts'
 import { emptyRules, parseRules, type RuleSet } from './rules.ts'
 import { parseSkosTurtle } from './skos-loader.ts'
 import type { LoadResult, Problem } from './types.ts'
 import { buildTaxonomy } from './validate.ts'
+import { PROJECT_ROOT } from '../util/build.ts'
 
-const here = path.dirname(fileURLToPath(import.meta.url))
 /** The shipped taxonomy and its rule file. */
-export const SHIPPED_TAXONOMY = path.resolve(here, '../../taxonomy/skills.csv')
-export const SHIPPED_RULES = path.resolve(here, '../../taxonomy/rules.txt')
+export const SHIPPED_TAXONOMY = path.join(PROJECT_ROOT, 'taxonomy', 'skills.csv')
+export const SHIPPED_RULES = path.join(PROJECT_ROOT, 'taxonomy', 'rules.txt')
 
 export type TaxonomyFormat = 'csv' | 'ttl'
 

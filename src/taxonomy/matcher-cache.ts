@@ -21,6 +21,7 @@ import { Matcher } from './matcher.ts'
 import { Vocabulary, type VocabularyParts } from './tokenizer.ts'
 import { FrozenTrie } from './trie.ts'
 import type { Taxonomy } from './types.ts'
+import { BUILD } from '../util/build.ts'
 
 /** The modules whose code decides the compiled data (this one included: it decides the byte layout). */
 const COMPILING_MODULES = [
@@ -42,15 +43,32 @@ const COMPILING_MODULES = [
 let codeKey: string | null | undefined
 
 /**
+ * A hash of the compiling modules' source (null when one cannot be read). The bundled CLI carries
+ * the key of the sources it was built from (util/build.ts), as it has no sources to read.
+ */
+export function matcherSourceKey(): string | null {
+  if (BUILD) return BUILD.matcherSourceKey
+  try {
+    const hash = crypto.createHash('sha256')
+    for (const module of COMPILING_MODULES) hash.update(fs.readFileSync(new URL(module, import.meta.url)))
+    return hash.digest('hex')
+  } catch {
+    return null
+  }
+}
+
+/**
  * A hash of everything besides the stored taxonomy that decides the compiled matcher: the
  * compiling modules' source, the version of the package whose stemmer and lexicon they use, the
  * Node.js and V8 versions. Null when a source file cannot be read (then nothing is cached).
  */
 export function matcherCodeKey(): string | null {
   if (codeKey !== undefined) return codeKey
+  const source = matcherSourceKey()
   try {
+    if (source === null) throw new Error('no source key')
     const hash = crypto.createHash('sha256')
-    for (const module of COMPILING_MODULES) hash.update(fs.readFileSync(new URL(module, import.meta.url)))
+    hash.update(source)
     const require = createRequire(import.meta.url)
     hash.update(String((require('natural/package.json') as { version: string }).version))
     hash.update(`${process.versions.node} ${process.versions.v8}`)

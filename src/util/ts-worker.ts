@@ -3,7 +3,9 @@
  * Worker threads that run this project's TypeScript modules.
  */
 import os from 'node:os'
+import path from 'node:path'
 import { Worker } from 'node:worker_threads'
+import { BUILD } from './build.ts'
 
 /**
  * Starts a worker thread on a TypeScript module (`module`, a file URL). Hooks given by `--import`
@@ -16,6 +18,8 @@ import { Worker } from 'node:worker_threads'
  * ```
  */
 export function startTsWorker(module: URL, workerData: unknown): Worker {
+  // the bundled CLI (dist/) has each worker entry bundled beside it under the same name (scripts/build.ts)
+  if (BUILD) return new Worker(new URL(`./${path.basename(module.pathname, '.ts')}.mjs`, import.meta.url), { workerData })
   const api = import.meta.resolve('tsx/esm/api')
   const bootstrap = `import(${JSON.stringify(api)}).then((m) => { m.register(); return import(${JSON.stringify(module.href)}) })`
   return new Worker(bootstrap, { eval: true, workerData })

@@ -1,6 +1,6 @@
 /**
  * Shared helpers of the reliability and soak tests: run the real `tides` command in a child process
- * (through tsx, as `npm run tides` does), build a small workspace with a config, a generated taxonomy
+ * (the TypeScript sources through tsx), build a small workspace with a config, a generated taxonomy
  * and postings from bench/corpus.ts, and compare databases.
  */
 import { type ChildProcess, spawn } from 'node:child_process'
