@@ -16,7 +16,8 @@ import { seasonalKendall } from '../stats/seasonal-kendall.ts'
 import { theilSen } from '../stats/theil-sen.ts'
 import type { CurvesConfig } from './config.ts'
 import { forecastSkill } from './forecast.ts'
-import type { ForecastPoint, ForecastResult } from './forecast.ts'
+import { ForecastBands } from './forecast.ts'
+import type { ForecastResult } from './forecast.ts'
 import { monthOfYear } from './months.ts'
 import { buildGrid, gridMonth, gridMonths } from './series.ts'
 import type { SkillGrid, SkillSeriesInput } from './series.ts'
@@ -128,7 +129,8 @@ export interface SkillCurve {
   latestShare: number | null
   forecastShare12: number | null
   forecastMethod: string | null
-  forecast: ForecastResult['points']
+  /** the forecast as columns; `forecast.points()` gives the points (made once, on first call) */
+  forecast: ForecastBands
   details: Record<string, unknown>
 }
 
@@ -591,9 +593,9 @@ export function describeSkill(analysis: SkillAnalysis): DescribedSkill {
   const fitted = trend ? attempt(omitted, 'fitted curve', () => column(fittedIndex(trend, grid)), null) : null
   const combined = column(grid.combined)
   const forecast = analysis.forecast
-  // bands in the shape the plan stage reads (low/high = 95%) and the dashboard reads (lo80 … hi95):
-  // forecast.ts builds each point once with both, and the curve's forecast and its details share them
-  const bands: ForecastPoint[] = forecast?.points ?? []
+  // the forecast as columns (forecast.ts ForecastBands); its points, in the shape the plan stage
+  // (low/high = 95%) and the dashboard (lo80 … hi95) read, are made only when asked for
+  const bands = forecast?.bands ?? ForecastBands.empty(grid.firstMonth + grid.length)
   const details: Record<string, unknown> = {
     model: trend
       ? `quasi-Poisson log-linear trend, common to ${grid.sources.map((s) => `${s.name} (index weight ${(100 * s.weight).toFixed(0)}%)`).join(' and ')}` +

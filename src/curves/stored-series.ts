@@ -18,6 +18,7 @@
  * column existed (`fitted` and `combined` as `{ start, values }`, `forecast` as points), so pages,
  * reports and the plan read old and new rows alike.
  */
+import { ForecastBands } from './forecast.ts'
 import { isMonth, monthIndex, monthLabel } from './months.ts'
 
 export interface SeriesLayout {
@@ -71,25 +72,33 @@ export function encodeSeries(details: Record<string, unknown>): { layout: Series
   const forecast = details['forecast'] ?? []
   if (!isColumn(combined) || combined.months.length !== combined.values.length || !consecutiveMonths(combined.months)) return null
   if (fitted !== null && !(isColumn(fitted) && fitted.months === combined.months && fitted.values.length === combined.values.length)) return null
-  if (!Array.isArray(forecast)) return null
   const months = combined.months.length
   const first = monthIndex(combined.months[0]!)
-  const points = forecast as Point[]
+  // the fit's columns (forecast.ts ForecastBands), or points as JSON has them
+  const columns = forecast instanceof ForecastBands ? forecast : null
+  if (columns ? columns.length > 0 && columns.firstMonth !== first + months : !Array.isArray(forecast)) return null
+  const points = columns ? [] : (forecast as Point[])
   for (let h = 0; h < points.length; h++) {
     const point = points[h]
     if (typeof point !== 'object' || point === null || point.month !== monthLabel(first + months + h) || point.monthsAhead !== h + 1) return null
   }
-  const size = (fitted ? months : 0) + months + BAND_KEYS.length * points.length
+  const horizon = columns ? columns.length : points.length
+  const size = (fitted ? months : 0) + months + BAND_KEYS.length * horizon
   const values = new Float64Array(size)
   let at = 0
   const put = (x: number | null | undefined) => (values[at++] = typeof x === 'number' ? x : Number.NaN)
   if (fitted) for (const x of (fitted as Column).values) put(x)
   for (const x of combined.values) put(x)
-  for (const key of BAND_KEYS) for (const point of points) put(point[key])
+  if (columns) {
+    for (const key of BAND_KEYS) {
+      values.set(columns[key], at)
+      at += horizon
+    }
+  } else for (const key of BAND_KEYS) for (const point of points) put(point[key])
   const blob = Buffer.from(values.buffer, values.byteOffset, values.byteLength)
   // a Float64Array holds the machine's byte order; the column is little-endian everywhere
   if (BIG_ENDIAN) blob.swap64()
-  return { layout: { format: 'f64le', start: combined.months[0]!, months, fitted: fitted !== null, forecastMonths: points.length }, blob }
+  return { layout: { format: 'f64le', start: combined.months[0]!, months, fitted: fitted !== null, forecastMonths: horizon }, blob }
 }
 
 function readLayout(x: unknown): SeriesLayout | null {

@@ -63,9 +63,9 @@ describe('fitSkill', () => {
     const curve = fitSkill({ id: 'k8s', months, external: { n, N } }, CONFIG)
     expect(curve.forecast).toHaveLength(12)
     expect(['regression', 'damped-holt']).toContain(curve.forecastMethod)
-    expect(curve.forecastShare12).toBe(curve.forecast[11]!.share)
-    expect(curve.forecast[0]!.month).toBe('2026-01')
-    for (const point of curve.forecast) {
+    expect(curve.forecastShare12).toBe(curve.forecast.share[11])
+    expect(curve.forecast.points()[0]!.month).toBe('2026-01')
+    for (const point of curve.forecast.points()) {
       expect(point.lo95).toBeLessThanOrEqual(point.lo80)
       expect(point.lo80).toBeLessThanOrEqual(point.share)
       expect(point.share).toBeLessThanOrEqual(point.hi80)
@@ -126,7 +126,7 @@ describe('fitSkill', () => {
     expect(rare.state).toBe('insufficient-evidence')
     expect(rare.stateReason).toMatch(/6 mentions in the window, fewer than 20/)
     expect(rare.latestShare).toBe(0)
-    expect(rare.forecast).toEqual([])
+    expect(rare.forecast.points()).toEqual([])
   })
 
   it('rejects malformed input naming the skill and field', () => {

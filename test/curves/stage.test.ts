@@ -12,6 +12,7 @@ import { compactSeries, demandInputs, runFit } from '../../src/curves/stage.ts'
 import { readCurveDetails, readMonthSeries } from '../../src/server/payloads.ts'
 import { curveRowDetails, encodeSeries } from '../../src/curves/stored-series.ts'
 import { fitAll } from '../../src/curves/fit-all.ts'
+import { ForecastBands } from '../../src/curves/forecast.ts'
 import { rebuildDemandCounts, recomputeMonthlyDemand, type CurveRow } from '../../src/db/curves.ts'
 import { referenceInputs } from './reference-inputs.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
@@ -263,6 +264,21 @@ describe('month series stored in binary (curves.series, migration 10)', () => {
     expect(page.fitted!.months).toEqual(MONTHS)
     expect(page.combined!.months).toEqual(MONTHS)
     expect(page.forecast!.lo95).toEqual((kubernetes['forecast'] as { lo95: number }[]).map((p) => p.lo95))
+  })
+
+  it('stores the fit\'s forecast columns exactly as the same forecast given as points', () => {
+    const db = openDb(':memory:')
+    loadCorpus(db)
+    const curve = fitAll(demandInputs(db).inputs, config.curves).curves.find((c) => c.id === 'kubernetes')!
+    const bands = curve.details['forecast'] as ForecastBands
+    expect(bands).toBeInstanceOf(ForecastBands)
+    expect(bands).toBe(curve.forecast)
+    expect(bands.points().map((p) => [p.share, p.lo95, p.low, p.high])).toEqual(bands.share.map((share, h) => [share, bands.lo95[h], bands.lo95[h], bands.hi95[h]]))
+    const fromColumns = encodeSeries(curve.details)!
+    const fromPoints = encodeSeries({ ...curve.details, forecast: JSON.parse(JSON.stringify(bands)) })!
+    expect(fromColumns.layout).toEqual(fromPoints.layout)
+    expect(fromColumns.blob.equals(fromPoints.blob)).toBe(true)
+    expect(bands.first(3).points().map((p) => p.monthsAhead)).toEqual([1, 2, 3])
   })
 
   it('reads rows written before the column as they are, and leaves out series whose bytes do not match their layout', () => {
