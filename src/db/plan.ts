@@ -17,7 +17,9 @@ export type CurveRecord = Omit<CurveRow, 'forecast_method' | 'change_month' | 'e
  * used; of the other curves only the fitted latest share, and the bands with their level and the
  * latest month only for curves in `bandStates`. At a million postings the details are 138 MB
  * (20,000 curves): reading them all took 1.7-2.0 s CPU with the curve model, this 0.45 s (the
- * fitted latest share of 12,000 evidenced curves still has SQLite parse their details).
+ * fitted latest share of 12,000 evidenced curves still has SQLite parse their details). The binary
+ * month series (`series`, migration 10: the forecast bands of newer rows) come only with the
+ * curves whose bands are read; plan/curve-model.ts puts them back in place (curveRowDetails).
  */
 export function readCurves(db: Db, bandStates?: readonly string[]): CurveRecord[] {
   const object = `json_valid(details_json) AND json_type(details_json) = 'object'`
