@@ -47,7 +47,7 @@ export class ForecastBands {
     readonly hi95: number[],
   ) {}
 
-  static empty(firstMonth = 0): ForecastBands {
+  static empty(firstMonth: number): ForecastBands {
     return new ForecastBands(firstMonth, [], [], [], [], [])
   }
 

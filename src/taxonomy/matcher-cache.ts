@@ -65,8 +65,8 @@ export function matcherSourceKey(): string | null {
 export function matcherCodeKey(): string | null {
   if (codeKey !== undefined) return codeKey
   const source = matcherSourceKey()
+  if (source === null) return (codeKey = null)
   try {
-    if (source === null) throw new Error('no source key')
     const hash = crypto.createHash('sha256')
     hash.update(source)
     const require = createRequire(import.meta.url)
