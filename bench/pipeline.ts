@@ -29,14 +29,12 @@ import { ensureCorpus, generatePostings, WORK_DIR, type PlantedTrend } from './c
 import { rawInsertRate, rawTokeniseMBps, syntheticText } from './limits.ts'
 import { COUNT_MAPPED } from '../src/db/taxonomy.ts'
 import { reportBench, type Figure } from './report.ts'
-import { freshBundle } from '../bin/bundle.js'
-import { TSX_LOADER_ARGS } from '../bin/tsx-loader.js'
+import { cliArgs } from '../bin/bundle.js'
 
 const here = path.dirname(fileURLToPath(import.meta.url))
 const ROOT = path.join(here, '..')
 // what `tides` runs (bin/tides.js): the bundled CLI when it is up to date, else the sources under tsx
-const BUNDLE = freshBundle('cli')
-const CLI_ARGS = BUNDLE ? [BUNDLE] : [...TSX_LOADER_ARGS, path.join(ROOT, 'src', 'cli.ts')]
+const CLI_ARGS = cliArgs()
 const PROBE = pathToFileURL(path.join(here, 'rss-probe.mjs')).href
 
 const SIZES = (process.env['BENCH_N'] ?? '10000,100000').split(',').map((s) => Number(s.trim())).filter((n) => Number.isInteger(n) && n > 0)

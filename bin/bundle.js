@@ -4,6 +4,7 @@
 import fs from 'node:fs'
 import path from 'node:path'
 import { fileURLToPath } from 'node:url'
+import { TSX_LOADER_ARGS } from './tsx-loader.js'
 
 export const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..')
 
@@ -25,4 +26,10 @@ export function freshBundle(name = 'cli', root = ROOT) {
   } catch {
     return null
   }
+}
+
+/** The node arguments that run the `tides` CLI as bin/tides.js does: the fresh bundle, else the sources under tsx. */
+export function cliArgs() {
+  const bundle = freshBundle('cli')
+  return bundle ? [bundle] : [...TSX_LOADER_ARGS, path.join(ROOT, 'src', 'cli.ts')]
 }

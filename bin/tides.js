@@ -7,16 +7,9 @@
 // process waits for it to finish.
 import { spawn } from 'node:child_process'
 import os from 'node:os'
-import path from 'node:path'
-import { fileURLToPath } from 'node:url'
-import { freshBundle } from './bundle.js'
-import { TSX_LOADER_ARGS } from './tsx-loader.js'
+import { cliArgs } from './bundle.js'
 
-// the bundled CLI when it is up to date (bin/bundle.js), else the sources under tsx's loader
-const bundle = freshBundle('cli')
-const cli = path.join(path.dirname(fileURLToPath(import.meta.url)), '..', 'src', 'cli.ts')
-const args = bundle ? [bundle] : [...TSX_LOADER_ARGS, cli]
-const child = spawn(process.execPath, [...args, ...process.argv.slice(2)], { stdio: 'inherit' })
+const child = spawn(process.execPath, [...cliArgs(), ...process.argv.slice(2)], { stdio: 'inherit' })
 process.on('SIGINT', () => {})
 for (const signal of ['SIGTERM', 'SIGHUP']) process.on(signal, () => child.kill(signal))
 child.on('error', (err) => {

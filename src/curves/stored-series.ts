@@ -18,7 +18,7 @@
  * column existed (`fitted` and `combined` as `{ start, values }`, `forecast` as points), so pages,
  * reports and the plan read old and new rows alike.
  */
-import { ForecastBands } from './forecast.ts'
+import { ForecastBands, type ForecastPoint } from './forecast.ts'
 import { isMonth, monthIndex, monthLabel } from './months.ts'
 
 export interface SeriesLayout {
@@ -31,7 +31,6 @@ export interface SeriesLayout {
 }
 
 type Column = { months: readonly string[]; values: readonly (number | null)[] }
-type Point = { month: string; monthsAhead: number; share: number; lo80: number; hi80: number; lo95: number; hi95: number }
 
 const BAND_KEYS = ['share', 'lo80', 'hi80', 'lo95', 'hi95'] as const
 
@@ -77,7 +76,7 @@ export function encodeSeries(details: Record<string, unknown>): { layout: Series
   // the fit's columns (forecast.ts ForecastBands), or points as JSON has them
   const columns = forecast instanceof ForecastBands ? forecast : null
   if (columns ? columns.length > 0 && columns.firstMonth !== first + months : !Array.isArray(forecast)) return null
-  const points = columns ? [] : (forecast as Point[])
+  const points = columns ? [] : (forecast as ForecastPoint[])
   for (let h = 0; h < points.length; h++) {
     const point = points[h]
     if (typeof point !== 'object' || point === null || point.month !== monthLabel(first + months + h) || point.monthsAhead !== h + 1) return null
