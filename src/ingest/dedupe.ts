@@ -64,6 +64,9 @@ export function analyseDocument(doc: Pick<DocumentInput, 'title' | 'body' | 'kin
   return { textHash: hash, shingles, signature, keys: bandKeys(signature, params.bands) }
 }
 
+/** A band key as stored: band * BAND_FACTOR + key (DocumentStore.storedKeys). */
+const BAND_FACTOR = 0x1_0000_0000
+
 /** Postings whose signature and shingles stay in memory (about 1 KB each). */
 const CACHE_SIZE = 30_000
 
@@ -144,6 +147,12 @@ export class Deduper {
   private readonly storedSketches: SketchStore
   /** false until the high-water mark is in the settings table (written with the first batch) */
   private throughStored: boolean
+  /** documents from this id on were stored by this deduper: their sketches are in memory */
+  private readonly firstOwnId: number
+  /** the open batch's stored band rows (stored key, as DocumentStore.storedKeys makes it → ids), read by prefetch() */
+  private readonly batchBands = new Map<number, number[]>()
+  /** the open batch's older candidates' stored sketches, read by prefetch() */
+  private readonly batchSketches = new Map<number, Buffer | undefined>()
 
   constructor(
     private readonly store: DocumentStore,
@@ -167,6 +176,7 @@ export class Deduper {
     const t = bandsThrough(store.db)
     this.through = t.through
     this.throughStored = t.stored
+    this.firstOwnId = lastDocumentId(store.db) + 1
     this.catchUp()
   }
 
@@ -190,10 +200,55 @@ export class Deduper {
     return this.pending.size > 0
   }
 
-  /** Call at the start of each batch transaction. */
-  beginBatch(): void {
+  /**
+   * Call at the start of each batch transaction, with the analyses of the batch's documents (null
+   * for one that will not be decided) so that what is stored for them is read at once (prefetch).
+   */
+  beginBatch(analyses: readonly (Analysis | null)[] = []): void {
     this.saved = { mark: this.pending.size, through: this.through, accounted: this.accounted, throughStored: this.throughStored }
     this.wrote = false
+    this.prefetch(analyses)
+  }
+
+  /**
+   * Reads, for a whole batch at once, the stored band rows of its postings' keys in key order, then
+   * the stored sketches of the older candidates in id order, instead of one read per key and per
+   * candidate in arrival order as each posting is decided. The band tables change only in
+   * flushBands, after the batch's decisions, so these are the rows the decisions would have read.
+   * Consecutive reads of sorted keys share the B-tree's pages: on a copy of the 1M benchmark
+   * database, 97,000 band keys read in 0.20 s in key order against 0.68 s in arrival order (one
+   * transaction), and the import of 10,000 new postings took 3.9 s instead of 4.7–4.9 s.
+   */
+  private prefetch(analyses: readonly (Analysis | null)[]): void {
+    this.batchBands.clear()
+    this.batchSketches.clear()
+    let n = 0
+    let postings = 0
+    for (const a of analyses) {
+      if (!a?.keys || !a.signature) continue
+      n += a.keys.length
+      postings++
+    }
+    if (n === 0) return
+    // the filter that the batch's decisions would build is built before its reads
+    const f = this.filterWhenDue(postings)
+    const wanted = new Float64Array(n)
+    n = 0
+    for (const a of analyses) {
+      if (!a?.keys || !a.signature) continue
+      for (let band = 0; band < a.keys.length; band++) if (!f || f.hasBand(band, a.keys[band]!)) wanted[n++] = band * BAND_FACTOR + a.keys[band]!
+    }
+    const keys = wanted.subarray(0, n).sort()
+    const older = new Set<number>()
+    for (let i = 0; i < keys.length; i++) {
+      const stored = keys[i]!
+      if (i > 0 && stored === keys[i - 1]) continue
+      const ids = this.store.bandDocuments(Math.floor(stored / BAND_FACTOR), stored % BAND_FACTOR)
+      this.batchBands.set(stored, ids)
+      for (const id of ids) if (id < this.firstOwnId) older.add(id)
+    }
+    // postings stored by this deduper have their sketches in memory (lookup)
+    for (const id of [...older].sort((x, y) => x - y)) this.batchSketches.set(id, this.storedSketches.sketch(id))
   }
 
   analyse(doc: Pick<DocumentInput, 'title' | 'body' | 'kind'>): Analysis {
@@ -204,8 +259,8 @@ export class Deduper {
   decide(a: Analysis, kind: DocumentInput['kind']): Decision {
     const none: Decision = { duplicateOf: null, similarity: null, how: null }
     if (kind !== 'posting') return none
-    if (!this.filter && ++this.lookups >= this.buildAfter) this.rebuildFilter(200_000 * (this.params.bands + 1))
-    const f = this.filter
+    if (!this.filter) this.lookups++
+    const f = this.filterWhenDue(0)
     const same = !f || f.hasText(a.textHash) ? this.store.sameText(a.textHash) : undefined
     if (same) return { duplicateOf: same.duplicate_of ?? same.id, similarity: 1, how: 'exact' }
     const keys = a.keys
@@ -300,12 +355,16 @@ export class Deduper {
 
   /** Call after the batch transaction committed. */
   committed(): void {
+    this.batchBands.clear()
+    this.batchSketches.clear()
     if (this.wrote) this.pending.clear()
     this.wrote = false
   }
 
   /** Forgets what the rolled-back batch added (its ids will be reused). */
   forget(): void {
+    this.batchBands.clear()
+    this.batchSketches.clear()
     this.known.fill(undefined)
     this.knownIds.fill(-1)
     this.sketchIds?.fill(-1)
@@ -326,7 +385,7 @@ export class Deduper {
     for (let band = 0; band < keys.length; band++) {
       const key = keys[band]!
       if (f && !f.hasBand(band, key)) continue
-      for (const id of this.store.bandDocuments(band, key)) all.add(id)
+      for (const id of this.batchBands.get(band * BAND_FACTOR + key) ?? this.store.bandDocuments(band, key)) all.add(id)
       if (this.pending.size > 0) this.pending.forEach(band, key, (id) => all.add(id))
     }
     return all
@@ -346,7 +405,7 @@ export class Deduper {
       if (this.sketches && this.sketchIds![s] === id) {
         if (this.sketchDismisses(mine, this.sketches, s * k)) return null
       } else {
-        const stored = this.storedSketches.sketch(id)
+        const stored = this.batchSketches.has(id) ? this.batchSketches.get(id) : this.storedSketches.sketch(id)
         if (stored && stored.length === k && this.sketchDismisses(mine, stored, 0)) return null
       }
     }
@@ -367,6 +426,12 @@ export class Deduper {
     if (k.shingles) return toSortedSet(k.shingles)
     const row = this.store.text(id)!
     return shingleSet(normalisedTextHash(dedupeText(row)).tokens, this.params.shingleSize)
+  }
+
+  /** The band filter, built first when `coming` more lookups reach the count that makes it pay. */
+  private filterWhenDue(coming: number): BandFilter | null {
+    if (!this.filter && this.lookups + coming >= this.buildAfter) this.rebuildFilter(200_000 * (this.params.bands + 1))
+    return this.filter
   }
 
   private rebuildFilter(extra: number): void {

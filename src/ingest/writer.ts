@@ -136,16 +136,20 @@ export class BatchWriter {
     let firstId: number | null = null
     let lastId: number | null = null
     const tx = this.db.transaction(() => {
-      this.deduper.beginBatch()
-      for (const { doc, analysis } of batch) {
+      // documents stored before this batch are skipped unanalysed; the others' analyses come first
+      // (unless the parse worker made them), so that the deduper reads what is stored for the
+      // whole batch in key order (dedupe.ts prefetch)
+      const analyses = batch.map(({ doc, analysis }) => (this.store.existing(this.sourceId, doc.externalId) !== undefined ? null : (analysis ?? this.deduper.analyse(doc))))
+      this.deduper.beginBatch(analyses)
+      for (const [i, { doc }] of batch.entries()) {
         delta.read++
-        if (this.store.existing(this.sourceId, doc.externalId) !== undefined) {
+        const a = analyses[i]
+        if (!a || this.store.existing(this.sourceId, doc.externalId) !== undefined) {
           // same source and external id: stored by an earlier run (or earlier in this one)
           delta.alreadyStored++
           delta.duplicate++
           continue
         }
-        const a = analysis ?? this.deduper.analyse(doc)
         const d = this.deduper.decide(a, doc.kind)
         const id = this.store.insertDocument({
           source_id: this.sourceId,

@@ -2,7 +2,8 @@ import { describe, expect, it, vi } from 'vitest'
 import { parseConfig } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
 import { DocumentStore, upsertSource } from '../../src/db/documents.ts'
-import type { DedupeLimits } from '../../src/ingest/dedupe.ts'
+import { SketchStore } from '../../src/db/sketches.ts'
+import { analyseDocument, type DedupeLimits } from '../../src/ingest/dedupe.ts'
 import type { DocumentInput } from '../../src/ingest/document.ts'
 import { BatchWriter } from '../../src/ingest/writer.ts'
 import { postingsWithReposts, setJaccard, shingles, stringJaccard } from './corpus.ts'
@@ -305,8 +306,58 @@ describe('the band filter', () => {
     expect(plain.rows.at(-2)).toMatchObject({ duplicate_of: 11, dup_similarity: 1 })
     expect(plain.rows.at(-1)!.dup_similarity).toBe(1)
     expect(plain.rows.filter((r) => r.duplicate_of !== null && r.dup_similarity! < 1).length).toBeGreaterThan(20)
-    // without the filter every band of every posting but the exact reposts is looked up
-    expect(plain.queries).toBe(250 * 10)
+    // without the filter every distinct band key of each batch (100 postings) is looked up once,
+    // the exact reposts' too (their keys are read with their batch's, before they are decided)
+    const later = [...lines.slice(250), lines[10]!, lines[400]!]
+    const params = parseConfig({}).ingest.dedupe
+    let distinct = 0
+    for (let from = 0; from < later.length; from += 100) {
+      const keys = new Set<string>()
+      for (const l of later.slice(from, from + 100)) analyseDocument({ kind: 'posting', title: l.title, body: l.description }, params).keys!.forEach((k, band) => keys.add(`${band}:${k}`))
+      distinct += keys.size
+    }
+    expect(distinct).toBeLessThan(252 * 10)
+    expect(plain.queries).toBe(distinct)
     expect(filtered.queries).toBeLessThan(plain.queries / 4)
+  })
+})
+
+describe('a batch reads what is stored for it at once', () => {
+  // a second import whose reposts' originals were stored by an earlier run: its candidates' band
+  // rows and sketches come from the tables
+  const { lines } = postingsWithReposts(23, 700, 0.5, [1, 2, 3, 10, 12, 14])
+  const run = (batchSize: number) => {
+    const db = openDb(':memory:')
+    const first = writerFor(db, 's', { batchSize })
+    for (const l of lines.slice(0, 350)) first.add(posting(l.identifier, l.description, l.title), { file: 's' })
+    first.finish()
+    const bands = vi.spyOn(DocumentStore.prototype, 'bandDocuments')
+    const sketches = vi.spyOn(SketchStore.prototype, 'sketch')
+    const next = writerFor(db, 's', { batchSize })
+    for (const l of lines.slice(350)) next.add(posting(l.identifier, l.description, l.title), { file: 's' })
+    next.finish()
+    const result = { rows: rows(db), bandCalls: bands.mock.calls.map((c) => c[0] * 2 ** 32 + c[1]), sketchCalls: sketches.mock.calls.map((c) => c[0]) }
+    bands.mockRestore()
+    sketches.mockRestore()
+    return result
+  }
+
+  it('decides as reading them posting by posting does, reading each key and sketch once a batch, in order', () => {
+    // one posting a batch reads what each decision reads, as before the batch reads
+    const alone = run(1)
+    const batched = run(1000)
+    expect(batched.rows).toEqual(alone.rows)
+    const later = alone.rows.slice(350)
+    expect(later.filter((r) => r.duplicate_of !== null && r.duplicate_of <= 350 && r.dup_similarity! < 1).length).toBeGreaterThan(10)
+    // the 350 later postings go in one batch: each stored key and each older candidate's sketch is
+    // read once, in ascending order, and no decision reads another
+    const ascending = (xs: number[]) => xs.every((x, i) => i === 0 || xs[i - 1]! < x)
+    expect(ascending(batched.bandCalls)).toBe(true)
+    expect(ascending(batched.sketchCalls)).toBe(true)
+    expect(batched.sketchCalls.every((id) => id <= 350)).toBe(true)
+    expect(batched.sketchCalls.length).toBeGreaterThan(30)
+    // posting by posting, keys shared by several later postings and candidates of several are read again
+    expect(batched.bandCalls.length).toBeLessThan(alone.bandCalls.length)
+    expect(batched.sketchCalls.length).toBeLessThan(alone.sketchCalls.length)
   })
 })
