@@ -8,7 +8,8 @@ import { parseConfig } from '../../src/config.ts'
 import { openDb, type Db } from '../../src/db/connection.ts'
 import { emit } from '../../src/events/outbox.ts'
 import { ripple } from '../../src/pipeline.ts'
-import { compactSeries, demandInputs, runFit } from '../../src/curves/stage.ts'
+import { compactSeries, curveRow, demandInputs, runFit } from '../../src/curves/stage.ts'
+import type { SkillCurve } from '../../src/curves/fit-skill.ts'
 import { readCurveDetails, readMonthSeries } from '../../src/server/payloads.ts'
 import { curveRowDetails, encodeSeries } from '../../src/curves/stored-series.ts'
 import { fitAll } from '../../src/curves/fit-all.ts'
@@ -264,6 +265,29 @@ describe('month series stored in binary (curves.series, migration 10)', () => {
     expect(page.fitted!.months).toEqual(MONTHS)
     expect(page.combined!.months).toEqual(MONTHS)
     expect(page.forecast!.lo95).toEqual((kubernetes['forecast'] as { lo95: number }[]).map((p) => p.lo95))
+  })
+
+  it('writes the details as the one object of the details and the curve\'s figures, key for key, with the series in the column or compacted in the JSON', () => {
+    const db = openDb(':memory:')
+    loadCorpus(db)
+    const curves = fitAll(demandInputs(db).inputs, config.curves).curves
+    // the earlier form: one object, the details' keys first, then the added ones
+    const merged = (curve: SkillCurve, series: Record<string, unknown>) =>
+      JSON.stringify({ ...curve.details, ...series, stateReason: curve.stateReason, beta: curve.beta, betaInterval: curve.betaInterval, mannKendall: curve.mannKendall, senSlope: curve.senSlope, latestMonth: curve.latestMonth })
+    for (const curve of curves) {
+      const row = curveRow(curve, NOW.toISOString())
+      const layout = encodeSeries(curve.details)!.layout
+      expect(row.details_json, curve.id).toBe(merged(curve, { fitted: undefined, combined: undefined, forecast: undefined, seriesLayout: layout }))
+      // months that are not consecutive keep their series in the JSON
+      const combined = curve.details['combined'] as { months: string[]; values: number[] }
+      const gappy = { ...curve, details: { ...curve.details, fitted: null, combined: { months: combined.months.map((m, i) => (i === 0 ? '2019-12' : m)), values: combined.values } } }
+      const kept = curveRow(gappy, NOW.toISOString())
+      expect(kept.series).toBeNull()
+      expect(kept.details_json).toBe(merged(gappy, { fitted: null, combined: compactSeries(gappy.details.combined) }))
+    }
+    // details without keys of their own: the added figures alone
+    const bare = { ...curves[0]!, details: {} }
+    expect(JSON.parse(curveRow(bare, NOW.toISOString()).details_json)).toEqual(JSON.parse(merged(bare, {})))
   })
 
   it('stores the fit\'s forecast columns exactly as the same forecast given as points', () => {
