@@ -10,7 +10,10 @@
  * (raw regex tokenisation MB/s for map, raw SQLite insert rate for ingest and for the mention rows
  * map writes). Database size per 100,000 postings, and the mention storage in it. Across sizes: the
  * time ratio (linear means about 10 for 10x the data) and the fit stage's ratio (it works on the
- * monthly demand aggregates, whose size does not depend on N: about 1).
+ * monthly demand aggregates, whose size does not depend on N; but more of the 20,000 skills have
+ * enough evidence to be tested at a larger N, and a tested skill costs about three times an untested
+ * one), with the fit's analysis of the same skills (those tested at the smallest size) in both
+ * databases, which separates what N does from what the number of tested skills does.
  *
  * Sizes: env BENCH_N, comma-separated (default "10000,100000", a 10x step that finishes in a few
  * minutes). The issue's sizes, N = 100,000 and 1,000,000, are opt-in because the 1M corpus is 2.3 GB
@@ -28,6 +31,10 @@ import Database from 'better-sqlite3'
 import { ensureCorpus, generatePostings, WORK_DIR, type PlantedTrend } from './corpus.ts'
 import { rawInsertRate, rawTokeniseMBps, syntheticText } from './limits.ts'
 import { COUNT_MAPPED } from '../src/db/taxonomy.ts'
+import type { Db } from '../src/db/connection.ts'
+import { DEFAULT_CURVES_CONFIG } from '../src/curves/config.ts'
+import { fitAll } from '../src/curves/fit-all.ts'
+import { demandInputs } from '../src/curves/stage.ts'
 import { reportBench, type Figure } from './report.ts'
 import { cliArgs } from '../bin/bundle.js'
 
@@ -103,6 +110,10 @@ interface SizeResult {
   endToEnd: number
   peakMiB: number
   incremental?: { importStep: Step; runStep: Step; seconds: number; mapped: number; stages: Map<string, Outcome> }
+  /** the fit's analysis of a fixed set of skills in this database (see sameSkillsFit) */
+  sameSkills?: { skills: number; ms: number }
+  /** the skills this size's fit tested (a p-value in the cross-skill family) */
+  tested?: string[]
   planted?: { checked: number; agree: number }
   curves: number
 }
@@ -119,6 +130,33 @@ function sumStage(outcomes: Outcome[]): Map<string, Outcome> {
     }
   }
   return byStage
+}
+
+/**
+ * The fit's analysis (fitAll: every skill's curve and the cross-skill adjustment, in this process,
+ * without the stage's read and write) of the given skills, or of all with `ids` null, in this
+ * database: the median of three runs, and the ids of the skills it tested. Run at two sizes on the
+ * skills the smaller one tested, it shows whether the fit's cost per skill grows with N; the
+ * stage's own ratio also grows with the number of skills that have enough evidence to test.
+ */
+function sameSkillsFit(db: string, ids: readonly string[] | null): { skills: number; ms: number; tested: string[] } {
+  const d = new Database(db, { readonly: true })
+  try {
+    const all = demandInputs(d as unknown as Db).inputs
+    const wanted = ids ? new Set(ids) : null
+    const inputs = wanted ? all.filter((input) => wanted.has(input.id)) : all
+    const times: number[] = []
+    let tested: string[] = []
+    for (let run = 0; run < 3; run++) {
+      const started = performance.now()
+      const { curves } = fitAll(inputs, DEFAULT_CURVES_CONFIG)
+      times.push(performance.now() - started)
+      tested = curves.filter((curve) => curve.pValue !== null && Number.isFinite(curve.pValue)).map((curve) => curve.id)
+    }
+    return { skills: inputs.length, ms: times.sort((a, b) => a - b)[1]!, tested }
+  } finally {
+    d.close()
+  }
 }
 
 /** Direction of each planted trend against the fitted curve's state and growth (when fit has run). */
@@ -175,7 +213,8 @@ function mentionStorage(db: string): { dbMiB: number; mentionsMiB: number; menti
   }
 }
 
-async function runSize(n: number): Promise<SizeResult> {
+/** One size's runs; `sameSkillIds`: the skills the smallest size's fit tested (null at that size). */
+async function runSize(n: number, sameSkillIds: readonly string[] | null): Promise<SizeResult> {
   log(`\npipeline N=${n.toLocaleString('en-GB')}, ${MONTHS} months`)
   const corpus = ensureCorpus({ n, months: MONTHS, log })
   const dir = path.join(WORK_DIR, `pipeline-${n}`)
@@ -215,6 +254,19 @@ async function runSize(n: number): Promise<SizeResult> {
     peakMiB: Math.max(taxonomy.peakMiB, ingest.peakMiB, runAll.peakMiB),
     planted: plantedAgreement(db, corpus.trends),
     curves: count(db, 'SELECT COUNT(*) AS n FROM curves'),
+  }
+  // before the increment changes the data: the fit's analysis of the skills the smallest size
+  // tested (at the smallest size, found first by fitting all)
+  if (SIZES.length >= 2) {
+    if (sameSkillIds === null) {
+      const all = sameSkillsFit(db, null)
+      result.tested = all.tested
+      const same = sameSkillsFit(db, all.tested)
+      result.sameSkills = { skills: same.skills, ms: same.ms }
+    } else {
+      const same = sameSkillsFit(db, sameSkillIds)
+      result.sameSkills = { skills: same.skills, ms: same.ms }
+    }
   }
 
   if (INCREMENT > 0) {
@@ -291,7 +343,7 @@ async function main(): Promise<void> {
   const limits = { tokenise, insert }
   const loadBefore = os.loadavg()[0]!
   const results: SizeResult[] = []
-  for (const n of SIZES) results.push(await runSize(n))
+  for (const n of SIZES) results.push(await runSize(n, results[0]?.tested ?? null))
   const figures: Figure[] = [
     { figure: 'raw regex tokenisation (limit)', value: tokenise, unit: 'MB/s' },
     { figure: 'raw SQLite insert (limit)', value: insert, unit: 'rows/s' },
@@ -310,6 +362,14 @@ async function main(): Promise<void> {
     if (fitSmall && fitLarge && fitSmall.ms > 0) {
       const fr = fitLarge.ms / fitSmall.ms
       figures.push({ figure: `fit time ratio N=${large.n}/N=${small.n}`, value: fr, unit: 'x', goal: '<= 1.5 (independent of N)', met: fr <= 1.5 })
+      const testedSmall = fitSmall.result?.counts['tested']
+      const testedLarge = fitLarge.result?.counts['tested']
+      if (testedSmall && testedLarge) figures.push({ figure: `fit: skills tested N=${large.n} / N=${small.n}`, value: testedLarge / testedSmall, unit: `x (${testedLarge} / ${testedSmall})` })
+    }
+    if (small.sameSkills && large.sameSkills && small.sameSkills.ms > 0) {
+      // the same skills' analysis in both databases: what N itself does to the fit
+      const sr = large.sameSkills.ms / small.sameSkills.ms
+      figures.push({ figure: `fit analysis of the same ${small.sameSkills.skills} skills (those tested at N=${small.n}): N=${large.n}/N=${small.n}`, value: sr, unit: `x (${(large.sameSkills.ms / 1000).toFixed(2)} / ${(small.sameSkills.ms / 1000).toFixed(2)} s)`, goal: '<= 1.5 (independent of N)', met: sr <= 1.5 })
     }
     const mapSmall = small.stages.get('map')
     const mapLarge = large.stages.get('map')
