@@ -154,7 +154,7 @@ export async function importDocuments(db: Db, config: Config, kind: Kind, file: 
   // large JSON Lines files: checked on both threads, then read and analysed on the worker while
   // the main thread stores
   const parallel = lines && config.ingest.parseWorkerMinBytes !== null && stat.size >= config.ingest.parseWorkerMinBytes
-  const parser = parallel ? await LineParser.start({ dedupe: config.ingest.dedupe, maxTextChars: config.ingest.maxTextChars }) : null
+  const parser = parallel ? await LineParser.start({ dedupe: config.ingest.dedupe, maxTextChars: config.ingest.maxTextChars }, config.ingest.batchSize) : null
   try {
     return await importChecked(db, config, kind, file, opts, parser, stat.size, lines)
   } finally {

@@ -168,7 +168,7 @@ export async function runJsonLines(env: SourceEnv, source: SourceConfig, row: So
   const minBytes = env.config.ingest.parseWorkerMinBytes
   const parallel = minBytes !== null && size - start.offset >= minBytes
   if (parallel) {
-    const parser = await LineParser.start({ dedupe: env.config.ingest.dedupe, maxTextChars: env.config.ingest.maxTextChars })
+    const parser = await LineParser.start({ dedupe: env.config.ingest.dedupe, maxTextChars: env.config.ingest.maxTextChars }, env.config.ingest.batchSize)
     try {
       await writeFileInParallel(parser, file, start, kind, writer, where, cursorOf, progress)
     } finally {
