@@ -141,10 +141,12 @@ export class BatchWriter {
       // whole batch in key order (dedupe.ts prefetch)
       const analyses = batch.map(({ doc, analysis }) => (this.store.existing(this.sourceId, doc.externalId) !== undefined ? null : (analysis ?? this.deduper.analyse(doc))))
       this.deduper.beginBatch(analyses)
+      // external ids this batch has stored (the transaction holds the write lock: nobody else stores)
+      const storedHere = new Set<string>()
       for (const [i, { doc }] of batch.entries()) {
         delta.read++
         const a = analyses[i]
-        if (!a || this.store.existing(this.sourceId, doc.externalId) !== undefined) {
+        if (!a || storedHere.has(doc.externalId)) {
           // same source and external id: stored by an earlier run (or earlier in this one)
           delta.alreadyStored++
           delta.duplicate++
@@ -173,6 +175,7 @@ export class BatchWriter {
           signature: a.signature && d.how !== 'exact' ? signatureToBytes(a.signature) : null,
         })!
         this.deduper.stored(id, a, d)
+        storedHere.add(doc.externalId)
         stored.push(id)
         firstId ??= id
         lastId = id
