@@ -71,6 +71,12 @@ export function setSourceValidators(db: Db, id: string, etag: string | null, las
 // ------------------------------------------------------------------------------------------------
 // documents
 
+/** A band key's band is its high part as stored: band * 2^32 + key (exact in a double, below 2^53). */
+export const BAND_KEY_FACTOR = 0x1_0000_0000
+
+/** A band key as `document_bands` stores it. */
+export const storedBandKey = (band: number, key: number): number => band * BAND_KEY_FACTOR + key
+
 /**
  * Tunes the connection for a large ingest: a page cache of at least `kib` KiB (SQLite's default is
  * 2 MiB; the randomly keyed text-hash and band indexes otherwise miss it on every row once they
@@ -181,9 +187,9 @@ export class DocumentStore {
     return id
   }
 
-  /** Band keys as stored: band * 2^32 + key (exact in a double, below 2^53). */
+  /** Band keys as stored (storedBandKey). */
   static storedKeys(keys: readonly number[]): number[] {
-    return keys.map((k, band) => band * 0x1_0000_0000 + k)
+    return keys.map((k, band) => storedBandKey(band, k))
   }
 
   insertBands(documentId: number, keys: readonly number[]): void {
@@ -199,7 +205,7 @@ export class DocumentStore {
    * into a temporary b-tree on every call.
    */
   bandDocuments(band: number, key: number): number[] {
-    const stored = band * 0x1_0000_0000 + key
+    const stored = storedBandKey(band, key)
     return this.pointStmt.all(stored, stored) as number[]
   }
 

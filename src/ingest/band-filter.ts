@@ -16,7 +16,7 @@
  * changes exactly when another connection commits); otherwise it is rebuilt.
  */
 import type { Db } from '../db/connection.ts'
-import { bandKeyCount, iterateBandKeys, iteratePostingHashes, postingCount } from '../db/documents.ts'
+import { BAND_KEY_FACTOR, bandKeyCount, iterateBandKeys, iteratePostingHashes, postingCount } from '../db/documents.ts'
 import { fmix32 } from './minhash.ts'
 
 const BITS_PER_KEY = 16
@@ -76,8 +76,8 @@ export class BandFilter {
 
   /** Adds a stored key (band * 2^32 + h). */
   addStored(key: number): void {
-    const band = Math.floor(key / 0x1_0000_0000)
-    this.addBand(band, key - band * 0x1_0000_0000)
+    const band = Math.floor(key / BAND_KEY_FACTOR)
+    this.addBand(band, key - band * BAND_KEY_FACTOR)
   }
 
   /** Adds a normalised-text hash (hex); its first 32 bits are the key. */

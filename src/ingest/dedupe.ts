@@ -12,7 +12,7 @@
  * reaches the same decisions as one uninterrupted run.
  */
 import { RECENT_BANDS_FRACTION, bandsThrough, documentsBetween, lastDocumentId, setBandsThrough, signaturesAfter, writeBandRun } from '../db/bands.ts'
-import { type DocumentStore, maxDocumentId } from '../db/documents.ts'
+import { BAND_KEY_FACTOR, type DocumentStore, maxDocumentId, storedBandKey } from '../db/documents.ts'
 import { SketchStore } from '../db/sketches.ts'
 import { type BandFilter, buildBandFilter, cachedBandFilter } from './band-filter.ts'
 import type { DocumentInput } from './document.ts'
@@ -63,9 +63,6 @@ export function analyseDocument(doc: Pick<DocumentInput, 'title' | 'body' | 'kin
   const signature = minhashSignature(shingles, params.numHashes)
   return { textHash: hash, shingles, signature, keys: bandKeys(signature, params.bands) }
 }
-
-/** A band key as stored: band * BAND_FACTOR + key (DocumentStore.storedKeys). */
-const BAND_FACTOR = 0x1_0000_0000
 
 /** Postings whose signature and shingles stay in memory (about 1 KB each). */
 const CACHE_SIZE = 30_000
@@ -149,7 +146,7 @@ export class Deduper {
   private throughStored: boolean
   /** documents from this id on were stored by this deduper: their sketches are in memory */
   private readonly firstOwnId: number
-  /** the open batch's stored band rows (stored key, as DocumentStore.storedKeys makes it → ids), read by prefetch() */
+  /** the open batch's stored band rows (storedBandKey → ids), read by prefetch() */
   private readonly batchBands = new Map<number, number[]>()
   /** the open batch's older candidates' stored sketches, read by prefetch() */
   private readonly batchSketches = new Map<number, Buffer | undefined>()
@@ -236,14 +233,14 @@ export class Deduper {
     n = 0
     for (const a of analyses) {
       if (!a?.keys || !a.signature) continue
-      for (let band = 0; band < a.keys.length; band++) if (!f || f.hasBand(band, a.keys[band]!)) wanted[n++] = band * BAND_FACTOR + a.keys[band]!
+      for (let band = 0; band < a.keys.length; band++) if (!f || f.hasBand(band, a.keys[band]!)) wanted[n++] = storedBandKey(band, a.keys[band]!)
     }
     const keys = wanted.subarray(0, n).sort()
     const older = new Set<number>()
     for (let i = 0; i < keys.length; i++) {
       const stored = keys[i]!
       if (i > 0 && stored === keys[i - 1]) continue
-      const ids = this.store.bandDocuments(Math.floor(stored / BAND_FACTOR), stored % BAND_FACTOR)
+      const ids = this.store.bandDocuments(Math.floor(stored / BAND_KEY_FACTOR), stored % BAND_KEY_FACTOR)
       this.batchBands.set(stored, ids)
       for (const id of ids) if (id < this.firstOwnId) older.add(id)
     }
@@ -385,7 +382,7 @@ export class Deduper {
     for (let band = 0; band < keys.length; band++) {
       const key = keys[band]!
       if (f && !f.hasBand(band, key)) continue
-      for (const id of this.batchBands.get(band * BAND_FACTOR + key) ?? this.store.bandDocuments(band, key)) all.add(id)
+      for (const id of this.batchBands.get(storedBandKey(band, key)) ?? this.store.bandDocuments(band, key)) all.add(id)
       if (this.pending.size > 0) this.pending.forEach(band, key, (id) => all.add(id))
     }
     return all

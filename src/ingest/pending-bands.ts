@@ -6,6 +6,7 @@
  * vol. 3, section 6.4, algorithm L) keeps the per-key cost to a few integer operations with no
  * allocation, which a Map of boxed 64-bit keys did not.
  */
+import { storedBandKey } from '../db/documents.ts'
 import { fmix32 } from './minhash.ts'
 
 export class PendingBands {
@@ -59,7 +60,7 @@ export class PendingBands {
     const rows: (readonly [number, number])[] = new Array(this.n)
     for (let r = 0; r < this.n; r++) {
       const i = order[r]!
-      rows[r] = [this.band[i]! * 0x1_0000_0000 + this.key[i]!, this.doc[i]!]
+      rows[r] = [storedBandKey(this.band[i]!, this.key[i]!), this.doc[i]!]
     }
     return rows
   }
@@ -76,7 +77,7 @@ export class PendingBands {
     const docs = new Float64Array(this.n)
     for (let r = 0; r < this.n; r++) {
       const i = order[r]!
-      keys[r] = this.band[i]! * 0x1_0000_0000 + this.key[i]!
+      keys[r] = storedBandKey(this.band[i]!, this.key[i]!)
       docs[r] = this.doc[i]!
     }
     return { keys, docs }
