@@ -280,6 +280,9 @@ export interface CurveRow {
   fitted_at: string
 }
 
+/** The stored states, read from the index on (state, concept_id) alone (migration 11), not the curve rows. */
+export const CURVE_STATES_SQL = 'SELECT concept_id, state FROM curves'
+
 /**
  * The stored state of every fitted skill (for state-change events).
  *
@@ -289,7 +292,7 @@ export interface CurveRow {
  * ```
  */
 export function readCurveStates(db: Db): Map<string, string> {
-  const rows = db.prepare('SELECT concept_id, state FROM curves').all() as { concept_id: string; state: string }[]
+  const rows = db.prepare(CURVE_STATES_SQL).all() as { concept_id: string; state: string }[]
   return new Map(rows.map((row) => [row.concept_id, row.state]))
 }
 

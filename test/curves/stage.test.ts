@@ -14,7 +14,7 @@ import { readCurveDetails, readMonthSeries } from '../../src/server/payloads.ts'
 import { curveRowDetails, encodeSeries } from '../../src/curves/stored-series.ts'
 import { fitAll } from '../../src/curves/fit-all.ts'
 import { ForecastBands } from '../../src/curves/forecast.ts'
-import { rebuildDemandCounts, recomputeMonthlyDemand, type CurveRow } from '../../src/db/curves.ts'
+import { CURVE_STATES_SQL, readCurveStates, rebuildDemandCounts, recomputeMonthlyDemand, type CurveRow } from '../../src/db/curves.ts'
 import { referenceInputs } from './reference-inputs.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
 import { monthRange } from './simulate.ts'
@@ -136,6 +136,10 @@ describe('fit stage', () => {
     const last = events(db, 'skill.state-changed').at(-1)!
     expect(last).toMatchObject({ id: 'jquery', label: 'jQuery', before: 'steady', after: 'declining' })
     expect(events(db, 'curves.fitted')).toHaveLength(3)
+    // the stored states come from the states' index alone, not from the rows with their details (migration 11)
+    expect(readCurveStates(db).get('jquery')).toBe('declining')
+    const plan = db.prepare(`EXPLAIN QUERY PLAN ${CURVE_STATES_SQL}`).all() as { detail: string }[]
+    expect(plan.map((row) => row.detail).join(' ')).toMatch(/COVERING INDEX curves_state/)
   })
 
   it('leaves out documents that are not mapped yet and months that are not YYYY-MM', () => {
