@@ -13,12 +13,15 @@
  * monthly demand aggregates, whose size does not depend on N; but more of the 20,000 skills have
  * enough evidence to be tested at a larger N, and a tested skill costs about three times an untested
  * one), with the fit's analysis of the same skills (those tested at the smallest size) in both
- * databases, which separates what N does from what the number of tested skills does.
+ * databases, which separates what N does from what the number of tested skills does; and the fit
+ * stage on the largest size's demand with every count multiplied by BENCH_SCALED (scaledDemandFit),
+ * which shows whether the fit still grows once every skill can be tested.
  *
  * Sizes: env BENCH_N, comma-separated (default "10000,100000", a 10x step that finishes in a few
  * minutes). The issue's sizes, N = 100,000 and 1,000,000, are opt-in because the 1M corpus is 2.3 GB
  * and the run takes long on 2 cores: `BENCH_N=100000,1000000 npm run bench -- pipeline`.
- * BENCH_MONTHS (default 60), BENCH_INCREMENT (default 10000), BENCH_KEEP=1 keeps each run's database
+ * BENCH_MONTHS (default 60), BENCH_INCREMENT (default 10000), BENCH_SCALED (default 10; 0: no
+ * scaled fit), BENCH_KEEP=1 keeps each run's database
  * in bench/.work/pipeline-N/ (the corpus files are kept and reused either way).
  * Standalone: `npx tsx bench/pipeline.ts`.
  */
@@ -35,6 +38,7 @@ import type { Db } from '../src/db/connection.ts'
 import { DEFAULT_CURVES_CONFIG } from '../src/curves/config.ts'
 import { fitAll } from '../src/curves/fit-all.ts'
 import { demandInputs } from '../src/curves/stage.ts'
+import { openDb } from '../src/db/connection.ts'
 import { reportBench, type Figure } from './report.ts'
 import { cliArgs } from '../bin/bundle.js'
 
@@ -47,6 +51,8 @@ const PROBE = pathToFileURL(path.join(here, 'rss-probe.mjs')).href
 const SIZES = (process.env['BENCH_N'] ?? '10000,100000').split(',').map((s) => Number(s.trim())).filter((n) => Number.isInteger(n) && n > 0)
 const MONTHS = Number(process.env['BENCH_MONTHS'] ?? 60)
 const INCREMENT = Number(process.env['BENCH_INCREMENT'] ?? 10_000)
+/** the largest size's demand is also fitted with every count multiplied by this (scaledDemandFit; 0: not) */
+const SCALED_FACTOR = Number(process.env['BENCH_SCALED'] ?? 10)
 
 const log = (m: string) => process.stderr.write(m + '\n')
 
@@ -110,6 +116,8 @@ interface SizeResult {
   endToEnd: number
   peakMiB: number
   incremental?: { importStep: Step; runStep: Step; seconds: number; mapped: number; stages: Map<string, Outcome> }
+  /** the fit stage on copies of this size's demand, counts as they are and multiplied (scaledDemandFit) */
+  scaledFit?: { factor: number; base: Outcome; scaled: Outcome }
   /** the fit's analysis of a fixed set of skills in this database (see sameSkillsFit) */
   sameSkills?: { skills: number; ms: number }
   /** the skills this size's fit tested (a p-value in the cross-skill family) */
@@ -213,6 +221,38 @@ function mentionStorage(db: string): { dbMiB: number; mentionsMiB: number; menti
   }
 }
 
+/**
+ * The fit stage (`tides run fit --only`, its own process) on a new database holding only what the
+ * fit reads from this one: the concepts and the monthly demand counts and totals, each multiplied
+ * by `factor`. With factor 10 these are the monthly series that ten times as many postings in the
+ * same proportions give (each count ten times as large; the fit's quasi-Poisson dispersion absorbs
+ * the ten-fold variance), without generating and mapping them: whether the fit's time grows with N
+ * once the taxonomy's skills all have enough evidence to be tested. Run at factor 1 too, so that
+ * both are timed on the same kind of database.
+ */
+async function scaledDemandFit(db: string, dir: string, factor: number): Promise<Outcome> {
+  const name = `demand-x${factor}`
+  const file = path.join(dir, `${name}.db`)
+  const config = path.join(dir, `${name}.config.json`)
+  fs.writeFileSync(config, JSON.stringify({ db: path.basename(file), dataDir: '.' }))
+  const copy = openDb(file)
+  try {
+    copy.prepare('ATTACH DATABASE ? AS source').run(db)
+    copy.transaction(() => {
+      copy.exec('INSERT INTO concepts SELECT * FROM source.concepts')
+      copy.prepare('INSERT INTO demand_totals (series, month, total) SELECT series, month, total * ? FROM source.demand_totals').run(factor)
+      copy.prepare('INSERT INTO demand_counts (concept_id, series, month, n) SELECT concept_id, series, month, n * ? FROM source.demand_counts').run(factor)
+    })()
+    copy.exec('DETACH DATABASE source')
+  } finally {
+    copy.close()
+  }
+  const step = await tides(config, ['run', 'fit', '--only', '--json'])
+  const outcome = (JSON.parse(step.stdout) as Outcome[]).find((o) => o.stage === 'fit')
+  if (!outcome || outcome.error) throw new Error(`fit on ${name}: ${outcome?.error ?? 'no outcome'}`)
+  return outcome
+}
+
 /** One size's runs; `sameSkillIds`: the skills the smallest size's fit tested (null at that size). */
 async function runSize(n: number, sameSkillIds: readonly string[] | null): Promise<SizeResult> {
   log(`\npipeline N=${n.toLocaleString('en-GB')}, ${MONTHS} months`)
@@ -267,6 +307,13 @@ async function runSize(n: number, sameSkillIds: readonly string[] | null): Promi
       const same = sameSkillsFit(db, sameSkillIds)
       result.sameSkills = { skills: same.skills, ms: same.ms }
     }
+  }
+
+  if (SIZES.length >= 2 && n === Math.max(...SIZES) && SCALED_FACTOR > 1) {
+    log(`  fit on this size's demand, as it is and with every count x${SCALED_FACTOR}`)
+    const base = await scaledDemandFit(db, dir, 1)
+    const scaled = await scaledDemandFit(db, dir, SCALED_FACTOR)
+    result.scaledFit = { factor: SCALED_FACTOR, base, scaled }
   }
 
   if (INCREMENT > 0) {
@@ -370,6 +417,19 @@ async function main(): Promise<void> {
       // the same skills' analysis in both databases: what N itself does to the fit
       const sr = large.sameSkills.ms / small.sameSkills.ms
       figures.push({ figure: `fit analysis of the same ${small.sameSkills.skills} skills (those tested at N=${small.n}): N=${large.n}/N=${small.n}`, value: sr, unit: `x (${(large.sameSkills.ms / 1000).toFixed(2)} / ${(small.sameSkills.ms / 1000).toFixed(2)} s)`, goal: '<= 1.5 (independent of N)', met: sr <= 1.5 })
+    }
+    if (large.scaledFit) {
+      // past the size where every skill has enough evidence, the fit should stop growing with N
+      const { factor, base, scaled } = large.scaledFit
+      const sr = scaled.ms / base.ms
+      const tested = (o: Outcome) => o.result?.counts['tested'] ?? 0
+      figures.push({
+        figure: `fit on the N=${large.n} demand with counts x${factor} (as N=${large.n * factor}) / as it is`,
+        value: sr,
+        unit: `x (${(scaled.ms / 1000).toFixed(2)} / ${(base.ms / 1000).toFixed(2)} s; skills tested ${tested(scaled)} / ${tested(base)})`,
+        goal: '<= 1.5 (independent of N)',
+        met: sr <= 1.5,
+      })
     }
     const mapSmall = small.stages.get('map')
     const mapLarge = large.stages.get('map')
