@@ -199,13 +199,12 @@ export class DocumentStore {
   }
 
   /**
-   * Ids of documents with this key in this band, from both levels of band rows (an id may come
-   * twice). One indexed lookup per band and level: measured six times
+   * Ids of documents with this stored band key (storedBandKey), from both levels of band rows (an id
+   * may come twice). One indexed lookup per band and level: measured six times
    * cheaper inside a large write transaction than one `key IN (...)` query, whose list SQLite builds
    * into a temporary b-tree on every call.
    */
-  bandDocuments(band: number, key: number): number[] {
-    const stored = storedBandKey(band, key)
+  bandDocuments(stored: number): number[] {
     return this.pointStmt.all(stored, stored) as number[]
   }
 

@@ -12,7 +12,7 @@
  * reaches the same decisions as one uninterrupted run.
  */
 import { RECENT_BANDS_FRACTION, bandsThrough, documentsBetween, lastDocumentId, setBandsThrough, signaturesAfter, writeBandRun } from '../db/bands.ts'
-import { BAND_KEY_FACTOR, type DocumentStore, maxDocumentId, storedBandKey } from '../db/documents.ts'
+import { type DocumentStore, maxDocumentId, storedBandKey } from '../db/documents.ts'
 import { SketchStore } from '../db/sketches.ts'
 import { type BandFilter, buildBandFilter, cachedBandFilter } from './band-filter.ts'
 import type { DocumentInput } from './document.ts'
@@ -240,7 +240,7 @@ export class Deduper {
     for (let i = 0; i < keys.length; i++) {
       const stored = keys[i]!
       if (i > 0 && stored === keys[i - 1]) continue
-      const ids = this.store.bandDocuments(Math.floor(stored / BAND_KEY_FACTOR), stored % BAND_KEY_FACTOR)
+      const ids = this.store.bandDocuments(stored)
       this.batchBands.set(stored, ids)
       for (const id of ids) if (id < this.firstOwnId) older.add(id)
     }
@@ -382,7 +382,8 @@ export class Deduper {
     for (let band = 0; band < keys.length; band++) {
       const key = keys[band]!
       if (f && !f.hasBand(band, key)) continue
-      for (const id of this.batchBands.get(storedBandKey(band, key)) ?? this.store.bandDocuments(band, key)) all.add(id)
+      const stored = storedBandKey(band, key)
+      for (const id of this.batchBands.get(stored) ?? this.store.bandDocuments(stored)) all.add(id)
       if (this.pending.size > 0) this.pending.forEach(band, key, (id) => all.add(id))
     }
     return all

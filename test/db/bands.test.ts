@@ -2,7 +2,7 @@ import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
 import { insertSortedBandRows, mergeRecentBands, recentBandRows, writeBandRun } from '../../src/db/bands.ts'
 import { type Db, openDb } from '../../src/db/connection.ts'
-import { DocumentStore, bandKeyCount, clearBands, iterateBandKeys } from '../../src/db/documents.ts'
+import { DocumentStore, bandKeyCount, clearBands, iterateBandKeys, storedBandKey } from '../../src/db/documents.ts'
 
 type Row = readonly [key: number, doc: number]
 
@@ -42,10 +42,10 @@ describe('two levels of band rows', () => {
     insertSortedBandRows(db, big.keys, big.docs)
     const recent = run([[key(0, 7), 2], [key(1, 9), 2]])
     insertSortedBandRows(db, recent.keys, recent.docs, 'document_bands_recent')
-    expect(store.bandDocuments(0, 7).sort()).toEqual([1, 2])
-    expect(store.bandDocuments(1, 7)).toEqual([1])
-    expect(store.bandDocuments(1, 9)).toEqual([2])
-    expect(store.bandDocuments(0, 9)).toEqual([])
+    expect(store.bandDocuments(storedBandKey(0, 7)).sort()).toEqual([1, 2])
+    expect(store.bandDocuments(storedBandKey(1, 7))).toEqual([1])
+    expect(store.bandDocuments(storedBandKey(1, 9))).toEqual([2])
+    expect(store.bandDocuments(storedBandKey(0, 9))).toEqual([])
     expect(bandKeyCount(db)).toBe(4)
     expect([...iterateBandKeys(db)].sort((a, b) => a - b)).toEqual([key(0, 7), key(0, 7), key(1, 7), key(1, 9)])
     clearBands(db)
