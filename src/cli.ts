@@ -13,7 +13,7 @@ import { COMMANDS as EXTRA_COMMANDS } from './commands/extra.ts'
 import { ConfigError, loadConfig, type Config } from './config.ts'
 import { DbError, describeDbFailure, openDb, upgradeNotice, type Db } from './db/connection.ts'
 import { closeAbandonedRuns } from './db/runs.ts'
-import { BusyError, ServeError } from './errors.ts'
+import { BusyError, LockLostError, ServeError } from './errors.ts'
 import { NotBuiltError, STAGE_ORDER } from './stage.ts'
 import { formatProblem, toCsv } from './util/csv.ts'
 import { printTable } from './util/table.ts'
@@ -289,7 +289,7 @@ export async function main(argv: string[], io: Io): Promise<number> {
       io.err(`tides ${name}: ${err.message}\nusage: ${command.usage}\n`)
       return 2
     }
-    if (err instanceof CliError || err instanceof ConfigError || err instanceof DbError || err instanceof NotBuiltError || err instanceof BusyError || err instanceof ServeError) {
+    if (err instanceof CliError || err instanceof ConfigError || err instanceof DbError || err instanceof NotBuiltError || err instanceof BusyError || err instanceof LockLostError || err instanceof ServeError) {
       io.err(`tides ${name}: ${err.message}\n`)
       return 1
     }

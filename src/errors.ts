@@ -13,3 +13,11 @@ export class ServeError extends Error {
 export class BusyError extends Error {
   override name = 'BusyError'
 }
+
+/**
+ * This run's lease on the pipeline lock ran out without renewal (its process did not get to renew it
+ * in time) and another run has taken the lock over: the run stops before its next stage.
+ */
+export class LockLostError extends Error {
+  override name = 'LockLostError'
+}

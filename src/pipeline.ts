@@ -8,15 +8,16 @@ import crypto from 'node:crypto'
 import type { Config } from './config.ts'
 import type { Db } from './db/connection.ts'
 import { latestEventId } from './db/events.ts'
-import { finishRun, releaseLock, renewLock, startRun, tryLock } from './db/runs.ts'
+import { finishRun, lockHolder, releaseLock, renewLock, startRun, tryLock } from './db/runs.ts'
 import { acknowledge, pendingFor } from './events/outbox.ts'
 import { deliverAfterRun } from './events/webhooks.ts'
-import { BusyError } from './errors.ts'
+import { BusyError, LockLostError } from './errors.ts'
 import { NotBuiltError, STAGE_ORDER, type Stage, type StageResult } from './stage.ts'
 import { STAGES, findStage } from './stages.ts'
 
 export const PIPELINE_LOCK = 'pipeline'
-const LEASE_MS = 60_000
+/** the pipeline lock's lease: renewed every third of it while the holder's event loop turns */
+export const LEASE_MS = 60_000
 
 
 export interface RunOptions {
@@ -27,6 +28,18 @@ export interface RunOptions {
   ripple?: boolean
   /** wait this long for the lock instead of refusing at once */
   waitMs?: number
+  /** the lock's lease (default LEASE_MS; shorter only in tests) */
+  leaseMs?: number
+}
+
+/** The held pipeline lock, as the work under it sees it. */
+export interface LockLease {
+  /**
+   * Renews the lease now. Called before each stage: a stage that keeps the event loop busy longer
+   * than the renewal timer's period still renews at its end.
+   * @throws LockLostError when the lease ran out unrenewed and another run has taken the lock
+   */
+  keep(before: string): void
 }
 
 export interface StageOutcome {
@@ -48,14 +61,18 @@ function isAlive(pid: number): boolean {
 }
 
 /**
- * Runs `fn` while holding the pipeline lock.
+ * Runs `fn` while holding the pipeline lock. The lease is renewed every third of `leaseMs` by a timer
+ * and by `lease.keep()` between stages; if it ever runs out unrenewed (the process was stopped, or
+ * its event loop blocked for longer than the lease) another run may take the lock over, and the
+ * next `keep()` then throws LockLostError instead of letting two runs work at once. Releasing
+ * removes the lock only while it is still this run's.
  * @throws BusyError when another live process holds it past `waitMs`
  */
-export async function withPipelineLock<T>(db: Db, fn: () => Promise<T>, waitMs = 0): Promise<T> {
+export async function withPipelineLock<T>(db: Db, fn: (lease: LockLease) => Promise<T>, waitMs = 0, leaseMs = LEASE_MS): Promise<T> {
   const holder = `${process.pid}:${crypto.randomUUID()}`
   const deadline = Date.now() + waitMs
   for (;;) {
-    const current = tryLock(db, PIPELINE_LOCK, holder, LEASE_MS, isAlive)
+    const current = tryLock(db, PIPELINE_LOCK, holder, leaseMs, isAlive)
     if (current === null) break
     if (Date.now() >= deadline) {
       throw new BusyError(
@@ -64,10 +81,30 @@ export async function withPipelineLock<T>(db: Db, fn: () => Promise<T>, waitMs =
     }
     await new Promise((r) => setTimeout(r, 250))
   }
-  const timer = setInterval(() => renewLock(db, PIPELINE_LOCK, holder, LEASE_MS), LEASE_MS / 3)
+  let renewedUntil = Date.now() + leaseMs
+  let lost = false
+  const renew = (): void => {
+    if (lost) return
+    const now = Date.now()
+    if (renewLock(db, PIPELINE_LOCK, holder, leaseMs)) renewedUntil = now + leaseMs
+    else lost = true
+  }
+  const timer = setInterval(renew, leaseMs / 3)
   timer.unref()
+  const lease: LockLease = {
+    keep(before: string) {
+      renew()
+      if (!lost) return
+      const taker = lockHolder(db, PIPELINE_LOCK)
+      throw new LockLostError(
+        `this run's lease on the pipeline lock ran out at ${new Date(renewedUntil).toISOString()} without renewal (the process was stopped or busy ` +
+          `for longer than ${Math.round(leaseMs / 1000)} s) and ${taker ? `process ${taker.pid}` : 'another run'} has taken the lock over; ` +
+          `stopped before ${before}, the other run carries on`,
+      )
+    },
+  }
   try {
-    return await fn()
+    return await fn(lease)
   } finally {
     clearInterval(timer)
     releaseLock(db, PIPELINE_LOCK, holder)
@@ -107,19 +144,21 @@ export async function runPipeline(db: Db, config: Config, names: readonly string
   })
   const result = await withPipelineLock(
     db,
-    async () => {
+    async (lease) => {
       const outcomes: StageOutcome[] = []
       for (const stage of stages) {
+        lease.keep(`stage ${stage.name}`)
         // a direct run handles everything its subscriptions had pending up to now
         const upTo = latestEventId(db)
         const outcome = await runOne(db, config, stage, opts.trigger ?? 'manual', opts.options ?? {}, log)
         outcomes.push(outcome)
         if (!outcome.error) acknowledge(db, consumerName(stage), upTo)
       }
-      if (opts.ripple !== false) outcomes.push(...(await ripple(db, config, log)))
+      if (opts.ripple !== false) outcomes.push(...(await ripple(db, config, log, lease)))
       return outcomes
     },
     opts.waitMs ?? 0,
+    opts.leaseMs,
   )
   // after the lock is released: the run's work has committed, a slow endpoint delays nobody's run
   await deliverAfterRun(db, config, log)
@@ -128,9 +167,10 @@ export async function runPipeline(db: Db, config: Config, names: readonly string
 
 /**
  * Runs every stage that has pending subscribed events, in pipeline order, until none has.
- * A stage that fails keeps its events pending for the next run (at-least-once).
+ * A stage that fails keeps its events pending for the next run (at-least-once). Under the pipeline
+ * lock, pass its lease: it is kept before each stage (LockLostError once another run has taken over).
  */
-export async function ripple(db: Db, config: Config, log: (m: string) => void = () => {}): Promise<StageOutcome[]> {
+export async function ripple(db: Db, config: Config, log: (m: string) => void = () => {}, lease?: LockLease): Promise<StageOutcome[]> {
   const outcomes: StageOutcome[] = []
   const failed = new Set<string>()
   for (let round = 0; round < 20; round++) {
@@ -141,6 +181,7 @@ export async function ripple(db: Db, config: Config, log: (m: string) => void = 
       const pending = pendingFor(db, consumerName(stage), stage.subscribesTo)
       if (pending.events.length === 0) continue
       const types = [...new Set(pending.events.map((e) => e.type))].join(',')
+      lease?.keep(`stage ${stage.name}`)
       const outcome = await runOne(db, config, stage, `event:${types}`, {}, log)
       outcomes.push(outcome)
       if (outcome.error) failed.add(name)

@@ -50,7 +50,7 @@ export async function serve(db: Db, config: Config, opts: ServeOptions): Promise
     rippling = true
     again = false
     setImmediate(() => {
-      withPipelineLock(db, () => ripple(db, config, opts.log), 5 * 60_000)
+      withPipelineLock(db, (lease) => ripple(db, config, opts.log, lease), 5 * 60_000)
         .then((outcomes) => outcomes.forEach((o) => opts.log(`after a dashboard change: ${o.stage} ${o.error ? `failed: ${o.error}` : (o.result?.summary ?? 'done')}`)))
         .catch((err: unknown) => opts.log(`after a dashboard change: not run: ${err instanceof Error ? err.message : String(err)}`))
         .finally(() => {

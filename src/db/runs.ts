@@ -105,7 +105,12 @@ export function tryLock(db: Db, name: string, holder: string, leaseMs: number, i
   return take.immediate()
 }
 
-/** Extends the lease of a lock this holder owns. */
+/** The current holder of a lock, or null when nobody holds it. */
+export function lockHolder(db: Db, name: string): LockHolder | null {
+  return (db.prepare('SELECT holder, pid, expires_at FROM locks WHERE name = ?').get(name) as LockHolder | undefined) ?? null
+}
+
+/** Extends the lease of a lock this holder owns (false when the lock is no longer this holder's). */
 export function renewLock(db: Db, name: string, holder: string, leaseMs: number): boolean {
   return db.prepare('UPDATE locks SET expires_at = ? WHERE name = ? AND holder = ?').run(Date.now() + leaseMs, name, holder).changes === 1
 }

@@ -1,9 +1,10 @@
 import { describe, expect, it } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
-import { listRuns, tryLock } from '../../src/db/runs.ts'
+import { listRuns, lockHolder, tryLock } from '../../src/db/runs.ts'
 import { emit, pendingFor } from '../../src/events/outbox.ts'
-import { BusyError } from '../../src/errors.ts'
-import { PIPELINE_LOCK, withPipelineLock } from '../../src/pipeline.ts'
+import { BusyError, LockLostError } from '../../src/errors.ts'
+import { PIPELINE_LOCK, runPipeline, withPipelineLock } from '../../src/pipeline.ts'
+import { loadConfig } from '../../src/config.ts'
 import { STAGE_ORDER } from '../../src/stage.ts'
 import { STAGES } from '../../src/stages.ts'
 
@@ -42,6 +43,80 @@ describe('pipeline lock', () => {
     db.prepare('INSERT INTO locks(name, holder, pid, expires_at) VALUES (?, ?, ?, ?)').run(PIPELINE_LOCK, 'ghost', 999999, Date.now() + 60_000)
     expect(tryLock(db, PIPELINE_LOCK, 'me', 1000, () => false)).toBeNull()
     expect(tryLock(db, PIPELINE_LOCK, 'other', 1000, () => true)).toMatchObject({ holder: 'me' })
+  })
+
+  it('a run that works longer than its lease keeps the lock: the timer renews it while the event loop turns', async () => {
+    const db = openDb(':memory:')
+    const leaseMs = 150
+    await withPipelineLock(
+      db,
+      async (lease) => {
+        await new Promise((r) => setTimeout(r, 6 * leaseMs))
+        // four leases later another run is still refused, and the lease reaches past now
+        expect(tryLock(db, PIPELINE_LOCK, 'other', leaseMs, () => true)).toMatchObject({ pid: process.pid })
+        expect(lockHolder(db, PIPELINE_LOCK)!.expires_at).toBeGreaterThan(Date.now())
+        expect(() => lease.keep('stage fit')).not.toThrow()
+      },
+      0,
+      leaseMs,
+    )
+    expect(lockHolder(db, PIPELINE_LOCK)).toBeNull()
+  })
+
+  it('a holder whose lease ran out unrenewed and was taken over stops at its next keep(), and leaves the new holder’s lock alone', async () => {
+    const db = openDb(':memory:')
+    const leaseMs = 100
+    let stopped: unknown = null
+    await withPipelineLock(
+      db,
+      async (lease) => {
+        // the event loop blocked for three leases: the timer cannot renew
+        const until = Date.now() + 3 * leaseMs
+        while (Date.now() < until) {
+          /* busy */
+        }
+        // a live process may take over an expired lease (the next test's rule)
+        expect(tryLock(db, PIPELINE_LOCK, 'other', 60_000, () => true)).toBeNull()
+        try {
+          lease.keep('stage plan')
+        } catch (err) {
+          stopped = err
+        }
+      },
+      0,
+      leaseMs,
+    )
+    expect(stopped).toBeInstanceOf(LockLostError)
+    expect(String((stopped as Error).message)).toMatch(
+      new RegExp(`lease on the pipeline lock ran out at \\d{4}-\\d\\d-\\d\\dT[\\d:.]+Z without renewal .* process ${process.pid} has taken the lock over; stopped before stage plan`),
+    )
+    // the release in `finally` removed nothing of the new holder's
+    expect(lockHolder(db, PIPELINE_LOCK)).toMatchObject({ holder: 'other' })
+  })
+
+  it('runPipeline keeps the lease before every stage: once taken over, no further stage runs', async () => {
+    const db = openDb(':memory:')
+    const config = loadConfig({ db: ':memory:' })
+    const seen: string[] = []
+    const run = runPipeline(db, config, ['map', 'fit', 'plan'], {
+      leaseMs: 100,
+      ripple: false,
+      log: (message) => {
+        seen.push(message)
+        if (seen.length === 1) {
+          // inside the first stage: block past the lease, then another run takes the lock
+          const until = Date.now() + 300
+          while (Date.now() < until) {
+            /* busy */
+          }
+          tryLock(db, PIPELINE_LOCK, 'other', 60_000, () => true)
+        }
+      },
+    })
+    await expect(run).rejects.toThrow(LockLostError)
+    await expect(run).rejects.toThrow(/stopped before stage fit/)
+    expect(listRuns(db).map((r) => r.stage)).toEqual(['map'])
+    expect(lockHolder(db, PIPELINE_LOCK)).toMatchObject({ holder: 'other' })
   })
 
   it('an expired lease is taken over even if the process lives', () => {

@@ -51,12 +51,16 @@ describe('two pipeline runs at once', () => {
     // it must still be waiting while the lock is held
     await sleep(2500)
     expect(waiting.child.exitCode).toBeNull()
+    expect(query<{ n: number }>(ws.db, "SELECT COUNT(*) AS n FROM job_runs WHERE stage = 'ingest'")[0]!.n).toBe(0)
     const released = Date.now()
     holder.child.kill('SIGTERM')
     await holder.done
     const result = await waiting.done
     expect(result.code, result.stderr).toBe(0)
-    expect(Date.now()).toBeGreaterThanOrEqual(released)
+    // its work started only after the holder let go: every ingest run it recorded began after then
+    const starts = query<{ started_at: string }>(ws.db, "SELECT started_at FROM job_runs WHERE stage = 'ingest'").map((r) => Date.parse(r.started_at))
+    expect(starts.length).toBeGreaterThan(0)
+    for (const start of starts) expect(start).toBeGreaterThanOrEqual(released)
     expect(query<{ n: number }>(ws.db, 'SELECT COUNT(*) AS n FROM documents')[0]!.n).toBeGreaterThan(0)
   })
 

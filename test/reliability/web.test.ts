@@ -99,8 +99,16 @@ describe('without the token nothing changes', () => {
         await res.arrayBuffer()
         if (![401, 403, 404, 405].includes(res.status)) failures.push(`${method} ${route.path}: ${res.status}`)
       }
-      const override = await fetch(`${base}${route.path}`, { method: 'GET', headers: { 'x-http-method-override': 'POST', 'x-method-override': 'POST' } })
-      await override.arrayBuffer()
+      // a method override header is ignored: a GET stays the GET of that path (whatever it answers
+      // without the header), and a POST asking to be something else is still a refused POST
+      const plain = await fetch(`${base}${route.path}`, { method: 'GET', redirect: 'manual' })
+      const plainBody = await plain.text()
+      const override = await fetch(`${base}${route.path}`, { method: 'GET', redirect: 'manual', headers: { 'x-http-method-override': route.method, 'x-method-override': route.method } })
+      const overrideBody = await override.text()
+      if (override.status !== plain.status || overrideBody !== plainBody) failures.push(`GET ${route.path} with a method override to ${route.method}: ${override.status}, plain GET ${plain.status}`)
+      const posted = await fetch(`${base}${route.path}`, { method: 'POST', redirect: 'manual', headers: { 'x-http-method-override': 'DELETE', 'content-type': 'application/json' }, body: '{}' })
+      await posted.arrayBuffer()
+      if (![401, 403, 404, 405].includes(posted.status)) failures.push(`POST ${route.path} with a method override to DELETE: ${posted.status}`)
     }
     expect(failures).toEqual([])
     expect(dbHash()).toBe(before)
