@@ -103,30 +103,41 @@ export const COMMANDS: Record<string, Command> = {
   },
   import: {
     summary: 'validate and store input files of one kind',
-    usage: `tides import <${IMPORT_KINDS.join('|')}> FILE... [--skip-bad] [--json]`,
-    options: { 'skip-bad': { type: 'boolean' }, json: { type: 'boolean' } },
+    usage: `tides import <${IMPORT_KINDS.join('|')}> FILE... [--skip-bad] [--wait SECONDS] [--json]`,
+    options: { 'skip-bad': { type: 'boolean' }, wait: { type: 'string' }, json: { type: 'boolean' } },
     async run(ctx, values, positionals) {
       const [kind, ...files] = positionals
       if (!kind || !(IMPORT_KINDS as readonly string[]).includes(kind)) throw new UsageError(`import needs a kind: ${IMPORT_KINDS.join(', ')}`)
       if (files.length === 0) throw new UsageError(`import ${kind} needs at least one FILE`)
       const importer = IMPORTERS[kind as ImportKind]
       if (!importer) throw new NotBuiltError(`import of ${kind} is not built in this version`)
+      const waitMs = values['wait'] === undefined ? 0 : intArg('--wait', values['wait']) * 1000
       const { db, config } = ctx.open()
-      const results = []
+      const results: Awaited<ReturnType<typeof importer>>[] = []
       let badRows = false
       let unreadable = false
-      for (const file of files) {
-        const r = await importer(db, config, file, { skipBad: Boolean(values['skip-bad']), log: (m) => ctx.io.err(m + '\n') })
-        results.push(r)
-        if (!values['json']) {
-          for (const p of r.problems.slice(0, 50)) ctx.io.err(formatProblem(p) + '\n')
-          if (r.problems.length > 50) ctx.io.err(`... and ${r.problems.length - 50} more problems\n`)
-        }
-        // refused for the file as a whole (missing, not a file, wrong format: line 0) or for bad rows
-        if (r.refused && r.problems.every((p) => p.line === 0)) unreadable = true
-        else if (r.refused) badRows = true
-        else if (!values['json']) ctx.io.err(`${file}: ${r.imported} ${kind} imported of ${r.read} read${r.skipped ? `, ${r.skipped} bad rows skipped` : ''}\n`)
-      }
+      // an import writes what the stages read (documents and their dedupe bands, the taxonomy, the
+      // workforce tables), so it takes the pipeline lock as a run does: never in the middle of one
+      const { withPipelineLock } = await import('./lock.ts')
+      await withPipelineLock(
+        db,
+        async (lease) => {
+          for (const file of files) {
+            lease.keep(`importing ${file}`)
+            const r = await importer(db, config, file, { skipBad: Boolean(values['skip-bad']), log: (m) => ctx.io.err(m + '\n') })
+            results.push(r)
+            if (!values['json']) {
+              for (const p of r.problems.slice(0, 50)) ctx.io.err(formatProblem(p) + '\n')
+              if (r.problems.length > 50) ctx.io.err(`... and ${r.problems.length - 50} more problems\n`)
+            }
+            // refused for the file as a whole (missing, not a file, wrong format: line 0) or for bad rows
+            if (r.refused && r.problems.every((p) => p.line === 0)) unreadable = true
+            else if (r.refused) badRows = true
+            else if (!values['json']) ctx.io.err(`${file}: ${r.imported} ${kind} imported of ${r.read} read${r.skipped ? `, ${r.skipped} bad rows skipped` : ''}\n`)
+          }
+        },
+        waitMs,
+      )
       if (values['json']) ctx.io.out(JSON.stringify(results, null, 2) + '\n')
       if (badRows) throw new CliError(`nothing imported from a file with bad rows; fix them or pass --skip-bad to import the good rows`)
       if (unreadable) throw new CliError(`nothing imported from a file that could not be read as ${kind} (see above)`)

@@ -64,6 +64,42 @@ describe('two pipeline runs at once', () => {
     expect(query<{ n: number }>(ws.db, 'SELECT COUNT(*) AS n FROM documents')[0]!.n).toBeGreaterThan(0)
   })
 
+  it('an import refuses while a run holds the lock (nothing imported), and with --wait imports once it is free', async () => {
+    const extra = path.join(ws.dir, 'extra.jsonl')
+    const lines = fs.readFileSync(ws.postings, 'utf8').split('\n').filter(Boolean).slice(0, 20)
+    // new identifiers and texts of their own, so that every line is a new document (no duplicate)
+    const word = (i: number, k: number) => `w${((i * 7919 + k * 104729) % 99991).toString(36)}`
+    const fresh = lines.map((line, i) => ({
+      ...JSON.parse(line),
+      identifier: `extra-${i}`,
+      title: `Extra posting ${i} ${word(i, 0)}`,
+      description: Array.from({ length: 60 }, (_, k) => word(i, k + 1)).join(' '),
+    }))
+    fs.writeFileSync(extra, fresh.map((posting) => JSON.stringify(posting)).join('\n') + '\n')
+    const count = () => query<{ n: number }>(ws.db, 'SELECT COUNT(*) AS n FROM documents')[0]!.n
+    const holder = await holdLock()
+    const before = count()
+    try {
+      const refused = await tides([...ws.args, 'import', 'postings', extra])
+      expect(refused.code).toBe(1)
+      expect(refused.stderr).toMatch(BUSY)
+      expect(count()).toBe(before)
+      const waiting = startTides([...ws.args, 'import', 'postings', extra, '--wait', '120'])
+      await sleep(2500)
+      expect(waiting.child.exitCode).toBeNull()
+      expect(count()).toBe(before)
+      holder.child.kill('SIGTERM')
+      await holder.done
+      const done = await waiting.done
+      expect(done.code, done.stderr).toBe(0)
+      expect(done.stderr).toContain('20 postings imported of 20 read')
+      expect(count()).toBe(before + 20)
+    } finally {
+      holder.child.kill('SIGKILL')
+      await holder.done
+    }
+  })
+
   it('the lock of a holder killed with SIGKILL is taken over at once', async () => {
     const holder = await holdLock()
     expect(lockHolderPid()).toBe(holder.child.pid)
