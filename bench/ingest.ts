@@ -161,7 +161,7 @@ async function main(): Promise<void> {
     if (imp.refused) throw new Error('import refused')
     db2.close()
 
-    const raw = rawInsertRate()
+    const raw = rawInsertRate(dir)
     const sourceRate = n / sourceSec
     const importRate = n / importSec
     reportBench('ingest', [
