@@ -9,7 +9,7 @@ export class ServeError extends Error {
   override name = 'ServeError'
 }
 
-/** Another run holds the pipeline lock (pipeline.ts withPipelineLock). */
+/** Another run holds the pipeline lock (lock.ts withPipelineLock). */
 export class BusyError extends Error {
   override name = 'BusyError'
 }

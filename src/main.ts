@@ -12,7 +12,7 @@ import { DbError, getSetting, openDb, upgradeNotice } from './db/connection.ts'
 import { closeAbandonedRuns } from './db/runs.ts'
 import { runDemo } from './demo/load.ts'
 import { runPipeline } from './pipeline.ts'
-import { ServeError } from './errors.ts'
+import { BusyError, LockLostError, ServeError } from './errors.ts'
 import { serve } from './serve.ts'
 
 async function start(): Promise<void> {
@@ -38,7 +38,7 @@ async function start(): Promise<void> {
 }
 
 start().catch((err: unknown) => {
-  const known = err instanceof ConfigError || err instanceof DbError || err instanceof ServeError
+  const known = err instanceof ConfigError || err instanceof DbError || err instanceof ServeError || err instanceof BusyError || err instanceof LockLostError
   process.stderr.write(`tides: ${known ? (err as Error).message : err instanceof Error ? (err.stack ?? err.message) : String(err)}\n`)
   process.exit(1)
 })
