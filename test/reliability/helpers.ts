@@ -217,3 +217,46 @@ export function query<T = Record<string, unknown>>(file: string, sql: string, ..
     db.close()
   }
 }
+
+/**
+ * The preload module of {@link fullDiskEnv} (CommonJS, loaded with `--require` before the program):
+ * wraps better-sqlite3's `pragma` so that the first call on each writable connection to the named
+ * file first sets `max_page_count` to the file's page count plus the spare pages.
+ */
+const FULL_DISK_PRELOAD = `'use strict'
+const path = require('node:path')
+const { createRequire } = require('node:module')
+const Database = createRequire(path.join(process.env.TIDES_TEST_ROOT, 'package.json'))('better-sqlite3')
+const target = process.env.TIDES_TEST_FULL_DB
+const spare = Number(process.env.TIDES_TEST_SPARE_PAGES)
+const pragma = Database.prototype.pragma
+const seen = new WeakSet()
+Database.prototype.pragma = function (...args) {
+  if (!seen.has(this)) {
+    seen.add(this)
+    if (!this.readonly && !this.memory && path.resolve(this.name) === target) {
+      pragma.call(this, 'max_page_count = ' + (pragma.call(this, 'page_count', { simple: true }) + spare))
+    }
+  }
+  return pragma.apply(this, args)
+}
+`
+
+/**
+ * Environment (for {@link SpawnOpts}.env) under which a `tides` child process finds the disk full:
+ * every writable connection it opens to `db` gets SQLite's `PRAGMA max_page_count` set to the file's
+ * page count plus `sparePages`, so a write that needs more pages fails with SQLITE_FULL ("database or
+ * disk is full"), the error a full disk gives, without privileges or a small filesystem. The pragma
+ * holds only for the connection that sets it, so it is set inside the child by a preload module
+ * (written next to `db`), on the first `pragma` call of the connection: openDb makes one at once.
+ */
+export function fullDiskEnv(db: string, sparePages: number): NodeJS.ProcessEnv {
+  const preload = path.join(path.dirname(path.resolve(db)), 'full-disk-preload.cjs')
+  fs.writeFileSync(preload, FULL_DISK_PRELOAD)
+  return {
+    NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ''} --require ${JSON.stringify(preload)}`.trim(),
+    TIDES_TEST_ROOT: ROOT,
+    TIDES_TEST_FULL_DB: path.resolve(db),
+    TIDES_TEST_SPARE_PAGES: String(sparePages),
+  }
+}
