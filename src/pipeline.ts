@@ -5,7 +5,7 @@
  * A lock with a lease (lock.ts) keeps two pipeline runs from overlapping.
  */
 import type { Config } from './config.ts'
-import type { Db } from './db/connection.ts'
+import { describeDbFailure, type Db } from './db/connection.ts'
 import { latestEventId } from './db/events.ts'
 import { finishRun, startRun } from './db/runs.ts'
 import { acknowledge, pendingFor } from './events/outbox.ts'
@@ -49,7 +49,8 @@ async function runOne(db: Db, config: Config, stage: Stage, trigger: string, opt
     if (runId !== null) finishRun(db, runId, result.status ?? 'ok', result.counts, null, { summary: result.summary, counts: result.counts })
     return { stage: stage.name, trigger, result, ms: performance.now() - started }
   } catch (err) {
-    const message = err instanceof Error ? err.message : String(err)
+    // a database failure (disk full, read-only, I/O) says so plainly, naming the database
+    const message = describeDbFailure(err, db.name) ?? (err instanceof Error ? err.message : String(err))
     if (runId !== null) finishRun(db, runId, 'failed', {}, message)
     return { stage: stage.name, trigger, error: message, ms: performance.now() - started }
   }

@@ -6,7 +6,7 @@
  * only when every source it ran failed.
  */
 import type { Config, SourceConfig } from '../config.ts'
-import type { Db } from '../db/connection.ts'
+import { describeDbFailure, type Db } from '../db/connection.ts'
 import { upsertSource } from '../db/documents.ts'
 import { finishRun, startRun } from '../db/runs.ts'
 import type { Stage, StageResult } from '../stage.ts'
@@ -56,7 +56,8 @@ export async function ingestSource(env: SourceEnv, source: SourceConfig, trigger
     writer.finish()
   } catch (err) {
     const e = err as NodeJS.ErrnoException
-    const message = e.code === 'ENOENT' ? `cannot read ${source.location}: no such file or folder` : e.message
+    // a database failure (disk full, read-only, I/O) says so plainly, naming the database
+    const message = e.code === 'ENOENT' ? `cannot read ${source.location}: no such file or folder` : (describeDbFailure(err, env.db.name) ?? e.message)
     outcome = { error: message, failed: true, details: {} }
   } finally {
     progress.done()

@@ -187,14 +187,14 @@ describe('disk full', () => {
     db.pragma(`max_page_count = ${pages + 8}`)
     const outcomes = await runPipeline(db, config, ['ingest'], { ripple: false })
     const ingest = outcomes.find((o) => o.stage === 'ingest')!
-    expect(ingest.error).toMatch(/database or disk is full/)
+    expect(ingest.error).toMatch(/^corpus: database \S+ cannot grow \(database or disk is full\): the disk is full; the interrupted work was rolled back$/)
     db.close()
     expect(integrity(copy.db)).toBe('ok')
     expectIngestRolledBack(copy.db)
     // the same limit on the command: its exit code and the line it prints
     const r = await tides([...copy.args, 'run', 'ingest', '--only'], { env: fullDiskEnv(copy.db, SPARE_PAGES) })
     expect(r.code, r.stderr).toBe(1)
-    expectOneClearLine(r.stderr, /^tides run: ingest failed: corpus: database or disk is full$/)
+    expectOneClearLine(r.stderr, /^tides run: ingest failed: corpus: database \S+ cannot grow \(database or disk is full\): the disk is full; the interrupted work was rolled back$/)
     expect(integrity(copy.db)).toBe('ok')
     expectIngestRolledBack(copy.db)
     // room again: the next run picks up and ends where a clean run ends
@@ -223,7 +223,7 @@ describe('disk full', () => {
     const before = resultHash(copy.db)
     const r = await tides([...copy.args, 'run', 'ingest', '--only'], { fileSizeLimit: 256 * 1024 })
     expect(r.code).toBe(1)
-    expectOneClearLine(r.stderr, /^tides run: (ingest failed: corpus: disk I\/O error|database .* disk I\/O error)/)
+    expectOneClearLine(r.stderr, /^tides run: (ingest failed: corpus: database \S+: disk I\/O error \(SQLITE_IOERR\w*\): the disk may be full, a file size limit reached or the disk failing; the interrupted work was rolled back|database .* disk I\/O error)/)
     expect(integrity(copy.db)).toBe('ok')
     expectIngestRolledBack(copy.db)
     const again = await tides([...copy.args, 'run', 'all'])
@@ -235,7 +235,7 @@ describe('disk full', () => {
     const copy = copyWorkspace('fsize-mid')
     const r = await tides([...copy.args, 'run', 'ingest', '--only'], { fileSizeLimit: 2 * 1024 * 1024 })
     expect(r.code).toBe(1)
-    expectOneClearLine(r.stderr, /^tides run: ingest failed: corpus: disk I\/O error$/)
+    expectOneClearLine(r.stderr, /^tides run: ingest failed: corpus: database \S+: disk I\/O error \(SQLITE_IOERR\w*\): the disk may be full, a file size limit reached or the disk failing; the interrupted work was rolled back$/)
     expect(integrity(copy.db)).toBe('ok')
     // The batch rule (README, Ingest: "Each batch of documents, its links, the source's resume point
     // and its documents.ingested event commit together"; DEVELOPERS, Ingest; ingest/writer.ts): the
@@ -321,12 +321,12 @@ describe('disk full during the map, fit and plan stages', () => {
     const copy = copyWorkspace(`${stage}-full`, before[stage])
     const r = await tides([...copy.args, 'run', stage, '--only'], { env: fullDiskEnv(copy.db, SPARE_PAGES) })
     expect(r.code, r.stderr).toBe(1)
-    expectOneClearLine(r.stderr, new RegExp(`^tides run: ${stage} failed: database or disk is full$`))
+    expectOneClearLine(r.stderr, new RegExp(`^tides run: ${stage} failed: database \\S+ cannot grow \\(database or disk is full\\): the disk is full; the interrupted work was rolled back$`))
     expect(integrity(copy.db)).toBe('ok')
     expect(changedTables(before[stage], copy.db).filter((t) => !EXCLUDED.includes(t))).toEqual([])
     expect(schema(copy.db)).toEqual(schema(before[stage]))
     expect(runCount(copy.db)).toBe(runCount(before[stage]) + 1)
-    expect(lastRun(copy.db)).toEqual({ stage, status: 'failed', error: 'database or disk is full' })
+    expect(lastRun(copy.db)).toEqual({ stage, status: 'failed', error: expect.stringMatching(/^database \S+ cannot grow \(database or disk is full\): the disk is full/) })
     // room again: the same stage completes, with the clean run's result
     const again = await tides([...copy.args, 'run', stage, '--only'])
     expect(again.code, again.stderr).toBe(0)
