@@ -175,6 +175,8 @@ async function recover(
   // whose end tag is damaged costs that item only, not the one after it too
   const starts = itemStarts(xml, tag)
   const close = new RegExp(`</${tag}\\s*>`, 'g')
+  /** [start, end) of each item read up to its end tag, in order */
+  const spans: [number, number][] = []
   for (let k = 0; k < starts.length; k++) {
     const start = starts[k]!
     const limit = k + 1 < starts.length ? starts[k + 1]! : xml.length
@@ -185,6 +187,7 @@ async function recover(
       problems.push({ file, line, reason: k + 1 < starts.length ? `an ${tag} has no end tag before the next ${tag} begins` : `an ${tag} is cut off (the body ends inside it)` })
       continue
     }
+    spans.push([start, end.index + end[0].length])
     const text = xml.slice(start, end.index + end[0].length)
     const wrapped =
       format === 'atom' ? `<feed${namespaces.includes('xmlns=') ? '' : ' xmlns="http://www.w3.org/2005/Atom"'}${namespaces}>${text}</feed>` : `<rss version="2.0"${namespaces}><channel>${text}</channel></rss>`
@@ -196,6 +199,14 @@ async function recover(
     } catch (err) {
       problems.push({ file, line, reason: `item is not well-formed XML: ${(err as Error).message.replace(/\s+/g, ' ').replace(/ Line: \d+ Column: \d+ Char: .*$/, '').trim()}` })
     }
+  }
+  // an end tag outside every item above closes an item whose start tag was damaged: that item is
+  // lost, and is reported like any other unreadable item (spans and end tags are both in order)
+  let j = 0
+  for (const m of xml.matchAll(new RegExp(close.source, 'g'))) {
+    while (j < spans.length && spans[j]![1] <= m.index) j++
+    if (j < spans.length && spans[j]![0] <= m.index) continue
+    problems.push({ file, line: lineAt(xml, m.index), reason: `an ${tag} end tag without its start tag: the ${tag} it closes is damaged and was not read` })
   }
   return { format, items, problems, fatal: items.length === 0 && problems.every((p) => p.warning) ? `no readable ${tag} in the feed` : null }
 }

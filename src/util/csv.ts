@@ -61,7 +61,8 @@ export function readCsv(text: string, file: string, required: readonly string[],
   if (unknown.length) warnings.push({ file, line: 1, column: unknown.join(', '), reason: 'unknown column(s) ignored' })
   const rows: CsvRow[] = []
   for (const { record, info, raw } of records.slice(1)) {
-    const line = info.lines - (raw.replace(/\r?\n$/, '').split('\n').length - 1)
+    // info.lines is the record's last line; its raw text also holds the blank lines skipped before it
+    const line = info.lines - (raw.replace(/^[\r\n]+/, '').replace(/\r?\n$/, '').split('\n').length - 1)
     if (record.length !== header.length) {
       problems.push({ file, line, reason: `expected ${header.length} fields, found ${record.length}` })
       continue

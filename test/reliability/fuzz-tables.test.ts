@@ -115,8 +115,8 @@ function badValue(spec: (typeof COLUMN_TYPES)[TableKind][string]): fc.Arbitrary<
 
 interface Planted {
   lines: string[]
-  /** line number (1-based) where each data row starts, and whether it is good */
-  rows: { line: number; good: boolean; key: string }[]
+  /** line number (1-based) where each data row starts, whether it is good, and for a bad value the column it is in */
+  rows: { line: number; good: boolean; key: string; column: string | null }[]
 }
 
 /** A file of good rows with some bad rows (bad field values or wrong field counts) mixed in. */
@@ -131,6 +131,8 @@ function plantedFile(kind: TableKind): fc.Arbitrary<Planted> {
       badColumn: fc.nat(cols.length - 1),
       badValueIndex: fc.nat(1000),
       structural: fc.constantFrom<'none' | 'extra' | 'missing'>('none', 'none', 'none', 'extra', 'missing'),
+      // blank lines are skipped, but the lines after them keep their numbers
+      blankBefore: fc.constantFrom(0, 0, 0, 0, 1, 2),
     })
   return fc.integer({ min: 1, max: 25 }).chain((count) =>
     fc.tuple(...Array.from({ length: count }, (_, i) => row(i))).chain((rows) => {
@@ -148,6 +150,7 @@ function plantedFile(kind: TableKind): fc.Arbitrary<Planted> {
         rows.forEach((r, i) => {
           const values = [...r.values]
           let good = true
+          let column: string | null = null
           if (r.bad) {
             good = false
             if (r.structural === 'extra') values.push('surplus')
@@ -155,11 +158,14 @@ function plantedFile(kind: TableKind): fc.Arbitrary<Planted> {
             else {
               const [colIndex, v] = bads[i]!
               values[colIndex] = v
+              column = cols[colIndex]!
             }
           }
+          for (let b = 0; b < r.blankBefore; b++) lines.push('')
+          line += r.blankBefore
           const text = values.map(csvCell).join(',')
           lines.push(text)
-          planted.push({ line, good, key: values[0]!.trim() })
+          planted.push({ line, good, key: values[0]!.trim(), column })
           line += text.split('\n').length
         })
         void keyColumn
@@ -184,7 +190,7 @@ const TABLE_OF: Record<TableKind, { table: string; key: string }> = {
 
 describe('table imports under fuzzing', () => {
   for (const kind of TABLE_KINDS) {
-    it(`${kind}: planted bad rows are reported by line; skip-bad keeps exactly the good rows; otherwise nothing changes`, () => {
+    it(`${kind}: planted bad rows are reported by line and column; skip-bad keeps exactly the good rows; otherwise nothing changes`, () => {
       fc.assert(
         fc.property(plantedFile(kind), (file) => {
           const content = file.lines.join('\n') + '\n'
@@ -206,6 +212,12 @@ describe('table imports under fuzzing', () => {
           const problemLines = new Set(strict.problems.filter((p) => p.line > 1).map((p) => p.line))
           expect([...problemLines].sort((a, b) => a - b)).toEqual(bad.map((r) => r.line))
           for (const p of strict.problems) expect(formatProblem(p)).toMatch(new RegExp(`^${kind}\\.csv:\\d+: `))
+          // a bad value names its column; a wrong field count names none
+          for (const r of bad) {
+            const p = strict.problems.find((x) => x.line === r.line)!
+            expect(formatProblem(p)).toMatch(new RegExp(`^${kind}\\.csv:${r.line}: ${r.column ? `column ${r.column}: ` : ''}\\S`))
+            if (r.column === null) expect(p.reason).toMatch(/^expected \d+ fields, found \d+$/)
+          }
           // with skip-bad: exactly the good rows land
           const db2 = freshDb()
           const lenient = importTableText(db2, kind, content, `${kind}.csv`, { skipBad: true })
@@ -225,75 +237,168 @@ describe('table imports under fuzzing', () => {
   }
 })
 
+/** A valid file of each table kind (three rows, the second with a quoted comma) and a text column to damage. */
+interface Base {
+  kind: TableKind
+  header: string[]
+  rows: string[][]
+  /** a text column (row values without commas in row 1) and its length limit */
+  text: string
+  max: number
+}
+const BASES: Record<TableKind, Omit<Base, 'kind'>> = {
+  people: { header: ['person_id', 'role', 'team'], rows: [['p1', 'analyst', 'north'], ['p2', 'engineer, senior', 'south'], ['p3', 'analyst', '']], text: 'role', max: 200 },
+  roles: { header: ['role', 'skill_id', 'required_theta'], rows: [['analyst', 'sql', '1.5'], ['lead, data', 'python', '0.5'], ['analyst', 'python', '-1']], text: 'role', max: 200 },
+  // new item ids: freshDb already holds item-0, item-1 and item-2
+  items: { header: ['item_id', 'skill_id', 'a', 'b', 'c'], rows: [['i1', 'sql', '1', '0', ''], ['i2', 'data, privacy', '1.2', '0.5', '0.2'], ['i3', 'python', '0.8', '-1', '']], text: 'skill_id', max: 200 },
+  responses: { header: ['person_id', 'item_id', 'response', 'taken_at'], rows: [['p1', 'item-0', '1', '2025-01-02'], ['p2, jr', 'item-1', '0', '2025-01-03T10:00:00Z'], ['p3', 'item-2', '1', '2025-01-04']], text: 'person_id', max: 200 },
+  abilities: { header: ['person_id', 'skill_id', 'theta', 'se', 'assessed_at'], rows: [['p1', 'sql', '0.5', '0.3', '2025-01-01'], ['p2', 'data, privacy', '-1', '0.4', '2025-02-01'], ['p3', 'python', '2', '0.25', '2025-03-01']], text: 'skill_id', max: 200 },
+  courses: {
+    header: ['course_id', 'title', 'skills', 'last_reviewed', 'enrollments_12m', 'owner'],
+    rows: [['c1', 'SQL basics', 'sql|python', '2025-01-01', '10', 'north'], ['c2', 'Data, privacy', 'data privacy', '', '', ''], ['c3', 'Kubernetes', 'kubernetes', '2024-06-30', '0', 'ops']],
+    text: 'title',
+    max: 500,
+  },
+}
+
+const csvText = (header: string[], rows: string[][]) => [header, ...rows].map((r) => r.map(csvCell).join(',')).join('\n') + '\n'
+const baseText = (b: Base) => csvText(b.header, b.rows)
+/** the base rows with row `index`'s text column set to `value` */
+const withText = (b: Base, index: number, value: (old: string, i: number) => string) => b.rows.map((r, i) => (i === index || index === -1 ? r.map((v, c) => (b.header[c] === b.text ? value(v, i) : v)) : r))
+
 /**
  * Mutations of a valid file: what a broken export, a wrong save dialog or a hostile sender produces,
- * with what the import must then say: `accept` = lands (with skip-bad), else the pattern of the problem.
+ * with what the import must then say: `accept` = lands (with skip-bad) with `imported` rows, else the
+ * pattern of the problem; `check` adds what the mutation's own rule requires.
  */
-const MUTATIONS: Record<string, { mutate: (text: string, rnd: number) => string | Buffer; expect: 'accept' | 'any' | RegExp; runs?: number }> = {
-  truncated: { mutate: (t, r) => t.slice(0, Math.floor(r * t.length)), expect: 'any', runs: 40 },
-  'truncated inside a quote': { mutate: (t) => t + 'p9,"unclosed role\nstill going', expect: /:6: not valid CSV: Quote Not Closed/ },
-  'UTF-16LE with BOM': { mutate: (t) => Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(t, 'utf16le')]), expect: /:1: not valid UTF-8 text/ },
-  'UTF-16LE without BOM': { mutate: (t) => Buffer.from(t, 'utf16le'), expect: /:1: mostly NUL bytes: .*UTF-16/ },
-  'Latin-1 bytes': { mutate: (t) => Buffer.from(t.replace(/analyst/g, 'analysté'), 'latin1'), expect: /:2: not valid UTF-8 text/ },
+const MUTATIONS: Record<
+  string,
+  { mutate: (b: Base, rnd: number) => string | Buffer; expect: 'accept' | 'any' | ((b: Base) => RegExp); imported?: number; runs?: number; check?: (res: ReturnType<typeof importTableFile>, b: Base, rnd: number) => void }
+> = {
+  truncated: {
+    mutate: (b, r) => baseText(b).slice(0, Math.floor(r * baseText(b).length)),
+    expect: 'any',
+    runs: 40,
+    check: (res, b, r) => {
+      const text = baseText(b)
+      const cut = Math.floor(r * text.length)
+      const prefix = text.slice(0, cut)
+      const headerEnd = text.indexOf('\n') + 1
+      // rows whose line break is before the cut are complete (no base row spans two lines)
+      const complete = prefix.slice(headerEnd).split('\n').length - 1
+      const partial = cut >= headerEnd && !prefix.endsWith('\n')
+      if (cut < headerEnd) expect(res.imported).toBe(0)
+      else if ((prefix.match(/"/g)?.length ?? 0) % 2 === 1) {
+        // cut inside a quoted field: an unclosed quote refuses the file (readCsv), at the cut row or later
+        expect(res.refused).toBe(true)
+        expect(res.problems.map(formatProblem).join('\n')).toMatch(/not valid CSV: Quote Not Closed/)
+        expect(res.problems[0]!.line).toBeGreaterThanOrEqual(complete + 2)
+      } else {
+        // every complete row lands; the cut row lands if it is still valid, else it is reported at its line
+        expect(res.refused).toBe(false)
+        expect(res.read).toBe(complete + (partial ? 1 : 0))
+        expect(res.imported).toBeGreaterThanOrEqual(complete)
+        expect(res.problems.filter((p) => p.line !== complete + 2)).toEqual([])
+      }
+    },
+  },
+  'truncated inside a quote': { mutate: (b) => baseText(b) + 'x9,"unclosed value\nstill going', expect: () => /:6: not valid CSV: Quote Not Closed/ },
+  'UTF-16LE with BOM': { mutate: (b) => Buffer.concat([Buffer.from([0xff, 0xfe]), Buffer.from(baseText(b), 'utf16le')]), expect: () => /:1: not valid UTF-8 text/ },
+  'UTF-16LE without BOM': { mutate: (b) => Buffer.from(baseText(b), 'utf16le'), expect: () => /:1: mostly NUL bytes: .*UTF-16/ },
+  'Latin-1 bytes': { mutate: (b) => Buffer.from(csvText(b.header, withText(b, 0, (v) => `${v}é`)), 'latin1'), expect: () => /:2: not valid UTF-8 text/ },
   'invalid UTF-8 spliced in': {
-    mutate: (t, r) => Buffer.concat([Buffer.from(t.slice(0, Math.floor(r * t.length))), Buffer.from([0xc3, 0x28, 0xff, 0x1b]), Buffer.from(t.slice(Math.floor(r * t.length)))]),
-    expect: /not valid UTF-8 text/,
+    mutate: (b, r) => {
+      const t = baseText(b)
+      return Buffer.concat([Buffer.from(t.slice(0, Math.floor(r * t.length))), Buffer.from([0xc3, 0x28, 0xff, 0x1b]), Buffer.from(t.slice(Math.floor(r * t.length)))])
+    },
+    expect: () => /not valid UTF-8 text/,
     runs: 25,
   },
-  'a NUL byte in one field': { mutate: (t) => t.replace('north', 'no\u0000rth'), expect: /:2: column team: contains control characters/ },
-  'CRLF line ends': { mutate: (t) => t.replace(/\n/g, '\r\n'), expect: 'accept' },
-  'lone CR line ends': { mutate: (t) => t.replace(/\n/g, '\r'), expect: 'accept' },
-  'huge field (4 MB)': { mutate: (t) => t + `p-huge,${'r'.repeat(4 * 1024 * 1024)},team\n`, expect: /:5: column role: is longer than 200 characters/ },
-  '20,000 columns': { mutate: (t) => t + Array.from({ length: 20_000 }, (_, i) => `c${i}`).join(',') + '\n', expect: /:5: expected 3 fields, found 20000/ },
-  'header only': { mutate: (t) => t.split('\n')[0]! + '\n', expect: 'accept' },
-  'BOM then header': { mutate: (t) => '\ufeff' + t, expect: 'accept' },
-  'empty file': { mutate: () => '', expect: /:1: empty file/ },
-  'only blank lines': { mutate: () => '\n\n\r\n\n', expect: /:1: (empty file|column person_id, role: missing required column)/ },
-  'header of a different kind': { mutate: () => 'item_id,skill_id,a,b,c\ni1,sql,1,0,\n', expect: /:1: column person_id, role: missing required column/ },
-  'formula cells everywhere': { mutate: (t) => t.replace(/^([^,\n]+),/gm, (_m, first: string) => `${first},=cmd|' /C calc'!A0,`), expect: 'accept' },
+  'a NUL byte in one field': { mutate: (b) => csvText(b.header, withText(b, 0, (v) => `${v.slice(0, 1)}\u0000${v.slice(1)}`)), expect: (b) => new RegExp(`:2: column ${b.text}: contains control characters`) },
+  'control characters in every text field': {
+    mutate: (b) => csvText(b.header, withText(b, -1, (v) => `${v}\u0007\u001b[2J`)),
+    expect: (b) => new RegExp(`^(.*:[234]: column ${b.text}: contains control characters\\n?){3}$`),
+  },
+  'CRLF line ends': { mutate: (b) => baseText(b).replace(/\n/g, '\r\n'), expect: 'accept', imported: 3 },
+  'lone CR line ends': { mutate: (b) => baseText(b).replace(/\n/g, '\r'), expect: 'accept', imported: 3 },
+  'blank lines, then a bad row': {
+    // header 1, blank 2-3, rows 4-6, blank 7-8, the bad row at 9
+    mutate: (b) => {
+      const lines = baseText(b).trimEnd().split('\n')
+      return [lines[0], '', '', ...lines.slice(1), '', '', withText(b, 0, () => '')[0]!.map(csvCell).join(',')].join('\n') + '\n'
+    },
+    expect: (b) => new RegExp(`:9: column ${b.text}: is empty`),
+    check: (res) => expect(res).toMatchObject({ refused: false, imported: 3, skipped: 1 }),
+  },
+  [`huge field (4 MB)`]: {
+    mutate: (b) => baseText(b) + withText(b, 0, () => 'r'.repeat(4 * 1024 * 1024))[0]!.map((v, c) => (c === 0 ? `${v}-huge` : v)).join(',') + '\n',
+    expect: (b) => new RegExp(`:5: column ${b.text}: is longer than ${b.max} characters`),
+    check: (res) => expect(res).toMatchObject({ refused: false, imported: 3, skipped: 1 }),
+  },
+  '20,000 columns': { mutate: (b) => baseText(b) + Array.from({ length: 20_000 }, (_, i) => `c${i}`).join(',') + '\n', expect: (b) => new RegExp(`:5: expected ${b.header.length} fields, found 20000`) },
+  'header only': { mutate: (b) => b.header.join(',') + '\n', expect: 'accept', imported: 0 },
+  'BOM then header': { mutate: (b) => '\ufeff' + baseText(b), expect: 'accept', imported: 3 },
+  'empty file': { mutate: () => '', expect: () => /:1: empty file/ },
+  'only blank lines': { mutate: () => '\n\n\r\n\n', expect: (b) => new RegExp(`:1: (empty file|column ${tableColumns(b.kind).required.join(', ')}: missing required column)`) },
+  'header of a different kind': {
+    mutate: (b) => baseText({ kind: b.kind, ...BASES[b.kind === 'items' ? 'people' : 'items'] }),
+    expect: (b) => {
+      const other = BASES[b.kind === 'items' ? 'people' : 'items'].header
+      return new RegExp(`:1: column ${tableColumns(b.kind).required.filter((c) => !other.includes(c)).join(', ')}: missing required column`)
+    },
+  },
+  'formula cells everywhere': { mutate: (b) => csvText(b.header, withText(b, -1, (_v, i) => `=cmd|' /C calc'!A${i}`)), expect: 'accept', imported: 3 },
   // RFC 4180 forbids a quote inside an unquoted field; the parser refuses the file at that line
-  'a quote in the middle of a field': { mutate: (t) => t.replace(/analyst/g, 'ana"lyst'), expect: /:2: not valid CSV: Invalid Opening Quote/ },
+  'a quote in the middle of a field': {
+    mutate: (b) => [b.header.join(','), ...withText(b, 0, (v) => `${v.slice(0, 1)}"${v.slice(1)}`).map((r, i) => (i === 0 ? r.join(',') : r.map(csvCell).join(',')))].join('\n') + '\n',
+    expect: () => /:2: not valid CSV: Invalid Opening Quote/,
+  },
   'binary garbage': {
-    mutate: (_t, r) => Buffer.from(Array.from({ length: 512 }, (_, i) => Math.floor(Math.abs(Math.sin(r * 1000 + i)) * 256))),
+    mutate: (_b, r) => Buffer.from(Array.from({ length: 512 }, (_, i) => Math.floor(Math.abs(Math.sin(r * 1000 + i)) * 256))),
     expect: 'any',
     runs: 25,
   },
 }
 
 describe('table import files under mutation: no crash, no hang, a clear error', () => {
-  const base = 'person_id,role,team\np1,analyst,north\np2,"engineer, senior",south\np3,analyst,\n'
-  for (const [name, { mutate, expect: expected, runs }] of Object.entries(MUTATIONS)) {
-    it(name, () => {
-      fc.assert(
-        fc.property(fc.double({ min: 0, max: 1, noNaN: true }), (r) => {
-          const file = path.join(tmp, `people-${name.replace(/\W+/g, '-')}.csv`)
-          fs.writeFileSync(file, mutate(base, r))
-          const db = freshDb()
-          const before = contentHash(db)
-          let result: ReturnType<typeof importTableFile> | undefined
-          expect(() => (result = importTableFile(db, 'people', file, { skipBad: true }))).not.toThrow()
-          const res = result!
-          const messages = res.problems.map(formatProblem)
-          if (expected === 'accept') expect(res).toMatchObject({ refused: false, problems: expect.any(Array) })
-          else if (expected instanceof RegExp) expect(messages.join('\n')).toMatch(expected)
-          if (res.refused) {
-            // refused: a clear problem naming the file, and the database is untouched
-            expect(res.problems.length).toBeGreaterThan(0)
-            for (const p of res.problems) {
-              expect(p.file).toBe(file)
-              expect(p.reason.length).toBeGreaterThan(3)
-              expect(p.line).toBeGreaterThanOrEqual(0)
+  for (const kind of TABLE_KINDS) {
+    const base: Base = { kind, ...BASES[kind] }
+    const { table } = TABLE_OF[kind]
+    for (const [name, { mutate, expect: expected, imported, runs, check }] of Object.entries(MUTATIONS)) {
+      it(`${kind}: ${name}`, () => {
+        fc.assert(
+          fc.property(fc.double({ min: 0, max: 1, noNaN: true }), (r) => {
+            const file = path.join(tmp, `${kind}-${name.replace(/\W+/g, '-')}.csv`)
+            fs.writeFileSync(file, mutate(base, r))
+            const db = freshDb()
+            const before = contentHash(db)
+            const rowsBefore = count(db, table)
+            let result: ReturnType<typeof importTableFile> | undefined
+            expect(() => (result = importTableFile(db, kind, file, { skipBad: true }))).not.toThrow()
+            const res = result!
+            const messages = res.problems.map(formatProblem)
+            if (expected === 'accept') expect(res).toMatchObject({ refused: false, imported, skipped: 0 })
+            else if (expected !== 'any') expect(messages.join('\n')).toMatch(expected(base))
+            check?.(res, base, r)
+            if (res.refused) {
+              // refused: a clear problem naming the file, and the database is untouched
+              expect(res.problems.length).toBeGreaterThan(0)
+              for (const p of res.problems) {
+                expect(p.file).toBe(file)
+                expect(p.reason.length).toBeGreaterThan(3)
+                expect(p.line).toBeGreaterThanOrEqual(0)
+              }
+              expect(contentHash(db)).toBe(before)
+            } else {
+              expect(count(db, table) - rowsBefore).toBe(res.imported)
+              expect(res.imported + res.skipped).toBe(res.read)
             }
-            expect(contentHash(db)).toBe(before)
-          } else {
-            expect(count(db, 'people')).toBe(res.imported)
-            expect(res.imported + res.skipped).toBe(res.read)
-          }
-          db.close()
-        }),
-        { seed: 777, numRuns: runs ?? 1 },
-      )
-    })
+            db.close()
+          }),
+          { seed: 777 + TABLE_KINDS.indexOf(kind), numRuns: runs ?? 1 },
+        )
+      })
+    }
   }
 
   it('a huge field is refused by length, naming its line and column, and the good rows survive with skip-bad', () => {
