@@ -59,7 +59,15 @@ export async function withPipelineLock<T>(db: Db, fn: (lease: LockLease) => Prom
   const renew = (): void => {
     if (lost) return
     const now = Date.now()
-    if (renewLock(db, PIPELINE_LOCK, holder, leaseMs)) renewedUntil = now + leaseMs
+    let renewed: boolean
+    try {
+      renewed = renewLock(db, PIPELINE_LOCK, holder, leaseMs)
+    } catch {
+      // a busy or failing database: not renewed this time (the timer's next turn tries again; a
+      // database that stays broken fails the work itself, with its own message)
+      return
+    }
+    if (renewed) renewedUntil = now + leaseMs
     else lost = true
   }
   const timer = setInterval(renew, leaseMs / 3)

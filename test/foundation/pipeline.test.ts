@@ -1,3 +1,7 @@
+import fs from 'node:fs'
+import os from 'node:os'
+import path from 'node:path'
+import Database from 'better-sqlite3'
 import { describe, expect, it } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
 import { listRuns, lockHolder, tryLock } from '../../src/db/runs.ts'
@@ -92,6 +96,33 @@ describe('pipeline lock', () => {
     )
     // the release in `finally` removed nothing of the new holder's
     expect(lockHolder(db, PIPELINE_LOCK)).toMatchObject({ holder: 'other' })
+  })
+
+  it('a renewal that meets a busy database is skipped, not thrown from the timer, and renewal resumes', async () => {
+    const file = path.join(fs.mkdtempSync(path.join(os.tmpdir(), 'tides-lease-')), 'x.db')
+    const db = openDb(file)
+    const other = new Database(file)
+    try {
+      db.pragma('busy_timeout = 5')
+      const leaseMs = 90
+      await withPipelineLock(
+        db,
+        async (lease) => {
+          // another connection holds the write lock over several renewal turns
+          other.exec('BEGIN IMMEDIATE')
+          await new Promise((r) => setTimeout(r, 4 * leaseMs))
+          other.exec('COMMIT')
+          await new Promise((r) => setTimeout(r, leaseMs))
+          expect(lockHolder(db, PIPELINE_LOCK)!.expires_at).toBeGreaterThan(Date.now())
+          expect(() => lease.keep('stage fit')).not.toThrow()
+        },
+        0,
+        leaseMs,
+      )
+    } finally {
+      other.close()
+      db.close()
+    }
   })
 
   it('runPipeline keeps the lease before every stage: once taken over, no further stage runs', async () => {
