@@ -23,17 +23,25 @@ export interface CsvRow {
 
 export interface CsvReadResult {
   rows: CsvRow[]
-  /** bad rows (wrong number of fields) */
+  /** bad rows (wrong number of fields, a quote never closed) */
   problems: InputProblem[]
   /** notes that reject nothing (unknown columns are ignored) */
   warnings: InputProblem[]
-  /** a problem that stops the whole file (missing column, unclosed quote) */
+  /** a problem that stops the whole file (missing column, a header or quoting that does not parse) */
   fatal?: InputProblem
 }
 
 /**
  * Parses CSV text with a header row. Rows with the wrong number of fields become problems; the
- * other rows are kept. Missing required columns are fatal.
+ * other rows are kept. Missing required columns are fatal, and so is a header that does not parse.
+ * A quote left open (a file cut inside a quoted field) is a problem of the row it is in: the rows
+ * before it are kept. Other malformed quoting stops the file at the row where it occurs.
+ *
+ * Every line number is the physical line where the row starts, counting `\r\n`, `\r` and `\n` as one
+ * line break each (csv-parse's own count adds one for each `\r\n` inside a quoted field, so it is
+ * not used): row starts are found from the byte offsets csv-parse reports (`info.bytes`). Problems
+ * of the header itself (missing or unknown columns) name line 1, even after blank lines (callers
+ * tell the unknown-column warning from bad rows by that line).
  */
 export function readCsv(text: string, file: string, required: readonly string[], optional: readonly string[] = []): CsvReadResult {
   // many NULs mark UTF-16 without a byte-order mark, or a binary file (a stray one is a bad field)
@@ -41,18 +49,39 @@ export function readCsv(text: string, file: string, required: readonly string[],
   if (head.length > 0 && head.split('\u0000').length - 1 >= head.length / 4) {
     return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, reason: 'mostly NUL bytes: a binary file, or text saved as UTF-16; save it as UTF-8 CSV' } }
   }
-  let records: { record: string[]; info: { lines: number }; raw: string }[]
+  const bytes = Buffer.from(text)
+  const lines = new LineCounter(bytes)
+  // records are collected as they are parsed, so those before a parse error are kept
+  const records: { record: string[]; line: number }[] = []
+  let end = text.startsWith('\ufeff') ? 3 : 0 // byte offset where the last record ended
+  let parseError: (Error & { code?: string }) | undefined
   try {
-    records = parse(text, { info: true, raw: true, relax_column_count: true, bom: true, skip_empty_lines: true, trim: false }) as never
+    parse(bytes, {
+      relax_column_count: true,
+      bom: true,
+      skip_empty_lines: true,
+      trim: false,
+      on_record: (record: string[], context: { bytes: number }) => {
+        records.push({ record, line: lines.at(rowStart(bytes, end, context.bytes - 1)) })
+        end = context.bytes
+        return null
+      },
+    })
   } catch (err) {
-    const e = err as Error & { lines?: number }
-    return { rows: [], problems: [], warnings: [], fatal: { file, line: e.lines ?? 1, reason: `not valid CSV: ${e.message}` } }
+    parseError = err as Error & { code?: string }
   }
-  if (records.length === 0) return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, reason: 'empty file (a header row is required)' } }
+  const broken = parseError ? lines.at(rowStart(bytes, end, bytes.length)) : 0
+  if (records.length === 0) {
+    if (parseError) return { rows: [], problems: [], warnings: [], fatal: { file, line: broken, reason: parseReason(parseError, bytes, end, lines, null) } }
+    return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, reason: 'empty file (a header row is required)' } }
+  }
   const header = records[0]!.record.map((h) => h.trim())
   const missing = required.filter((c) => !header.includes(c))
   if (missing.length) {
     return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, column: missing.join(', '), reason: `missing required column(s); header has: ${header.join(', ')}` } }
+  }
+  if (parseError && parseError.code !== 'CSV_QUOTE_NOT_CLOSED') {
+    return { rows: [], problems: [], warnings: [], fatal: { file, line: broken, reason: parseReason(parseError, bytes, end, lines, header) } }
   }
   const known = new Set([...required, ...optional])
   const unknown = header.filter((h) => !known.has(h))
@@ -60,9 +89,7 @@ export function readCsv(text: string, file: string, required: readonly string[],
   const warnings: InputProblem[] = []
   if (unknown.length) warnings.push({ file, line: 1, column: unknown.join(', '), reason: 'unknown column(s) ignored' })
   const rows: CsvRow[] = []
-  for (const { record, info, raw } of records.slice(1)) {
-    // info.lines is the record's last line; its raw text also holds the blank lines skipped before it
-    const line = info.lines - (raw.replace(/^[\r\n]+/, '').replace(/\r?\n$/, '').split('\n').length - 1)
+  for (const { record, line } of records.slice(1)) {
     if (record.length !== header.length) {
       problems.push({ file, line, reason: `expected ${header.length} fields, found ${record.length}` })
       continue
@@ -71,7 +98,69 @@ export function readCsv(text: string, file: string, required: readonly string[],
     header.forEach((h, i) => (values[h] = record[i]!))
     rows.push({ line, values })
   }
+  // the unclosed quote runs to the end of the file, so its row is the last
+  if (parseError) problems.push({ file, line: broken, reason: parseReason(parseError, bytes, end, lines, header) })
   return { rows, problems, warnings }
+}
+
+const CR = 0x0d
+const LF = 0x0a
+const QUOTE = 0x22
+const COMMA = 0x2c
+
+/**
+ * Where a row starts: after the blank lines that csv-parse skipped between the previous record's
+ * end and this one, but not past `limit` (a record of a lone `\r` in a `\n` file is content).
+ */
+function rowStart(bytes: Buffer, from: number, limit: number): number {
+  let at = from
+  while (at < limit && (bytes[at] === CR || bytes[at] === LF)) at++
+  return at
+}
+
+/** Physical line numbers of byte offsets, asked for in increasing order (one pass over the text). */
+class LineCounter {
+  private offset = 0
+  private line = 1
+  constructor(private readonly bytes: Buffer) {}
+  /** the 1-based line of the byte at `offset`: `\r\n`, lone `\r` and `\n` each end a line */
+  at(offset: number): number {
+    const b = this.bytes
+    if (offset < this.offset) throw new Error('LineCounter offsets must not decrease')
+    for (let i = this.offset; i < offset; i++) {
+      if (b[i] === LF || (b[i] === CR && b[i + 1] !== LF)) this.line++
+    }
+    this.offset = offset
+    return this.line
+  }
+}
+
+/** A parse error's reason; for an unclosed quote, where the quote opens and in which field. */
+function parseReason(err: Error & { code?: string }, bytes: Buffer, end: number, lines: LineCounter, header: string[] | null): string {
+  if (err.code !== 'CSV_QUOTE_NOT_CLOSED') return `not valid CSV: ${err.message.replace(/ at line \d+/, '')}`
+  // walk the broken row as csv-parse did (it reached the end of the text inside a quoted field)
+  let field = 0
+  let opened = -1
+  let quoted = false
+  let fieldStart = true
+  for (let i = rowStart(bytes, end, bytes.length); i < bytes.length; i++) {
+    const b = bytes[i]
+    if (quoted) {
+      if (b === QUOTE) {
+        if (bytes[i + 1] === QUOTE) i++
+        else quoted = false
+      }
+      continue
+    }
+    if (b === QUOTE && fieldStart) {
+      quoted = true
+      opened = i
+    } else if (b === COMMA) field++
+    fieldStart = b === COMMA
+  }
+  const name = header?.[field] ? ` (${header[field]})` : ''
+  const where = opened >= 0 ? ` on line ${lines.at(opened)}` : ''
+  return `not valid CSV: Quote Not Closed: field ${field + 1}${name} opens a quote${where} that is never closed (the file may be cut short)`
 }
 
 /** Cells that a spreadsheet would run as a formula get a leading apostrophe (OWASP CSV injection advice). */
