@@ -2,7 +2,8 @@
  * Whole-pipeline benchmark: the commands a user runs, each in its own process as `tides` would be,
  * on a synthetic corpus of N postings (about 2 KB of text each) over 60 months with the generated
  * 20,000-concept / 80,000-label taxonomy (bench/corpus.ts):
- *   tides import taxonomy TAXONOMY.csv   ->  tides import postings POSTINGS.jsonl  ->  tides run all
+ *   tides import taxonomy TAXONOMY.csv   ->  tides import postings POSTINGS.jsonl  ->
+ *   tides import people|roles|items|responses|abilities|courses (a workforce)  ->  tides run all
  * then an incremental run after 10,000 new postings (import + run all). The first run goes stage by
  * stage (`tides run STAGE --only`, one process each, in pipeline order: what `run all` does, plus a
  * process start per stage), so that every stage has its own time and peak RSS. Per stage: time,
@@ -20,7 +21,8 @@
  * Sizes: env BENCH_N, comma-separated (default "10000,100000", a 10x step that finishes in a few
  * minutes). The issue's sizes, N = 100,000 and 1,000,000, are opt-in because the 1M corpus is 2.3 GB
  * and the run takes long on 2 cores: `BENCH_N=100000,1000000 npm run bench -- pipeline`.
- * BENCH_MONTHS (default 60), BENCH_INCREMENT (default 10000), BENCH_SCALED (default 10; 0: no
+ * BENCH_MONTHS (default 60), BENCH_INCREMENT (default 10000), BENCH_PEOPLE (default 20000, the
+ * workforce's people; 0: none), BENCH_SCALED (default 10; 0: no
  * scaled fit), BENCH_KEEP=1 keeps each run's database
  * in bench/.work/pipeline-N/ (the corpus files are kept and reused either way).
  * Standalone: `npx tsx bench/pipeline.ts`.
@@ -38,6 +40,7 @@ import { openDb, type Db } from '../src/db/connection.ts'
 import { DEFAULT_CURVES_CONFIG } from '../src/curves/config.ts'
 import { fitAll } from '../src/curves/fit-all.ts'
 import { demandInputs } from '../src/curves/stage.ts'
+import { DEMO_TABLES, generateDemo, type DemoManifest } from '../src/demo/generate.ts'
 import { reportBench, type Figure } from './report.ts'
 import { cliArgs } from '../bin/bundle.js'
 
@@ -52,6 +55,8 @@ const MONTHS = Number(process.env['BENCH_MONTHS'] ?? 60)
 const INCREMENT = Number(process.env['BENCH_INCREMENT'] ?? 10_000)
 /** the largest size's demand is also fitted with every count multiplied by this (scaledDemandFit; 0: not) */
 const SCALED_FACTOR = Number(process.env['BENCH_SCALED'] ?? 10)
+/** people of the workforce imported before the run (the demo generator's tables; 0: none) */
+const PEOPLE = Number(process.env['BENCH_PEOPLE'] ?? 20_000)
 
 const log = (m: string) => process.stderr.write(m + '\n')
 
@@ -115,6 +120,8 @@ interface SizeResult {
   endToEnd: number
   peakMiB: number
   incremental?: { importStep: Step; runStep: Step; seconds: number; mapped: number; stages: Map<string, Outcome> }
+  /** the workforce tables' import (every kind, one process each), and what they hold */
+  workforce?: { seconds: number; peakMiB: number; people: number; responses: number }
   /** the fit stage on copies of this size's demand, counts as they are and multiplied (scaledDemandFit) */
   scaledFit?: { factor: number; base: Outcome; scaled: Outcome }
   /** the fit's analysis of a fixed set of skills in this database (see sameSkillsFit) */
@@ -252,6 +259,20 @@ async function scaledDemandFit(db: string, dir: string, factor: number): Promise
   return outcome
 }
 
+/**
+ * The workforce every size imports: the demo generator's people, roles, item banks, responses,
+ * imported abilities and courses for PEOPLE people (its skills are the shipped taxonomy's, which the
+ * bench taxonomy contains), written once to bench/.work/workforce-PEOPLE and reused.
+ */
+function ensureWorkforce(people: number): { dir: string; manifest: DemoManifest } {
+  const dir = path.join(WORK_DIR, `workforce-${people}`)
+  const manifestFile = path.join(dir, 'demo', 'manifest.json')
+  if (fs.existsSync(manifestFile)) return { dir, manifest: JSON.parse(fs.readFileSync(manifestFile, 'utf8')) as DemoManifest }
+  log(`generating the workforce of ${people.toLocaleString('en-GB')} people -> ${dir}`)
+  // the postings and requests the generator also writes are few and not imported
+  return { dir, manifest: generateDemo(dir, { seed: 7, months: 12, perMonth: 20, people, feedPageSize: 4000, asOf: '2024-12-31' }) }
+}
+
 /** One size's runs; `sameSkillIds`: the skills the smallest size's fit tested (null at that size). */
 async function runSize(n: number, sameSkillIds: readonly string[] | null): Promise<SizeResult> {
   log(`\npipeline N=${n.toLocaleString('en-GB')}, ${MONTHS} months`)
@@ -267,6 +288,17 @@ async function runSize(n: number, sameSkillIds: readonly string[] | null): Promi
   const taxonomy = await tides(config, ['import', 'taxonomy', corpus.taxonomyFile])
   log('  import postings')
   const ingest = await tides(config, ['import', 'postings', corpus.postingsFile])
+  let workforce: SizeResult['workforce']
+  if (PEOPLE > 0) {
+    log(`  import the workforce (${PEOPLE.toLocaleString('en-GB')} people)`)
+    const { dir: source, manifest } = ensureWorkforce(PEOPLE)
+    workforce = { seconds: 0, peakMiB: 0, people: manifest.counts.people, responses: manifest.counts.responses }
+    for (const kind of DEMO_TABLES) {
+      const step = await tides(config, ['import', kind, path.join(source, manifest.tables[kind])])
+      workforce.seconds += step.seconds
+      workforce.peakMiB = Math.max(workforce.peakMiB, step.peakMiB)
+    }
+  }
   log('  run all, stage by stage')
   const outcomes: Outcome[] = []
   const stageRss = new Map<string, number>()
@@ -289,8 +321,9 @@ async function runSize(n: number, sameSkillIds: readonly string[] | null): Promi
     stages,
     stageRss,
     ...storage,
-    endToEnd: taxonomy.seconds + ingest.seconds + runAll.seconds,
-    peakMiB: Math.max(taxonomy.peakMiB, ingest.peakMiB, runAll.peakMiB),
+    workforce,
+    endToEnd: taxonomy.seconds + ingest.seconds + (workforce?.seconds ?? 0) + runAll.seconds,
+    peakMiB: Math.max(taxonomy.peakMiB, ingest.peakMiB, workforce?.peakMiB ?? 0, runAll.peakMiB),
     planted: plantedAgreement(db, corpus.trends),
     curves: count(db, 'SELECT COUNT(*) AS n FROM curves'),
   }
@@ -346,6 +379,10 @@ function stageFigures(r: SizeResult, limits: { tokenise: number; insert: number 
   figures.push({ figure: `${tag} ingest vs raw SQLite insert rate`, value: docsPerS / limits.insert, unit: 'ratio' })
   figures.push({ figure: `${tag} ingest peak RSS`, value: r.ingest.peakMiB, unit: 'MiB' })
   figures.push({ figure: `${tag} taxonomy import`, value: r.taxonomy.seconds, unit: 's' })
+  if (r.workforce) {
+    figures.push({ figure: `${tag} workforce import (${r.workforce.people.toLocaleString('en-GB')} people, ${r.workforce.responses.toLocaleString('en-GB')} responses)`, value: r.workforce.seconds, unit: 's' })
+    figures.push({ figure: `${tag} workforce import peak RSS`, value: r.workforce.peakMiB, unit: 'MiB' })
+  }
   for (const [name, o] of r.stages) {
     if (o.ms < 1) continue // a stage with nothing to do (no sources, no assessments)
     figures.push({ figure: `${tag} run all: ${name}`, value: o.ms / 1000, unit: 's' })
@@ -361,6 +398,8 @@ function stageFigures(r: SizeResult, limits: { tokenise: number; insert: number 
       figures.push({ figure: `${tag} map rows/s vs raw SQLite insert rate`, value: rowsPerS / limits.insert, unit: 'ratio' })
     }
     if (name === 'fit' && o.ms > 0 && r.curves > 0) figures.push({ figure: `${tag} fit throughput`, value: r.curves / (o.ms / 1000), unit: 'skills/s' })
+    // each response is one person's answer to one item: people x items answered per second
+    if (name === 'ability' && r.workforce) figures.push({ figure: `${tag} ability throughput`, value: r.workforce.responses / (o.ms / 1000), unit: 'people x items/s' })
   }
   figures.push({ figure: `${tag} run all (one process per stage)`, value: r.runAll.seconds, unit: 's' })
   figures.push({ figure: `${tag} run all peak RSS`, value: r.runAll.peakMiB, unit: 'MiB' })
