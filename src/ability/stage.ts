@@ -3,7 +3,9 @@
  * The ability stage: item calibration (with --calibrate), ability estimates per person and skill,
  * and coverage of role requirements. Reads items, responses, abilities, people and roles; writes
  * items' calibrated parameters, abilities of origin 'estimate' and the coverage table in one
- * transaction, and emits `ability.updated`.
+ * transaction, and emits `ability.updated`. Skips its work (no write, no event) when none of those
+ * inputs (the `ability_inputs` counter of migration 12), the UTC day of `now` and its config section
+ * changed since its last successful run, unless --calibrate or --rebuild is given.
  *
  * Metric: everything estimated here is on a θ scale where the assessed population is N(0, 1)
  * (the configured prior), unless anchor items with imported parameters set the metric. A Rasch
@@ -15,7 +17,9 @@
 import type { Stage, StageContext, StageResult } from '../stage.ts'
 import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
+import crypto from 'node:crypto'
 import * as store from '../db/ability.ts'
+import { readAbilityInputs } from '../db/workforce.ts'
 import { emit } from '../events/outbox.ts'
 import { calibrate, type CalibrationResult } from './calibrate.ts'
 import { estimateAbilities, fallbackNote } from './estimate.ts'
@@ -26,6 +30,8 @@ import { buildCoverage } from './coverage-table.ts'
 
 export interface AbilityRunOptions {
   calibrate?: boolean
+  /** recompute even when the inputs are unchanged (e.g. after editing the database by hand) */
+  rebuild?: boolean
   /** the moment staleness is judged at (default: now) */
   now?: Date
   log?: (message: string) => void
@@ -82,6 +88,19 @@ export function runAbility(db: Db, config: Config, options: AbilityRunOptions = 
   const log = options.log ?? (() => {})
   const now = options.now ?? new Date()
   const quadrature = { points: cfg.quadraturePoints }
+
+  // ---- skip when nothing read below changed since the last successful run (migration 12)
+  const day = now.toISOString().slice(0, 10)
+  const configHash = crypto.createHash('sha256').update(JSON.stringify(cfg)).digest('hex')
+  if (!options.calibrate && !options.rebuild) {
+    const mark = store.readStageMark(db, 'ability')
+    if (mark && mark.inputs === readAbilityInputs(db) && mark.day === day && mark.configHash === configHash) {
+      return {
+        summary: `inputs unchanged since the last run at ${mark.updatedAt}: abilities and coverage kept`,
+        counts: { ...mark.counts, skipped: 1 },
+      }
+    }
+  }
 
   const items = store.readItems(db)
   const responses = store.readLatestResponses(db)
@@ -199,6 +218,19 @@ export function runAbility(db: Db, config: Config, options: AbilityRunOptions = 
   const stale = coverage.byRole.reduce((s, row) => s + row.stale, 0)
   const unknown = coverage.byRole.reduce((s, row) => s + row.unknown, 0)
 
+  const counts = {
+    items: items.length,
+    responses: responses.length,
+    estimated: estimates.length,
+    fallbacks,
+    imported: imported.length,
+    calibrated,
+    calibrationProblems,
+    itemsWithoutParameters: withoutParameters,
+    coverageRows: coverage.byRole.length,
+    unknown,
+    stale,
+  }
   db.transaction(() => {
     store.writeCalibration(db, calibrationUpdates)
     store.replaceEstimatedAbilities(db, estimates)
@@ -213,6 +245,8 @@ export function runAbility(db: Db, config: Config, options: AbilityRunOptions = 
       unknown,
       stale,
     })
+    // read after the writes above, so that they never make the next run recompute
+    store.writeStageMark(db, 'ability', { inputs: readAbilityInputs(db), day, configHash, counts, updatedAt: new Date().toISOString() })
   })()
 
   const parts = [
@@ -223,19 +257,7 @@ export function runAbility(db: Db, config: Config, options: AbilityRunOptions = 
   if (withoutParameters > 0) parts.push(`${withoutParameters} items without parameters`)
   return {
     summary: parts.join('; '),
-    counts: {
-      items: items.length,
-      responses: responses.length,
-      estimated: estimates.length,
-      fallbacks,
-      imported: imported.length,
-      calibrated,
-      calibrationProblems,
-      itemsWithoutParameters: withoutParameters,
-      coverageRows: coverage.byRole.length,
-      unknown,
-      stale,
-    },
+    counts,
     status: calibrationProblems > 0 ? 'partial' : 'ok',
   }
 }
@@ -252,6 +274,6 @@ export const abilityStage: Stage = {
   description: 'ability estimates from assessment responses (IRT), item calibration with --calibrate, and skill coverage of role requirements',
   subscribesTo: [],
   async run(ctx: StageContext): Promise<StageResult> {
-    return runAbility(ctx.db, ctx.config, { calibrate: ctx.options['calibrate'] === true, now: nowOption(ctx.options['now']), log: ctx.log })
+    return runAbility(ctx.db, ctx.config, { calibrate: ctx.options['calibrate'] === true, rebuild: ctx.options['rebuild'] === true, now: nowOption(ctx.options['now']), log: ctx.log })
   },
 }

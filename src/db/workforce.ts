@@ -1,6 +1,8 @@
 /**
  * @module db/workforce
- * Storage of imported people, roles, items, responses, abilities and courses.
+ * Storage of imported people, roles, items, responses, abilities and courses. Every write of
+ * people, roles, items, responses and imported abilities moves the `ability_inputs` counter on
+ * (migration 12), in the caller's transaction, so that the ability stage sees its inputs changed.
  */
 import type Database from 'better-sqlite3'
 import type { Db } from './connection.ts'
@@ -20,14 +22,26 @@ export interface CourseRow {
   owner: string
 }
 
+/** Move the ability stage's input counter on (once per import batch; see migration 12). */
+export function bumpAbilityInputs(db: Db): void {
+  db.prepare("UPDATE change_counters SET value = value + 1 WHERE name = 'ability_inputs'").run()
+}
+
+/** The ability stage's input counter (see migration 12). */
+export function readAbilityInputs(db: Db): number {
+  return (db.prepare("SELECT value FROM change_counters WHERE name = 'ability_inputs'").get() as { value: number }).value
+}
+
 export function upsertPeople(db: Db, rows: readonly PersonRow[]): void {
   const st = db.prepare('INSERT INTO people(person_id, role, team) VALUES (@person_id, @role, @team) ON CONFLICT(person_id) DO UPDATE SET role = excluded.role, team = excluded.team')
   for (const r of rows) st.run(r)
+  if (rows.length > 0) bumpAbilityInputs(db)
 }
 
 export function upsertRoles(db: Db, rows: readonly RoleRow[]): void {
   const st = db.prepare('INSERT INTO roles(role, skill_id, required_theta) VALUES (@role, @skill_id, @required_theta) ON CONFLICT(role, skill_id) DO UPDATE SET required_theta = excluded.required_theta')
   for (const r of rows) st.run(r)
+  if (rows.length > 0) bumpAbilityInputs(db)
 }
 
 export function upsertItems(db: Db, rows: readonly ItemRow[]): void {
@@ -35,6 +49,7 @@ export function upsertItems(db: Db, rows: readonly ItemRow[]): void {
     "INSERT INTO items(item_id, skill_id, a, b, c, origin) VALUES (@item_id, @skill_id, @a, @b, @c, 'import') ON CONFLICT(item_id) DO UPDATE SET skill_id = excluded.skill_id, a = excluded.a, b = excluded.b, c = excluded.c, origin = 'import'",
   )
   for (const r of rows) st.run(r)
+  if (rows.length > 0) bumpAbilityInputs(db)
 }
 
 const itemLookups = new WeakMap<Db, Database.Statement>()
@@ -49,6 +64,7 @@ export function itemExists(db: Db, itemId: string): boolean {
 export function upsertResponses(db: Db, rows: readonly ResponseRow[]): void {
   const st = db.prepare('INSERT INTO responses(person_id, item_id, response, taken_at) VALUES (@person_id, @item_id, @response, @taken_at) ON CONFLICT DO UPDATE SET response = excluded.response')
   for (const r of rows) st.run(r)
+  if (rows.length > 0) bumpAbilityInputs(db)
 }
 
 export function upsertImportedAbilities(db: Db, rows: readonly AbilityRow[]): void {
@@ -56,6 +72,7 @@ export function upsertImportedAbilities(db: Db, rows: readonly AbilityRow[]): vo
     "INSERT INTO abilities(person_id, skill_id, origin, theta, se, assessed_at, method) VALUES (@person_id, @skill_id, 'import', @theta, @se, @assessed_at, 'imported') ON CONFLICT(person_id, skill_id, origin) DO UPDATE SET theta = excluded.theta, se = excluded.se, assessed_at = excluded.assessed_at WHERE excluded.assessed_at >= abilities.assessed_at",
   )
   for (const r of rows) st.run(r)
+  if (rows.length > 0) bumpAbilityInputs(db)
 }
 
 export function upsertCourses(db: Db, rows: readonly CourseRow[]): void {
