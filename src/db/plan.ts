@@ -5,6 +5,7 @@
  */
 import type { Db } from './connection.ts'
 import { readConceptLabelList, type CurveRow } from './curves.ts'
+import { decodeCodes } from './mention-lists.ts'
 
 /** A row of the curves table as the plan stage reads it. */
 export type CurveRecord = Omit<CurveRow, 'forecast_method' | 'change_month' | 'emerged_month'>
@@ -143,22 +144,35 @@ export interface DocumentConcepts {
 }
 
 /**
- * Distinct documents of a kind with their directly mentioned concepts, in id order.
+ * Distinct documents of a kind with their directly mentioned concepts (in concept id order), in id
+ * order. The concepts come from `mention_lists` (one short row per document, db/mention-lists.ts),
+ * decoded here: a JSON array built by SQLite from each document's mention rows took 3.4 s for the
+ * 400,000 postings of a 24-month window at a million postings, this 2.3 s (same lists).
  * @param sinceMonth first month to include ('YYYY-MM'), or null for all
+ * @param keep which documents to return, by title and occupation (the others are skipped unread)
  */
-export function readDocumentConcepts(db: Db, kind: 'posting' | 'request', sinceMonth: string | null = null): DocumentConcepts[] {
-  // one row per document with its concepts as a JSON array (the mentions' primary-key range, in
-  // concept order): a row per mention cost about twice as much on the JavaScript side
+export function readDocumentConcepts(
+  db: Db,
+  kind: 'posting' | 'request',
+  sinceMonth: string | null = null,
+  keep: (title: string, occupation: string | null) => boolean = () => true,
+): DocumentConcepts[] {
+  const byCode: string[] = []
+  for (const [code, id] of db.prepare('SELECT code, concept_id FROM concept_codes').raw().all() as [number, string][]) byCode[code] = id
   const rows = db
     .prepare(
-      `SELECT d.id, d.month, d.title, d.occupation,
-              (SELECT json_group_array(m.concept_id) FROM mentions m WHERE m.document_id = d.id AND m.via <> 'rollup') AS concepts
-       FROM documents d WHERE d.kind = ? AND d.duplicate_of IS NULL AND d.month >= ? ORDER BY d.id`,
+      `SELECT d.id, d.month, d.title, d.occupation, l.codes
+       FROM documents d LEFT JOIN mention_lists l ON l.kind = d.kind AND l.month = d.month AND l.document_id = d.id
+       WHERE d.kind = ? AND d.duplicate_of IS NULL AND d.month >= ? ORDER BY d.id`,
     )
     .raw()
-    .iterate(kind, sinceMonth ?? '') as IterableIterator<[number, string, string, string | null, string]>
+    .iterate(kind, sinceMonth ?? '') as IterableIterator<[number, string, string, string | null, Buffer | null]>
   const out: DocumentConcepts[] = []
-  for (const [id, month, title, occupation, concepts] of rows) out.push({ id, month, title, occupation, concepts: JSON.parse(concepts) as string[] })
+  for (const [id, month, title, occupation, codes] of rows) {
+    if (!keep(title, occupation)) continue
+    const concepts = codes ? decodeCodes(codes).map((code) => byCode[code]!) : []
+    out.push({ id, month, title, occupation, concepts })
+  }
   return out
 }
 

@@ -15,7 +15,7 @@ import { RISING_STATES, readSkillCurve, type SkillCurve } from './curve-model.ts
 import { rankNeeds, scoreNeed, type NeedInput, type PullInput, type RankedNeed } from './needs.ts'
 import { buildPathways, findCandidates, pathwaySkills, type CandidateGroup, type Pathway } from './pathways.ts'
 import { forecastTarget, type ForecastTarget, type QuarterForecast } from './reskilling-forecast.ts'
-import { addMonths, suggestRequirements, type RoleSuggestion } from './role-suggestions.ts'
+import { addMonths, anyRoleMatcher, suggestRequirements, type RoleSuggestion } from './role-suggestions.ts'
 
 export interface RoleNeed extends RankedNeed {
   role: string
@@ -137,8 +137,8 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
   const baseMonth = latestPosting ?? currentMonth(now)
   const adjacencyStart = cfg.adjacency.months > 0 && latestPosting ? addMonths(latestPosting, -(cfg.adjacency.months - 1)) : null
   const suggestionStart = latestPosting ? addMonths(latestPosting, -(2 * cfg.suggestions.recentMonths - 1)) : null
-  // the postings of the suggestion windows, with title and occupation: only when there are roles
-  const postings = roles.length > 0 ? store.readDocumentConcepts(db, 'posting', suggestionStart) : []
+  // the postings of the suggestion windows that match a role, with title and occupation
+  const postings = roles.length > 0 ? store.readDocumentConcepts(db, 'posting', suggestionStart, anyRoleMatcher(roles, cfg)) : []
 
   const suggestions = suggestRequirements({ roles, requirements: requirementSets, postings, latestMonth: latestPosting, curves, labels }, cfg)
   const suggestedBySkill = new Map<string, RoleSuggestion[]>()

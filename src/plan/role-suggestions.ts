@@ -64,6 +64,26 @@ export function roleMatcher(keywords: readonly string[]): (doc: Pick<DocumentCon
   }
 }
 
+/**
+ * Whether a document's title or occupation matches any of the roles (roleMatcher with each role's
+ * configured occupations), remembered per distinct title and occupation: postings repeat their
+ * titles, and only matching postings are read with their concepts.
+ */
+export function anyRoleMatcher(roles: readonly string[], cfg: Pick<PlanConfig, 'roleOccupations'>): (title: string, occupation: string | null) => boolean {
+  const matchers = roles.map((role) => roleMatcher(cfg.roleOccupations[role] ?? [role]))
+  const seen = new Map<string, boolean>()
+  return (title, occupation) => {
+    const key = `${title}\u0000${occupation ?? ''}`
+    let hit = seen.get(key)
+    if (hit === undefined) {
+      const doc = { title, occupation }
+      hit = matchers.some((matches) => matches(doc))
+      seen.set(key, hit)
+    }
+    return hit
+  }
+}
+
 /** One-sided p-value of p1 > p0 (null when the pooled share is 0 or 1). */
 export function twoProportionP(n1: number, total1: number, n0: number, total0: number): number | null {
   if (total1 <= 0 || total0 <= 0) return null

@@ -53,4 +53,23 @@ describe('reading the postings window for the plan', () => {
     expect(readConceptLists(db, 'posting', null, ['python'])).toHaveLength(5)
     expect(readConceptLists(db, 'request', null, null)).toEqual([['sql']])
   })
+
+  it('reads the same documents and lists as the direct mention rows give (the query it replaced), and skips what `keep` leaves out', () => {
+    const db = corpus()
+    const fromMentions = db
+      .prepare(
+        `SELECT d.id, d.month, d.title, d.occupation,
+                (SELECT json_group_array(m.concept_id) FROM mentions m WHERE m.document_id = d.id AND m.via <> 'rollup') AS concepts
+         FROM documents d WHERE d.kind = 'posting' AND d.duplicate_of IS NULL AND d.month >= '' ORDER BY d.id`,
+      )
+      .all() as { id: number; month: string; title: string; occupation: string | null; concepts: string }[]
+    expect(readDocumentConcepts(db, 'posting')).toEqual(fromMentions.map((r) => ({ ...r, concepts: JSON.parse(r.concepts) as string[] })))
+    const asked: string[] = []
+    const kept = readDocumentConcepts(db, 'posting', '2024-01', (title) => {
+      asked.push(title)
+      return title !== 'Role 1'
+    })
+    expect(asked).toEqual(['Role 1', 'Role 3', 'Role 4', 'Role 6'])
+    expect(kept.map((d) => d.title)).toEqual(['Role 3', 'Role 4', 'Role 6'])
+  })
 })

@@ -3,7 +3,7 @@ import type { DocumentConcepts } from '../../src/db/plan.ts'
 import { countCoOccurrence } from '../../src/plan/adjacency.ts'
 import type { SkillCurve } from '../../src/plan/curve-model.ts'
 import { buildPathways, findCandidates } from '../../src/plan/pathways.ts'
-import { addMonths, roleMatcher, suggestRequirements, twoProportionP } from '../../src/plan/role-suggestions.ts'
+import { addMonths, anyRoleMatcher, roleMatcher, suggestRequirements, twoProportionP } from '../../src/plan/role-suggestions.ts'
 import { months, testConfig } from './fixtures.ts'
 
 /** Composite Simpson rule for 1 − Φ(z), written here independently of src/stats. */
@@ -50,6 +50,19 @@ describe('role matching', () => {
     expect(m({ title: 'Modeller', occupation: '15-2051' })).toBe(true)
     expect(m({ title: 'Analysts wanted', occupation: null })).toBe(false)
     expect(m({ title: 'Web Developer', occupation: '15-1254' })).toBe(false)
+  })
+
+  it('anyRoleMatcher: a posting of any role (by name or configured occupations), as roleMatcher decides each', () => {
+    const cfg = { roleOccupations: { 'Data Analyst': ['15-2051', 'analyst'] } }
+    const any = anyRoleMatcher(['Data Analyst', 'Web Developer'], cfg)
+    expect(any('Senior Data Analyst', null)).toBe(true)
+    expect(any('Modeller', '15-2051')).toBe(true)
+    expect(any('Junior Web Developer', null)).toBe(true) // no occupations configured: the role's name
+    expect(any('Analysts wanted', null)).toBe(false)
+    expect(any('Modeller', null)).toBe(false)
+    // remembered per title and occupation: the same pair twice gives the same answer
+    expect(any('Modeller', '15-2051')).toBe(true)
+    expect(anyRoleMatcher([], cfg)('Senior Data Analyst', null)).toBe(false)
   })
 })
 
