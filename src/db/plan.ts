@@ -144,6 +144,19 @@ export interface DocumentConcepts {
 }
 
 /**
+ * Concept id by code (`concept_codes`), as a dense array (fast to index); codes of concepts not in
+ * `wanted` (when given) are left undefined.
+ */
+function conceptsByCode(db: Db, wanted: ReadonlySet<string> | null): (string | undefined)[] {
+  const codes = db.prepare('SELECT code, concept_id FROM concept_codes').raw().all() as [number, string][]
+  let maxCode = 0
+  for (const [code] of codes) if (code > maxCode) maxCode = code
+  const byCode = new Array<string | undefined>(maxCode + 1).fill(undefined)
+  for (const [code, id] of codes) if (!wanted || wanted.has(id)) byCode[code] = id
+  return byCode
+}
+
+/**
  * Distinct documents of a kind with their directly mentioned concepts (in concept id order), in id
  * order. The concepts come from `mention_lists` (one short row per document, db/mention-lists.ts),
  * decoded here: a JSON array built by SQLite from each document's mention rows took 3.4 s for the
@@ -157,8 +170,7 @@ export function readDocumentConcepts(
   sinceMonth: string | null = null,
   keep: (title: string, occupation: string | null) => boolean = () => true,
 ): DocumentConcepts[] {
-  const byCode: string[] = []
-  for (const [code, id] of db.prepare('SELECT code, concept_id FROM concept_codes').raw().all() as [number, string][]) byCode[code] = id
+  const byCode = conceptsByCode(db, null)
   const rows = db
     .prepare(
       `SELECT d.id, d.month, d.title, d.occupation, l.codes
@@ -195,13 +207,7 @@ export function* readConceptLists(db: Db, kind: 'posting' | 'request', sinceMont
   const since = sinceMonth ?? ''
   const originals = 'NOT IN (SELECT id FROM documents WHERE duplicate_of IS NOT NULL)'
   const documents = db.prepare(`SELECT COUNT(*) FROM documents WHERE kind = ? AND month >= ? AND id ${originals}`).pluck().get(kind, since) as number
-  // code -> concept id, for the listed concepts only (a dense array: fast to index)
-  const codes = db.prepare('SELECT code, concept_id FROM concept_codes').raw().all() as [number, string][]
-  const wanted = concepts ? new Set(concepts) : null
-  let maxCode = 0
-  for (const [code] of codes) if (code > maxCode) maxCode = code
-  const byCode = new Array<string | undefined>(maxCode + 1).fill(undefined)
-  for (const [code, id] of codes) if (!wanted || wanted.has(id)) byCode[code] = id
+  const byCode = conceptsByCode(db, concepts ? new Set(concepts) : null)
   const months = db
     .prepare(`SELECT CAST(group_concat(codes, X'00') AS BLOB) FROM mention_lists WHERE kind = ? AND month >= ? AND document_id ${originals} GROUP BY month`)
     .pluck()
