@@ -6,6 +6,7 @@
  */
 import { parseConfig } from '../src/config.ts'
 import { openDb } from '../src/db/connection.ts'
+import { rebuildDemandCounts } from '../src/db/curves.ts'
 import { rebuildMentionLists } from '../src/db/mention-lists.ts'
 import { upsertCourses, upsertImportedAbilities, upsertPeople, upsertRoles } from '../src/db/workforce.ts'
 import { createRng } from '../src/plan/random.ts'
@@ -47,8 +48,9 @@ db.transaction(() => {
     // skills cluster by role so that adjacency has structure
     for (let k = 0; k < 6; k++) mention.run(id, ids[((d % 15) * 60 + Math.floor(rng.uniform() * 120)) % SKILLS]!)
   }
-  // the documents' concept lists, as the map stage keeps them
+  // the documents' concept lists and the demand aggregates with their month versions, as the map stage keeps them
   rebuildMentionLists(db)
+  rebuildDemandCounts(db)
   for (let r = 0; r < 15; r++) {
     const people = Array.from({ length: 200 }, (_, i) => ({ person_id: `r${r}-p${i}`, role: `Role ${r}`, team: '' }))
     upsertPeople(db, people)
@@ -73,6 +75,7 @@ const figures: Figure[] = [
   { figure: 'runPlan: compute and store every output', value: planSeconds, unit: 's', goal: '< 20 s', met: planSeconds < 20 },
   { figure: 'needs ranked', value: result.needs.length, unit: '' },
   { figure: 'course flags', value: result.courseFlags.length, unit: '' },
+  { figure: 'role suggestions', value: result.suggestions.length, unit: '' },
   { figure: 'pathways', value: result.pathways.length, unit: '' },
   { figure: 'forecast skills x quarters', value: result.forecast.length, unit: 'rows' },
 ]

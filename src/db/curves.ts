@@ -155,14 +155,17 @@ export function rebuildDemandCounts(db: Db): number {
   return db.transaction(() => {
     clearDemandCounts(db)
     db.prepare(`INSERT INTO demand_totals (series, month, total) ${TOTALS_FROM_DOCUMENTS}`).run()
+    // every month with documents that count gets a version (clearDemandCounts moved on the others)
+    db.prepare(`INSERT INTO month_versions (kind, month, version) SELECT CASE series WHEN 'external' THEN 'posting' ELSE 'request' END, month, 1 FROM demand_totals WHERE true ON CONFLICT DO NOTHING`).run()
     return db.prepare(`INSERT INTO demand_counts (concept_id, series, month, n) ${COUNTS_FROM_MENTIONS}`).run().changes
   })()
 }
 
-/** Empties the demand aggregates (when every document becomes unmapped at once). */
+/** Empties the demand aggregates (when every document becomes unmapped at once); every month's version moves on. */
 export function clearDemandCounts(db: Db): void {
   db.prepare('DELETE FROM demand_totals').run()
   db.prepare('DELETE FROM demand_counts').run()
+  db.prepare('UPDATE month_versions SET version = version + 1').run()
 }
 
 /** The series a document kind counts in (null for a kind outside both). */
@@ -172,7 +175,10 @@ export function seriesOfKind(kind: string): DemandSeries | null {
 
 /**
  * Changes to the demand aggregates collected in memory while a batch of documents is written, then
- * applied in one pass per key ({@link DemandDelta.apply}) inside the same transaction. A document
+ * applied in one pass per key ({@link DemandDelta.apply}) inside the same transaction. Every
+ * (kind, month) a document started or stopped counting in has its row of `month_versions` moved on
+ * (migration 13): what is computed from a month's counted documents and kept (db/title-months.ts)
+ * is stale when the month's version differs from the one it was computed at. A document
  * "counts" while it is an original (duplicate_of IS NULL) and mapped (not in `unmapped_documents`):
  * a writer calls {@link DemandDelta.document} with +1 when a document starts to count (with its
  * concepts after roll-up) and with -1 when it stops or before its mentions change.
@@ -249,6 +255,11 @@ export class DemandDelta {
         throw new Error(`demand total for ${series} ${month} fell below zero: repair with 'tides run fit --rebuild'`)
       }
       touched++
+    }
+    const version = db.prepare('INSERT INTO month_versions (kind, month, version) VALUES (?, ?, 1) ON CONFLICT DO UPDATE SET version = version + 1')
+    for (const key of new Set([...this.totals.keys(), ...this.counts.keys()])) {
+      const [series, month] = key.split('\u0000') as [DemandSeries, string]
+      version.run(KIND_OF[series], month)
     }
     this.counts.clear()
     this.totals.clear()

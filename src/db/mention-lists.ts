@@ -85,6 +85,19 @@ function encodeInto(out: Buffer, codes: readonly number[]): number {
   return n
 }
 
+/**
+ * Concept id by code (`concept_codes`), as a dense array (fast to index); codes of concepts not in
+ * `wanted` (when given) are left undefined.
+ */
+export function conceptsByCode(db: Db, wanted: ReadonlySet<string> | null): (string | undefined)[] {
+  const codes = db.prepare('SELECT code, concept_id FROM concept_codes').raw().all() as [number, string][]
+  let maxCode = 0
+  for (const [code] of codes) if (code > maxCode) maxCode = code
+  const byCode = new Array<string | undefined>(maxCode + 1).fill(undefined)
+  for (const [code, id] of codes) if (!wanted || wanted.has(id)) byCode[code] = id
+  return byCode
+}
+
 /** The codes of one blob written by {@link encodeCodes}. */
 export function decodeCodes(blob: Uint8Array): number[] {
   const out: number[] = []

@@ -585,6 +585,42 @@ CREATE TRIGGER abilities_ability_inputs_deleted AFTER DELETE ON abilities WHEN O
 END;
 `
 
+/**
+ * Migration 13: counts of postings per (month, title, occupation) kept for the plan's role
+ * suggestions, and what tells when a month's counts are stale. `month_versions` has a version per
+ * (kind, month) moved on whenever a document starts or stops counting in the demand aggregates there
+ * (db/curves.ts DemandDelta, clearDemandCounts), filled here for the months that have counted
+ * documents. `title_months` holds, per month, title and occupation ('' for none), how many counted
+ * postings there are and, as varint pairs (concept code, postings mentioning it directly), their
+ * concepts; `title_month_marks` the month version each month's rows were computed at
+ * (db/title-months.ts). The plan fills them for the months it reads: at a million postings with a
+ * workforce, reading every posting of its 24-month window took about 3.5 s of each run.
+ */
+const V13_TITLE_MONTHS = `
+CREATE TABLE month_versions (
+  kind TEXT NOT NULL,
+  month TEXT NOT NULL,
+  version INTEGER NOT NULL,
+  PRIMARY KEY (kind, month)
+) WITHOUT ROWID;
+INSERT INTO month_versions (kind, month, version)
+  SELECT CASE series WHEN 'external' THEN 'posting' ELSE 'request' END, month, 1 FROM demand_totals;
+
+CREATE TABLE title_months (
+  month TEXT NOT NULL,
+  title TEXT NOT NULL,
+  occupation TEXT NOT NULL,
+  postings INTEGER NOT NULL,
+  counts BLOB NOT NULL,
+  PRIMARY KEY (month, title, occupation)
+) WITHOUT ROWID;
+
+CREATE TABLE title_month_marks (
+  month TEXT PRIMARY KEY,
+  version INTEGER NOT NULL
+) WITHOUT ROWID;
+`
+
 export const MIGRATIONS: readonly Migration[] = [
   { version: 1, name: 'core tables', sql: V1_CORE },
   { version: 2, name: 'indexes for duplicates, states and ranks', sql: V2_RUN_INDEXES },
@@ -598,6 +634,7 @@ export const MIGRATIONS: readonly Migration[] = [
   { version: 10, name: 'curve month series as a binary column', sql: V10_CURVE_SERIES },
   { version: 11, name: 'curve states listed from their index', sql: V11_CURVE_STATES_INDEX },
   { version: 12, name: 'change counter of the ability inputs; stage marks', sql: V12_ABILITY_INPUTS },
+  { version: 13, name: 'posting counts per month, title and occupation; month versions', sql: V13_TITLE_MONTHS },
 ]
 
 /** The schema version this build of the program writes. */

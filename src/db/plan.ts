@@ -4,8 +4,8 @@
  * courses, people, roles and abilities, and writes plan_outputs, course_flag_notes and the skill_id resolution of course_skills.
  */
 import type { Db } from './connection.ts'
-import { readConceptLabelList, type CurveRow } from './curves.ts'
-import { decodeCodes } from './mention-lists.ts'
+import { isMapped, readConceptLabelList, type CurveRow } from './curves.ts'
+import { conceptsByCode, decodeCodes } from './mention-lists.ts'
 
 /** A row of the curves table as the plan stage reads it. */
 export type CurveRecord = Omit<CurveRow, 'forecast_method' | 'change_month' | 'emerged_month'>
@@ -144,41 +144,30 @@ export interface DocumentConcepts {
 }
 
 /**
- * Concept id by code (`concept_codes`), as a dense array (fast to index); codes of concepts not in
- * `wanted` (when given) are left undefined.
- */
-function conceptsByCode(db: Db, wanted: ReadonlySet<string> | null): (string | undefined)[] {
-  const codes = db.prepare('SELECT code, concept_id FROM concept_codes').raw().all() as [number, string][]
-  let maxCode = 0
-  for (const [code] of codes) if (code > maxCode) maxCode = code
-  const byCode = new Array<string | undefined>(maxCode + 1).fill(undefined)
-  for (const [code, id] of codes) if (!wanted || wanted.has(id)) byCode[code] = id
-  return byCode
-}
-
-/**
- * Distinct documents of a kind with their directly mentioned concepts (in concept id order), in id
- * order. The concepts come from `mention_lists` (one short row per document, db/mention-lists.ts),
- * decoded here: a JSON array built by SQLite from each document's mention rows took 3.4 s for the
- * 400,000 postings of a 24-month window at a million postings, this 2.3 s (same lists).
- * @param sinceMonth first month to include ('YYYY-MM'), or null for all
- * @param keep which documents to return, by title and occupation (the others are skipped unread)
+ * Distinct (not duplicate) documents of a kind that count in the demand aggregates (mapped), with
+ * their directly mentioned concepts (in concept id order), in id order. The concepts come from
+ * `mention_lists` (one short row per document, db/mention-lists.ts), decoded here: a JSON array
+ * built by SQLite from each document's mention rows took 3.4 s for the 400,000 postings of a
+ * 24-month window at a million postings, this 2.3 s (same lists).
+ * @param window.since first month to include ('YYYY-MM'; default: the first)
+ * @param window.until last month to include (default: the last)
+ * @param window.keep which documents to return, by title and occupation (the others are skipped unread)
  */
 export function readDocumentConcepts(
   db: Db,
   kind: 'posting' | 'request',
-  sinceMonth: string | null = null,
-  keep: (title: string, occupation: string | null) => boolean = () => true,
+  window: { since?: string | null; until?: string | null; keep?: (title: string, occupation: string | null) => boolean } = {},
 ): DocumentConcepts[] {
+  const keep = window.keep ?? (() => true)
   const byCode = conceptsByCode(db, null)
   const rows = db
     .prepare(
       `SELECT d.id, d.month, d.title, d.occupation, l.codes
        FROM documents d LEFT JOIN mention_lists l ON l.kind = d.kind AND l.month = d.month AND l.document_id = d.id
-       WHERE d.kind = ? AND d.duplicate_of IS NULL AND d.month >= ? ORDER BY d.id`,
+       WHERE d.kind = ? AND d.duplicate_of IS NULL AND d.month >= ? AND d.month <= ? AND ${isMapped('d')} ORDER BY d.id`,
     )
     .raw()
-    .iterate(kind, sinceMonth ?? '') as IterableIterator<[number, string, string, string | null, Buffer | null]>
+    .iterate(kind, window.since ?? '', window.until ?? '9999-12') as IterableIterator<[number, string, string, string | null, Buffer | null]>
   const out: DocumentConcepts[] = []
   for (const [id, month, title, occupation, codes] of rows) {
     if (!keep(title, occupation)) continue

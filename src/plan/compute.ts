@@ -15,6 +15,7 @@ import { RISING_STATES, readSkillCurve, type SkillCurve } from './curve-model.ts
 import { rankNeeds, scoreNeed, type NeedInput, type PullInput, type RankedNeed } from './needs.ts'
 import { buildPathways, findCandidates, pathwaySkills, type CandidateGroup, type Pathway } from './pathways.ts'
 import { forecastTarget, type ForecastTarget, type QuarterForecast } from './reskilling-forecast.ts'
+import { readTitleMonths, refreshTitleMonths, type TitleMonth } from '../db/title-months.ts'
 import { addMonths, anyRoleMatcher, suggestRequirements, type RoleSuggestion } from './role-suggestions.ts'
 
 export interface RoleNeed extends RankedNeed {
@@ -137,10 +138,16 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
   const baseMonth = latestPosting ?? currentMonth(now)
   const adjacencyStart = cfg.adjacency.months > 0 && latestPosting ? addMonths(latestPosting, -(cfg.adjacency.months - 1)) : null
   const suggestionStart = latestPosting ? addMonths(latestPosting, -(2 * cfg.suggestions.recentMonths - 1)) : null
-  // the postings of the suggestion windows that match a role, with title and occupation
-  const postings = roles.length > 0 ? store.readDocumentConcepts(db, 'posting', suggestionStart, anyRoleMatcher(roles, cfg)) : []
+  // the postings of the suggestion windows that match a role, counted per month, title and
+  // occupation; the kept counts of months whose postings changed are recomputed first (a write,
+  // inside runPlan's transaction)
+  let titleCounts: TitleMonth[] = []
+  if (roles.length > 0) {
+    refreshTitleMonths(db, suggestionStart)
+    titleCounts = readTitleMonths(db, suggestionStart, anyRoleMatcher(roles, cfg))
+  }
 
-  const suggestions = suggestRequirements({ roles, requirements: requirementSets, postings, latestMonth: latestPosting, curves, labels }, cfg)
+  const suggestions = suggestRequirements({ roles, requirements: requirementSets, titles: titleCounts, latestMonth: latestPosting, curves, labels }, cfg)
   const suggestedBySkill = new Map<string, RoleSuggestion[]>()
   for (const s of suggestions) {
     const list = suggestedBySkill.get(s.skillId)

@@ -3,6 +3,10 @@
  * Role requirements not yet written down: skills that postings for a role's occupation increasingly
  * ask for and that the role's requirements lack.
  *
+ * The postings are read as counts per (month, title, occupation): how many postings, and how many of
+ * them mention each concept directly (db/title-months.ts keeps them between runs); every posting of
+ * a title and occupation matches the same roles, so the counts give the same tests as the postings.
+ *
  * Postings are matched to a role by `plan.roleOccupations` (role -> keywords or occupationalCategory
  * codes; default: the role's own name): a keyword matches an occupation exactly or occurs as whole
  * words in the title or occupation, case-insensitive. For each skill the role does not require, the
@@ -18,7 +22,7 @@
  */
 import { benjaminiHochberg } from '../stats/benjamini-hochberg.ts'
 import { normalSurvival } from '../stats/normal-distribution.ts'
-import type { DocumentConcepts } from '../db/plan.ts'
+import type { TitleMonth } from '../db/title-months.ts'
 import type { PlanConfig } from './config.ts'
 import { RISING_STATES, type SkillCurve } from './curve-model.ts'
 
@@ -53,7 +57,7 @@ function escapeRegExp(s: string): string {
 }
 
 /** A predicate telling whether a posting belongs to the occupation of a role. */
-export function roleMatcher(keywords: readonly string[]): (doc: Pick<DocumentConcepts, 'title' | 'occupation'>) => boolean {
+export function roleMatcher(keywords: readonly string[]): (doc: { title: string; occupation: string | null }) => boolean {
   const words = keywords.map((k) => k.trim()).filter(Boolean)
   const exact = new Set(words.map((k) => k.toLowerCase()))
   const res = words.map((k) => new RegExp(`(?<![\\p{L}\\p{N}])${escapeRegExp(k)}(?![\\p{L}\\p{N}])`, 'iu'))
@@ -66,8 +70,8 @@ export function roleMatcher(keywords: readonly string[]): (doc: Pick<DocumentCon
 
 /**
  * Whether a document's title or occupation matches any of the roles (roleMatcher with each role's
- * configured occupations), remembered per distinct title and occupation: postings repeat their
- * titles, and only matching postings are read with their concepts.
+ * configured occupations), remembered per distinct title and occupation: the kept counts repeat
+ * titles month after month, and only the matching ones are decoded.
  */
 export function anyRoleMatcher(roles: readonly string[], cfg: Pick<PlanConfig, 'roleOccupations'>): (title: string, occupation: string | null) => boolean {
   const matchers = roles.map((role) => roleMatcher(cfg.roleOccupations[role] ?? [role]))
@@ -96,7 +100,8 @@ export function twoProportionP(n1: number, total1: number, n0: number, total0: n
 export interface SuggestionInput {
   roles: readonly string[]
   requirements: ReadonlyMap<string, ReadonlySet<string>>
-  postings: readonly DocumentConcepts[]
+  /** the postings of both windows, counted per (month, title, occupation) */
+  titles: readonly TitleMonth[]
   /** the latest posting month; the recent window ends there */
   latestMonth: string | null
   curves: ReadonlyMap<string, SkillCurve>
@@ -118,13 +123,13 @@ export function suggestRequirements(input: SuggestionInput, cfg: Pick<PlanConfig
     let earlierTotal = 0
     const recent = new Map<string, number>()
     const earlier = new Map<string, number>()
-    for (const doc of input.postings) {
-      if (doc.month < earlierStart || doc.month > input.latestMonth || !matches(doc)) continue
-      const isRecent = doc.month >= recentStart
-      if (isRecent) recentTotal++
-      else earlierTotal++
+    for (const group of input.titles) {
+      if (group.month < earlierStart || group.month > input.latestMonth || !matches(group)) continue
+      const isRecent = group.month >= recentStart
+      if (isRecent) recentTotal += group.postings
+      else earlierTotal += group.postings
       const counts = isRecent ? recent : earlier
-      for (const c of new Set(doc.concepts)) counts.set(c, (counts.get(c) ?? 0) + 1)
+      for (const [c, n] of group.counts) counts.set(c, (counts.get(c) ?? 0) + n)
     }
     if (recentTotal < s.minPostings) continue
     for (const [skill, n1] of recent) {

@@ -7,7 +7,9 @@
  * (db/plan.ts readConceptLists) must give the lists, and so the co-occurrence counts, of the query
  * it replaced, which read the mentions (kept here as the reference). The same random writes keep the
  * map's queue (`unmapped_documents`, migration 9) equal to the originals not mapped since, by a model
- * of the writers' rules, and the demand aggregates equal to their recomputation.
+ * of the writers' rules, and the demand aggregates equal to their recomputation. The plan's kept
+ * counts per (month, title, occupation) (db/title-months.ts), refreshed at random points, must equal
+ * those counted from the mention rows, and only the months whose postings changed are recomputed.
  */
 import fs from 'node:fs'
 import os from 'node:os'
@@ -19,6 +21,7 @@ import { openDb, schemaVersion, type Db } from '../../src/db/connection.ts'
 import { deleteDocuments, markDuplicate } from '../../src/db/documents.ts'
 import { decodeCodes, encodeCodes, readMentionLists, rebuildMentionLists } from '../../src/db/mention-lists.ts'
 import { readConceptLists } from '../../src/db/plan.ts'
+import { readTitleMonths, refreshTitleMonths, staleTitleMonths } from '../../src/db/title-months.ts'
 import { recomputeMonthlyDemand } from '../../src/db/curves.ts'
 import { demandInputs } from '../../src/curves/stage.ts'
 import { referenceInputs } from '../curves/reference-inputs.ts'
@@ -81,6 +84,41 @@ function expectSameAdjacency(db: Db, since: string | null, focus: readonly strin
   }
 }
 
+/**
+ * The plan's kept counts per (month, title, occupation) (db/title-months.ts), brought up to date,
+ * equal those counted here from the mention rows of the mapped original postings; a second
+ * refresh finds nothing stale.
+ */
+function expectSameTitleMonths(db: Db, since: string | null): void {
+  const order = (x: string, y: string) => (x < y ? -1 : x > y ? 1 : 0)
+  db.transaction(() => refreshTitleMonths(db, since))()
+  expect(db.transaction(() => refreshTitleMonths(db, since))()).toEqual({ months: 0, rows: 0 })
+  const rows = db
+    .prepare(
+      `SELECT d.id, d.month, d.title, d.occupation, m.concept_id FROM documents d
+         LEFT JOIN mentions m ON m.document_id = d.id AND m.via <> 'rollup'
+       WHERE d.kind = 'posting' AND d.duplicate_of IS NULL AND d.month >= ? AND d.id NOT IN (SELECT id FROM unmapped_documents)`,
+    )
+    .raw()
+    .all(since ?? '') as [number, string, string, string | null, string | null][]
+  const groups = new Map<string, { postings: Set<number>; counts: Map<string, number> }>()
+  for (const [id, month, title, occupation, conceptId] of rows) {
+    const key = JSON.stringify([month, title, occupation || null])
+    let g = groups.get(key)
+    if (!g) groups.set(key, (g = { postings: new Set(), counts: new Map() }))
+    g.postings.add(id)
+    if (conceptId !== null) g.counts.set(conceptId, (g.counts.get(conceptId) ?? 0) + 1)
+  }
+  const expected = [...groups]
+    .map(([key, g]) => {
+      const [month, title, occupation] = JSON.parse(key) as [string, string, string | null]
+      return { month, title, occupation, postings: g.postings.size, counts: new Map([...g.counts].sort()) }
+    })
+    .sort((a, b) => order(a.month, b.month) || order(a.title, b.title) || order(a.occupation ?? '', b.occupation ?? ''))
+  const kept = readTitleMonths(db, since).map((t) => ({ ...t, counts: new Map([...t.counts].sort()) }))
+  expect(kept).toEqual(expected)
+}
+
 function concept(id: string, broader: string[] = []): Concept {
   return { id, prefLabel: id, altLabels: [], hiddenLabels: [], broader, type: 'hard' }
 }
@@ -133,21 +171,29 @@ const opArb: fc.Arbitrary<Op> = fc.oneof(
 describe('mention_lists kept by every writer of mentions', () => {
   it('mirror the direct mentions and give the reference adjacency after random sequences of writes', () => {
     fc.assert(
-      fc.property(fc.array(opArb, { minLength: 1, maxLength: 25 }), fc.constantFrom(null, '2024-02', '2024-04'), fc.array(fc.nat(12), { maxLength: 5 }), (ops, since, focusPicks) => {
+      fc.property(
+        fc.array(opArb, { minLength: 1, maxLength: 25 }),
+        fc.constantFrom(null, '2024-02', '2024-04'),
+        fc.array(fc.nat(12), { maxLength: 5 }),
+        fc.array(fc.constantFrom('before', 'after', 'check', 'no'), { minLength: 1, maxLength: 4 }),
+        (ops, since, focusPicks, refreshAt) => {
         const db = openDb(':memory:')
         db.prepare("INSERT INTO sources (id, kind, location) VALUES ('fern', 'import', 'test')").run()
         let serial = 0
         const fresh = () => `k${serial++}`
         for (let i = 0; i < 12; i++) insertConcept(db, concept(fresh()), 'import', noFlags)
         const insertDoc = db.prepare(
-          "INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, text_hash, duplicate_of) VALUES ('fern', ?, ?, '', 'text', ?, ?, ?, ?)",
+          "INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, text_hash, duplicate_of, occupation) VALUES ('fern', ?, ?, ?, 'text', ?, ?, ?, ?, ?)",
         )
         const ids: number[] = []
         for (let i = 0; i < 40; i++) {
           const month = MONTHS[i % MONTHS.length]!
           // every seventh a repost of the one before (as the import stores them: never mapped)
           const dup = i % 7 === 6 ? ids[i - 1]! : null
-          ids.push(Number(insertDoc.run(`d${i}`, i % 5 === 4 ? 'request' : 'posting', `${month}-10`, month, `h${i}`, dup).lastInsertRowid))
+          // a few titles and occupations repeated (the plan's counts per month, title and occupation)
+          const title = ['Analyst', 'Engineer', 'Data Analyst'][i % 3]!
+          const occupation = [null, '', '15-2051', null][i % 4]
+          ids.push(Number(insertDoc.run(`d${i}`, i % 5 === 4 ? 'request' : 'posting', title, `${month}-10`, month, `h${i}`, dup, occupation).lastInsertRowid))
         }
         // the originals wait in the map's queue, as the import leaves them
         db.prepare('INSERT INTO unmapped_documents (id) SELECT id FROM documents WHERE duplicate_of IS NULL').run()
@@ -174,10 +220,12 @@ describe('mention_lists kept by every writer of mentions', () => {
           }
           saveMappings(db, [...mappings].map(([id, rows]) => ({ id, rows })))
         }
-        for (const o of ops) {
+        for (const [step, o] of ops.entries()) {
           const before = originals()
           try {
             db.transaction(() => {
+              // the plan's kept counts brought up to date now and then, before or after a write
+              if (refreshAt[step % refreshAt.length] === 'before') refreshTitleMonths(db, since)
               switch (o.op) {
                 case 'map':
                   mapDocs(o.docs)
@@ -221,6 +269,7 @@ describe('mention_lists kept by every writer of mentions', () => {
                   break
                 }
               }
+              if (refreshAt[step % refreshAt.length] === 'after') refreshTitleMonths(db, null)
             })()
           } catch (err) {
             if (!/rolled back|cannot be its own original/.test((err as Error).message)) throw err
@@ -233,6 +282,7 @@ describe('mention_lists kept by every writer of mentions', () => {
           if (o.op === 'taxonomy') mapped.clear()
           // reposts are never mapped; a repost that became the original (an heir) waits to be mapped
           for (const id of [...mapped]) if (!after.has(id) || !before.has(id)) mapped.delete(id)
+          if (refreshAt[step % refreshAt.length] === 'check') expectSameTitleMonths(db, since)
           const queued = db.prepare('SELECT id FROM unmapped_documents ORDER BY id').pluck().all()
           expect(queued, `the map's queue after ${o.op}`).toEqual([...after].filter((id) => !mapped.has(id)).sort((a, b) => a - b))
         }
@@ -244,12 +294,14 @@ describe('mention_lists kept by every writer of mentions', () => {
         const focus = known.length ? [...new Set(focusPicks.map((k) => known[k % known.length]!))] : []
         expectSameAdjacency(db, since, focus)
         expectSameAdjacency(db, since, null)
+        expectSameTitleMonths(db, since)
         // the repair recomputes the same rows
         const before = db.prepare('SELECT * FROM mention_lists ORDER BY kind, month, document_id').all()
         rebuildMentionLists(db)
         expect(db.prepare('SELECT * FROM mention_lists ORDER BY kind, month, document_id').all()).toEqual(before)
         db.close()
-      }),
+        },
+      ),
       { numRuns: 60 },
     )
   })
@@ -314,14 +366,19 @@ describe('mention_lists through the real stages', () => {
         expectSameAdjacency(db, since, focus)
         expectSameAdjacency(db, since, null)
       }
+      expectSameTitleMonths(db, null)
     }
+    const stale = () => staleTitleMonths(db, null)
     expect((await importDocuments(db, config, 'postings', postingsFile('a', 1, 4, 12), { skipBad: false })).refused).toBe(false)
     await ensureTaxonomy(db, config)
     await mapUnmapped(db, config, () => {}, { threads: 2, threshold: 1, bulkMin: 1, batch: 7, groupDocs: 20 })
     check()
     expect(db.prepare('SELECT COUNT(*) FROM mention_lists').pluck().get()).toBeGreaterThan(40)
+    // new postings of months 4 and 5: only those months' kept counts are recomputed
     expect((await importDocuments(db, config, 'postings', postingsFile('b', 4, 2, 10), { skipBad: false })).refused).toBe(false)
+    expect(stale()).toEqual([])
     await mapUnmapped(db, config, () => {}, { threads: 1 })
+    expect(stale()).toEqual(['2024-04', '2024-05'])
     check()
     replaceOpenCandidates(db, [{ term: 'quillstream', score: 40, recentDf: 5, earlierDf: 0, trend: [], examples: [] }])
     expect(acceptAsConcept(db, 'quillstream', { label: 'Quillstream', type: 'hard' }, 'curator').affected).toBeGreaterThan(0)
@@ -334,6 +391,8 @@ describe('mention_lists through the real stages', () => {
     fs.writeFileSync(file, ['id,prefLabel,altLabel,hiddenLabel,broader,type', 'kubernetes,Kubernetes,K8s,,containers,hard', 'containers,containers,,,,hard', 'python,Python,,,,hard'].join('\n'))
     expect((await importTaxonomy(db, file, { skipBad: false })).refused).toBe(false)
     expect(db.prepare('SELECT COUNT(*) FROM mention_lists').pluck().get()).toBe(0)
+    // a replaced taxonomy: every month is stale
+    expect(stale()).toEqual(['2024-01', '2024-02', '2024-03', '2024-04', '2024-05'])
     await mapUnmapped(db, config, () => {}, { threads: 1 })
     check()
 
@@ -342,6 +401,8 @@ describe('mention_lists through the real stages', () => {
     db.transaction(() => deleteDocuments(db, [idOf('a0'), idOf('a1')]))()
     check()
     db.transaction(() => markDuplicate(db, idOf('a2'), idOf('a3'), 0.95))()
+    const month = db.prepare('SELECT month FROM documents WHERE id = ?').pluck()
+    expect(stale()).toEqual([month.get(idOf('a2'))])
     check()
     await mapUnmapped(db, config, () => {}, { threads: 1 })
     check()

@@ -9,7 +9,9 @@ import os from 'node:os'
 import path from 'node:path'
 import { parseConfig } from '../../src/config.ts'
 import { openDb } from '../../src/db/connection.ts'
-import { readCoverage, readCourseSkills, readPlanOutputs } from '../../src/db/plan.ts'
+import { readCoverage, readCourseSkills, readDocumentConcepts, readPlanOutputs } from '../../src/db/plan.ts'
+import { readTitleMonths, titleMonths } from '../../src/db/title-months.ts'
+import { runPlan } from '../../src/plan/stage.ts'
 import { runDemo } from '../../src/demo/load.ts'
 import { PLANTED_SKILLS } from '../../src/demo/planted.ts'
 import type { CourseFlag } from '../../src/plan/course-flags.ts'
@@ -58,6 +60,20 @@ describe.skipIf(!READY)('plan on the demo scenario', () => {
       expect(steadyCourses.length).toBeGreaterThan(0)
       for (const c of fadingCourses) expect(flags.get(c)?.flag, `${c} ${flags.get(c)?.title}: ${flags.get(c)?.reasons.join(' ')}`).toBe('retire')
       for (const c of steadyCourses) expect(flags.get(c)?.flag, `${c} ${flags.get(c)?.title}: ${flags.get(c)?.reasons.join(' ')}`).toBe('keep')
+
+      // role suggestions: the kept counts per month, title and occupation equal those counted from
+      // the postings, and a plan that recomputes them from nothing suggests the same
+      const suggestions = () => readPlanOutputs(db, 'role-suggestion').map((r) => [r.key, r.payload])
+      const kept = suggestions()
+      expect(kept.length).toBeGreaterThan(0)
+      const counted = readTitleMonths(db, null)
+      const months = [...new Set(counted.map((t) => t.month))]
+      // the two 12-month windows of the suggestions, and no other month
+      expect(months).toHaveLength(2 * config.plan.suggestions.recentMonths)
+      expect(counted).toEqual(titleMonths(readDocumentConcepts(db, 'posting', { since: months[0]! })))
+      db.exec('DELETE FROM title_months; DELETE FROM title_month_marks')
+      runPlan(db, config, new Date('2025-06-15T12:00:00Z'))
+      expect(suggestions()).toEqual(kept)
       db.close()
     } finally {
       fs.rmSync(dataDir, { recursive: true, force: true })

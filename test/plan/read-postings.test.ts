@@ -1,6 +1,6 @@
 /**
- * The two readings of the postings window the plan makes (db/plan.ts): the documents with their
- * concepts for role suggestions, and the concept lists adjacency is counted from (every concept, or
+ * The two readings of the postings window the plan makes (db/plan.ts): the mapped documents with
+ * their concepts (what the role suggestions' kept counts are computed from), and the concept lists adjacency is counted from (every concept, or
  * only the listed ones). Both leave out reposts and roll-ups and agree with each other.
  */
 import { describe, it, expect } from 'vitest'
@@ -40,7 +40,7 @@ function corpus() {
 describe('reading the postings window for the plan', () => {
   it('gives every original posting of the window, its direct concepts in id order, and the same lists both ways', () => {
     const db = corpus()
-    const docs = readDocumentConcepts(db, 'posting', '2024-01')
+    const docs = readDocumentConcepts(db, 'posting', { since: '2024-01' })
     expect(docs.map((d) => [d.month, d.concepts])).toEqual([
       ['2024-01', ['python', 'sql']],
       ['2024-02', ['excel']],
@@ -52,6 +52,10 @@ describe('reading the postings window for the plan', () => {
     expect(readConceptLists(db, 'posting', '2024-01', ['sql', 'data']).sort()).toEqual([['sql'], ['sql'], [], []].sort())
     expect(readConceptLists(db, 'posting', null, ['python'])).toHaveLength(5)
     expect(readConceptLists(db, 'request', null, null)).toEqual([['sql']])
+    // a month range; a posting waiting to be mapped (again) does not count
+    expect(readDocumentConcepts(db, 'posting', { since: '2024-02', until: '2024-02' }).map((d) => d.concepts)).toEqual([['excel']])
+    db.prepare('INSERT INTO unmapped_documents (id) VALUES (?)').run(docs[1]!.id)
+    expect(readDocumentConcepts(db, 'posting', { since: '2024-01' }).map((d) => d.id)).toEqual([docs[0]!.id, docs[2]!.id, docs[3]!.id])
   })
 
   it('reads the same documents and lists as the direct mention rows give (the query it replaced), and skips what `keep` leaves out', () => {
@@ -65,10 +69,10 @@ describe('reading the postings window for the plan', () => {
       .all() as { id: number; month: string; title: string; occupation: string | null; concepts: string }[]
     expect(readDocumentConcepts(db, 'posting')).toEqual(fromMentions.map((r) => ({ ...r, concepts: JSON.parse(r.concepts) as string[] })))
     const asked: string[] = []
-    const kept = readDocumentConcepts(db, 'posting', '2024-01', (title) => {
+    const kept = readDocumentConcepts(db, 'posting', { since: '2024-01', keep: (title) => {
       asked.push(title)
       return title !== 'Role 1'
-    })
+    } })
     expect(asked).toEqual(['Role 1', 'Role 3', 'Role 4', 'Role 6'])
     expect(kept.map((d) => d.title)).toEqual(['Role 3', 'Role 4', 'Role 6'])
   })

@@ -1,5 +1,6 @@
 import { describe, it, expect } from 'vitest'
 import type { DocumentConcepts } from '../../src/db/plan.ts'
+import { titleMonths } from '../../src/db/title-months.ts'
 import { countCoOccurrence } from '../../src/plan/adjacency.ts'
 import type { SkillCurve } from '../../src/plan/curve-model.ts'
 import { buildPathways, findCandidates } from '../../src/plan/pathways.ts'
@@ -94,7 +95,7 @@ describe('suggested requirements', () => {
   const input = {
     roles: ['Data Analyst'],
     requirements: new Map([['Data Analyst', new Set(['python'])]]),
-    postings: docs,
+    titles: titleMonths(docs),
     latestMonth: '2025-12',
     curves: new Map([['dbt', rising('dbt')], ['mlops', rising('mlops')]]),
     labels: new Map([['prompt-engineering', 'prompt engineering']]),
