@@ -74,7 +74,10 @@ export interface CsvDocuments {
 export function requestsFromCsv(text: string, file: string, lossy = false): CsvDocuments {
   const parsed = readCsv(text, file, REQUEST_COLUMNS.required, REQUEST_COLUMNS.optional)
   if (parsed.fatal) return { rows: [], problems: [], fatal: { file, line: parsed.fatal.line, field: parsed.fatal.column, reason: parsed.fatal.reason } }
-  const problems: ItemProblem[] = parsed.problems.map((p) => ({ file, line: p.line, field: p.column, reason: p.reason, warning: p.line === 1 && /ignored/.test(p.reason) }))
+  const problems: ItemProblem[] = [
+    ...parsed.warnings.map((p) => ({ file, line: p.line, field: p.column, reason: p.reason, warning: true })),
+    ...parsed.problems.map((p) => ({ file, line: p.line, field: p.column, reason: p.reason, warning: false })),
+  ]
   const rows: CsvDocuments['rows'] = []
   for (const { line, values } of parsed.rows) {
     if (lossy && Object.values(values).some((x) => x.includes('\ufffd'))) {

@@ -40,8 +40,8 @@ export interface CsvReadResult {
  * Every line number is the physical line where the row starts, counting `\r\n`, `\r` and `\n` as one
  * line break each (csv-parse's own count adds one for each `\r\n` inside a quoted field, so it is
  * not used): row starts are found from the byte offsets csv-parse reports (`info.bytes`). Problems
- * of the header itself (missing or unknown columns) name line 1, even after blank lines (callers
- * tell the unknown-column warning from bad rows by that line).
+ * of the header itself (missing or unknown columns) name the header's line (after blank lines, not
+ * line 1). Unknown columns are warnings (`warnings`), kept apart from the rows' problems.
  */
 export function readCsv(text: string, file: string, required: readonly string[], optional: readonly string[] = []): CsvReadResult {
   // many NULs mark UTF-16 without a byte-order mark, or a binary file (a stray one is a bad field)
@@ -76,9 +76,10 @@ export function readCsv(text: string, file: string, required: readonly string[],
     return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, reason: 'empty file (a header row is required)' } }
   }
   const header = records[0]!.record.map((h) => h.trim())
+  const headerLine = records[0]!.line
   const missing = required.filter((c) => !header.includes(c))
   if (missing.length) {
-    return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, column: missing.join(', '), reason: `missing required column(s); header has: ${header.join(', ')}` } }
+    return { rows: [], problems: [], warnings: [], fatal: { file, line: headerLine, column: missing.join(', '), reason: `missing required column(s); header has: ${header.join(', ')}` } }
   }
   if (parseError && parseError.code !== 'CSV_QUOTE_NOT_CLOSED') {
     return { rows: [], problems: [], warnings: [], fatal: { file, line: broken, reason: parseReason(parseError, bytes, end, lines, header) } }
@@ -87,7 +88,7 @@ export function readCsv(text: string, file: string, required: readonly string[],
   const unknown = header.filter((h) => !known.has(h))
   const problems: InputProblem[] = []
   const warnings: InputProblem[] = []
-  if (unknown.length) warnings.push({ file, line: 1, column: unknown.join(', '), reason: 'unknown column(s) ignored' })
+  if (unknown.length) warnings.push({ file, line: headerLine, column: unknown.join(', '), reason: 'unknown column(s) ignored' })
   const rows: CsvRow[] = []
   for (const { record, line } of records.slice(1)) {
     if (record.length !== header.length) {

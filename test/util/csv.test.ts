@@ -57,6 +57,21 @@ describe('readCsv line numbers', () => {
     expect(reported('\ufeff\r\n\r\nid,text\r\na,"b\r\n"\r\nc\r\n')).toEqual({ rows: [4], problems: [6], fatal: undefined })
   })
 
+  it('problems of a header after blank lines name the header’s line', () => {
+    const missing = readCsv('\r\n\r\nid,txt\r\na,b\r\n', 'f.csv', ['id', 'text'])
+    expect(missing.fatal).toEqual({ file: 'f.csv', line: 3, column: 'text', reason: 'missing required column(s); header has: id, txt' })
+    const unknown = readCsv('\n\nid,text,colour\na,b,c\n', 'f.csv', ['id', 'text'])
+    expect(unknown.warnings).toEqual([{ file: 'f.csv', line: 3, column: 'colour', reason: 'unknown column(s) ignored' }])
+    expect(unknown.rows.map((r) => r.line)).toEqual([4])
+    // a request log passes the warning on as a warning (before, it was dropped), the rows as problems
+    const requests = requestsFromCsv('\ntimestamp,text,mood\n2025-01-02,a course please,keen\n2025-01-03\n', 'r.csv')
+    expect(requests.rows.map((x) => x.line)).toEqual([3])
+    expect(requests.problems.map((p) => [p.line, p.field, p.warning])).toEqual([
+      [2, 'mood', true],
+      [4, undefined, false],
+    ])
+  })
+
   it('a row with a lone CR in an LF file stays on its line', () => {
     expect(reported('id,text\na,b\n\r\nc,d\n')).toEqual({ rows: [2, 4], problems: [3], fatal: undefined })
   })
