@@ -134,49 +134,6 @@ export function readLatestAbilities(db: Db): AbilityRecord[] {
     .all() as AbilityRecord[]
 }
 
-/** A distinct (not duplicate) document with the concepts it mentions directly (not by roll-up). */
-export interface DocumentConcepts {
-  id: number
-  month: string
-  title: string
-  occupation: string | null
-  concepts: string[]
-}
-
-/**
- * Distinct (not duplicate) documents of a kind that count in the demand aggregates (mapped), with
- * their directly mentioned concepts (in concept id order), in id order. The concepts come from
- * `mention_lists` (one short row per document, db/mention-lists.ts), decoded here: a JSON array
- * built by SQLite from each document's mention rows took 3.4 s for the 400,000 postings of a
- * 24-month window at a million postings, this 2.3 s (same lists).
- * @param window.since first month to include ('YYYY-MM'; default: the first)
- * @param window.until last month to include (default: the last)
- * @param window.keep which documents to return, by title and occupation (the others are skipped unread)
- */
-export function readDocumentConcepts(
-  db: Db,
-  kind: 'posting' | 'request',
-  window: { since?: string | null; until?: string | null; keep?: (title: string, occupation: string | null) => boolean } = {},
-): DocumentConcepts[] {
-  const keep = window.keep ?? (() => true)
-  const byCode = conceptsByCode(db, null)
-  const rows = db
-    .prepare(
-      `SELECT d.id, d.month, d.title, d.occupation, l.codes
-       FROM documents d LEFT JOIN mention_lists l ON l.kind = d.kind AND l.month = d.month AND l.document_id = d.id
-       WHERE d.kind = ? AND d.duplicate_of IS NULL AND d.month >= ? AND d.month <= ? AND ${isMapped('d')} ORDER BY d.id`,
-    )
-    .raw()
-    .iterate(kind, window.since ?? '', window.until ?? '9999-12') as IterableIterator<[number, string, string, string | null, Buffer | null]>
-  const out: DocumentConcepts[] = []
-  for (const [id, month, title, occupation, codes] of rows) {
-    if (!keep(title, occupation)) continue
-    const concepts = codes ? decodeCodes(codes).map((code) => byCode[code]!) : []
-    out.push({ id, month, title, occupation, concepts })
-  }
-  return out
-}
-
 const NO_CONCEPTS: readonly string[] = Object.freeze([])
 
 /**

@@ -15,7 +15,7 @@ import { RISING_STATES, readSkillCurve, type SkillCurve } from './curve-model.ts
 import { rankNeeds, scoreNeed, type NeedInput, type PullInput, type RankedNeed } from './needs.ts'
 import { buildPathways, findCandidates, pathwaySkills, type CandidateGroup, type Pathway } from './pathways.ts'
 import { forecastTarget, type ForecastTarget, type QuarterForecast } from './reskilling-forecast.ts'
-import { readTitleMonths, refreshTitleMonths, type TitleMonth } from '../db/title-months.ts'
+import { readTitleMonths, refreshTitleMonths, type TitleCounts } from '../db/title-months.ts'
 import { addMonths, anyRoleMatcher, suggestRequirements, type RoleSuggestion } from './role-suggestions.ts'
 
 export interface RoleNeed extends RankedNeed {
@@ -141,7 +141,7 @@ export function computePlan(db: Db, config: Config, now: Date = new Date()): Pla
   // the postings of the suggestion windows that match a role, counted per month, title and
   // occupation; the kept counts of months whose postings changed are recomputed first (a write,
   // inside runPlan's transaction)
-  let titleCounts: TitleMonth[] = []
+  let titleCounts: TitleCounts = { concepts: [], rows: [] }
   if (roles.length > 0) {
     refreshTitleMonths(db, suggestionStart)
     titleCounts = readTitleMonths(db, suggestionStart, anyRoleMatcher(roles, cfg))

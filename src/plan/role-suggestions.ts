@@ -22,7 +22,7 @@
  */
 import { benjaminiHochberg } from '../stats/benjamini-hochberg.ts'
 import { normalSurvival } from '../stats/normal-distribution.ts'
-import type { TitleMonth } from '../db/title-months.ts'
+import type { TitleCounts } from '../db/title-months.ts'
 import type { PlanConfig } from './config.ts'
 import { RISING_STATES, type SkillCurve } from './curve-model.ts'
 
@@ -101,7 +101,7 @@ export interface SuggestionInput {
   roles: readonly string[]
   requirements: ReadonlyMap<string, ReadonlySet<string>>
   /** the postings of both windows, counted per (month, title, occupation) */
-  titles: readonly TitleMonth[]
+  titles: TitleCounts
   /** the latest posting month; the recent window ends there */
   latestMonth: string | null
   curves: ReadonlyMap<string, SkillCurve>
@@ -116,25 +116,40 @@ export function suggestRequirements(input: SuggestionInput, cfg: Pick<PlanConfig
   const earlierStart = addMonths(recentStart, -s.recentMonths)
   // every test this run makes: a skill the role lacks, seen in the role's recent postings
   const tests: Omit<RoleSuggestion, 'reason' | 'pAdjusted'>[] = []
-  for (const role of input.roles) {
-    const matches = roleMatcher(cfg.roleOccupations[role] ?? [role])
-    const required = input.requirements.get(role) ?? new Set<string>()
-    let recentTotal = 0
-    let earlierTotal = 0
-    const recent = new Map<string, number>()
-    const earlier = new Map<string, number>()
-    for (const group of input.titles) {
-      if (group.month < earlierStart || group.month > input.latestMonth || !matches(group)) continue
-      const isRecent = group.month >= recentStart
-      if (isRecent) recentTotal += group.postings
-      else earlierTotal += group.postings
-      const counts = isRecent ? recent : earlier
-      for (const [c, n] of group.counts) counts.set(c, (counts.get(c) ?? 0) + n)
+  // each role's postings of both windows, in one pass over the counts, summed per concept index;
+  // the roles a title and occupation match are found once for all its months
+  const size = input.titles.concepts.length
+  const matchers = input.roles.map((role) => roleMatcher(cfg.roleOccupations[role] ?? [role]))
+  const windows: ({ recentTotal: number; earlierTotal: number; recent: Uint32Array; earlier: Uint32Array } | undefined)[] = input.roles.map(() => undefined)
+  const rolesOf = new Map<string, number[]>()
+  for (const group of input.titles.rows) {
+    if (group.month < earlierStart || group.month > input.latestMonth) continue
+    const key = `${group.title}\u0000${group.occupation ?? ''}`
+    let hits = rolesOf.get(key)
+    if (!hits) {
+      hits = []
+      for (const [i, matches] of matchers.entries()) if (matches(group)) hits.push(i)
+      rolesOf.set(key, hits)
     }
-    if (recentTotal < s.minPostings) continue
-    for (const [skill, n1] of recent) {
-      if (required.has(skill)) continue
-      const n0 = earlier.get(skill) ?? 0
+    const isRecent = group.month >= recentStart
+    for (const i of hits) {
+      const w = (windows[i] ??= { recentTotal: 0, earlierTotal: 0, recent: new Uint32Array(size), earlier: new Uint32Array(size) })
+      if (isRecent) w.recentTotal += group.postings
+      else w.earlierTotal += group.postings
+      const counts = isRecent ? w.recent : w.earlier
+      for (let k = 0; k < group.concepts.length; k++) counts[group.concepts[k]!]! += group.mentions[k]!
+    }
+  }
+  for (const [i, role] of input.roles.entries()) {
+    const w = windows[i]
+    if (!w || w.recentTotal < s.minPostings) continue
+    const required = input.requirements.get(role) ?? new Set<string>()
+    const { recentTotal, earlierTotal, recent, earlier } = w
+    for (let c = 0; c < size; c++) {
+      const n1 = recent[c]!
+      const skill = input.titles.concepts[c]
+      if (n1 === 0 || skill === undefined || required.has(skill)) continue
+      const n0 = earlier[c]!
       tests.push({
         role,
         skillId: skill,

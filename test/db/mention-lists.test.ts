@@ -21,7 +21,8 @@ import { openDb, schemaVersion, type Db } from '../../src/db/connection.ts'
 import { deleteDocuments, markDuplicate } from '../../src/db/documents.ts'
 import { decodeCodes, encodeCodes, readMentionLists, rebuildMentionLists } from '../../src/db/mention-lists.ts'
 import { readConceptLists } from '../../src/db/plan.ts'
-import { readTitleMonths, refreshTitleMonths, staleTitleMonths } from '../../src/db/title-months.ts'
+import { refreshTitleMonths, staleTitleMonths } from '../../src/db/title-months.ts'
+import { keptTitleRows, referenceTitleRows } from './title-counts-reference.ts'
 import { recomputeMonthlyDemand } from '../../src/db/curves.ts'
 import { demandInputs } from '../../src/curves/stage.ts'
 import { referenceInputs } from '../curves/reference-inputs.ts'
@@ -90,33 +91,9 @@ function expectSameAdjacency(db: Db, since: string | null, focus: readonly strin
  * refresh finds nothing stale.
  */
 function expectSameTitleMonths(db: Db, since: string | null): void {
-  const order = (x: string, y: string) => (x < y ? -1 : x > y ? 1 : 0)
   db.transaction(() => refreshTitleMonths(db, since))()
   expect(db.transaction(() => refreshTitleMonths(db, since))()).toEqual({ months: 0, rows: 0 })
-  const rows = db
-    .prepare(
-      `SELECT d.id, d.month, d.title, d.occupation, m.concept_id FROM documents d
-         LEFT JOIN mentions m ON m.document_id = d.id AND m.via <> 'rollup'
-       WHERE d.kind = 'posting' AND d.duplicate_of IS NULL AND d.month >= ? AND d.id NOT IN (SELECT id FROM unmapped_documents)`,
-    )
-    .raw()
-    .all(since ?? '') as [number, string, string, string | null, string | null][]
-  const groups = new Map<string, { postings: Set<number>; counts: Map<string, number> }>()
-  for (const [id, month, title, occupation, conceptId] of rows) {
-    const key = JSON.stringify([month, title, occupation || null])
-    let g = groups.get(key)
-    if (!g) groups.set(key, (g = { postings: new Set(), counts: new Map() }))
-    g.postings.add(id)
-    if (conceptId !== null) g.counts.set(conceptId, (g.counts.get(conceptId) ?? 0) + 1)
-  }
-  const expected = [...groups]
-    .map(([key, g]) => {
-      const [month, title, occupation] = JSON.parse(key) as [string, string, string | null]
-      return { month, title, occupation, postings: g.postings.size, counts: new Map([...g.counts].sort()) }
-    })
-    .sort((a, b) => order(a.month, b.month) || order(a.title, b.title) || order(a.occupation ?? '', b.occupation ?? ''))
-  const kept = readTitleMonths(db, since).map((t) => ({ ...t, counts: new Map([...t.counts].sort()) }))
-  expect(kept).toEqual(expected)
+  expect(keptTitleRows(db, since)).toEqual(referenceTitleRows(db, since))
 }
 
 function concept(id: string, broader: string[] = []): Concept {

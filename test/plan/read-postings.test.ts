@@ -1,12 +1,15 @@
 /**
- * The two readings of the postings window the plan makes (db/plan.ts): the mapped documents with
- * their concepts (what the role suggestions' kept counts are computed from), and the concept lists adjacency is counted from (every concept, or
- * only the listed ones). Both leave out reposts and roll-ups and agree with each other.
+ * The two readings of the postings window the plan makes: the concept lists adjacency is counted
+ * from (db/plan.ts; every concept, or only the listed ones), and the kept counts per (month, title,
+ * occupation) the role suggestions read (db/title-months.ts). Both leave out reposts and roll-ups.
  */
 import { describe, it, expect } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
-import { readConceptLists as readLists, readDocumentConcepts } from '../../src/db/plan.ts'
+import { rebuildDemandCounts } from '../../src/db/curves.ts'
+import { readConceptLists as readLists } from '../../src/db/plan.ts'
 import { rebuildMentionLists } from '../../src/db/mention-lists.ts'
+import { refreshTitleMonths } from '../../src/db/title-months.ts'
+import { keptTitleRows, referenceTitleRows } from '../db/title-counts-reference.ts'
 import type { Db } from '../../src/db/connection.ts'
 
 const readConceptLists = (db: Db, kind: 'posting' | 'request', since: string | null, concepts: string[] | null) => [...readLists(db, kind, since, concepts)].map((l) => [...l].sort())
@@ -38,42 +41,23 @@ function corpus() {
 }
 
 describe('reading the postings window for the plan', () => {
-  it('gives every original posting of the window, its direct concepts in id order, and the same lists both ways', () => {
+  it('gives every original posting of the window its direct concepts, as concept lists and as kept counts per title', () => {
     const db = corpus()
-    const docs = readDocumentConcepts(db, 'posting', { since: '2024-01' })
-    expect(docs.map((d) => [d.month, d.concepts])).toEqual([
-      ['2024-01', ['python', 'sql']],
-      ['2024-02', ['excel']],
-      ['2024-03', []],
-      ['2024-03', ['python', 'sql']],
-    ])
-    expect(readConceptLists(db, 'posting', '2024-01', null).sort()).toEqual(docs.map((d) => d.concepts).sort())
+    // worked by hand from corpus(): no repost, no roll-up, no request; the posting without skills counts
+    expect(readConceptLists(db, 'posting', '2024-01', null).sort()).toEqual([['excel'], ['python', 'sql'], ['python', 'sql'], []].sort())
     // only the listed concepts; documents without any of them stay, empty (they count as documents)
     expect(readConceptLists(db, 'posting', '2024-01', ['sql', 'data']).sort()).toEqual([['sql'], ['sql'], [], []].sort())
     expect(readConceptLists(db, 'posting', null, ['python'])).toHaveLength(5)
     expect(readConceptLists(db, 'request', null, null)).toEqual([['sql']])
-    // a month range; a posting waiting to be mapped (again) does not count
-    expect(readDocumentConcepts(db, 'posting', { since: '2024-02', until: '2024-02' }).map((d) => d.concepts)).toEqual([['excel']])
-    db.prepare('INSERT INTO unmapped_documents (id) VALUES (?)').run(docs[1]!.id)
-    expect(readDocumentConcepts(db, 'posting', { since: '2024-01' }).map((d) => d.id)).toEqual([docs[0]!.id, docs[2]!.id, docs[3]!.id])
-  })
 
-  it('reads the same documents and lists as the direct mention rows give (the query it replaced), and skips what `keep` leaves out', () => {
-    const db = corpus()
-    const fromMentions = db
-      .prepare(
-        `SELECT d.id, d.month, d.title, d.occupation,
-                (SELECT json_group_array(m.concept_id) FROM mentions m WHERE m.document_id = d.id AND m.via <> 'rollup') AS concepts
-         FROM documents d WHERE d.kind = 'posting' AND d.duplicate_of IS NULL AND d.month >= '' ORDER BY d.id`,
-      )
-      .all() as { id: number; month: string; title: string; occupation: string | null; concepts: string }[]
-    expect(readDocumentConcepts(db, 'posting')).toEqual(fromMentions.map((r) => ({ ...r, concepts: JSON.parse(r.concepts) as string[] })))
-    const asked: string[] = []
-    const kept = readDocumentConcepts(db, 'posting', { since: '2024-01', keep: (title) => {
-      asked.push(title)
-      return title !== 'Role 1'
-    } })
-    expect(asked).toEqual(['Role 1', 'Role 3', 'Role 4', 'Role 6'])
-    expect(kept.map((d) => d.title)).toEqual(['Role 3', 'Role 4', 'Role 6'])
+    rebuildDemandCounts(db) // the month versions the kept counts follow
+    db.transaction(() => refreshTitleMonths(db, '2024-01'))()
+    expect(keptTitleRows(db, '2024-01')).toEqual([
+      ['2024-01', 'Role 1', null, 1, { python: 1, sql: 1 }],
+      ['2024-02', 'Role 3', null, 1, { excel: 1 }],
+      ['2024-03', 'Role 4', null, 1, {}],
+      ['2024-03', 'Role 6', null, 1, { python: 1, sql: 1 }],
+    ])
+    expect(keptTitleRows(db, '2024-01')).toEqual(referenceTitleRows(db, '2024-01'))
   })
 })

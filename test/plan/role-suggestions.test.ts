@@ -1,6 +1,5 @@
 import { describe, it, expect } from 'vitest'
-import type { DocumentConcepts } from '../../src/db/plan.ts'
-import { titleMonths } from '../../src/db/title-months.ts'
+import { countTitles, type PostingConcepts } from '../db/title-counts-reference.ts'
 import { countCoOccurrence } from '../../src/plan/adjacency.ts'
 import type { SkillCurve } from '../../src/plan/curve-model.ts'
 import { buildPathways, findCandidates } from '../../src/plan/pathways.ts'
@@ -76,8 +75,7 @@ describe('suggested requirements', () => {
   // to 3 of 5; Excel stays at 2 of 5; SQL appears once; dbt goes from 1 in 6 to 1 in 5 (not significant,
   // but its curve is rising); MLOps goes from 12 to 13 of 60 (rising curve, but +8% < minRise 25%);
   // python is already required. Web postings are not the role's.
-  const docs: DocumentConcepts[] = []
-  let id = 0
+  const docs: PostingConcepts[] = []
   months('2024-01', 24).forEach((month, mi) => {
     const recent = mi >= 12
     for (let i = 0; i < 5; i++) {
@@ -87,15 +85,15 @@ describe('suggested requirements', () => {
       if (recent && mi === 20 && i === 0) concepts.push('sql')
       if (i === 0 || (mi === 23 && i === 1)) concepts.push('mlops')
       if (recent ? i === 4 || (mi % 6 === 0 && i === 3) || i === 3 : mi % 5 === 0 || (mi % 3 === 0 && i === 2)) concepts.push('dbt')
-      docs.push({ id: ++id, month, title: i === 4 ? 'Financial Analyst' : 'Reporting', occupation: i === 4 ? null : '15-2051', concepts })
+      docs.push({ month, title: i === 4 ? 'Financial Analyst' : 'Reporting', occupation: i === 4 ? null : '15-2051', concepts })
     }
-    for (let i = 0; i < 5; i++) docs.push({ id: ++id, month, title: 'Web Developer', occupation: '15-1254', concepts: ['prompt-engineering', 'react'] })
+    for (let i = 0; i < 5; i++) docs.push({ month, title: 'Web Developer', occupation: '15-1254', concepts: ['prompt-engineering', 'react'] })
   })
   const cfg = testConfig({ roleOccupations: { 'Data Analyst': ['15-2051', 'analyst'] } }).plan
   const input = {
     roles: ['Data Analyst'],
     requirements: new Map([['Data Analyst', new Set(['python'])]]),
-    titles: titleMonths(docs),
+    titles: countTitles(docs),
     latestMonth: '2025-12',
     curves: new Map([['dbt', rising('dbt')], ['mlops', rising('mlops')]]),
     labels: new Map([['prompt-engineering', 'prompt engineering']]),
