@@ -3,7 +3,7 @@
  * SQL of the plan stage: it reads curves, coverage, mentions, documents, the demand aggregates,
  * courses, people, roles and abilities, and writes plan_outputs, course_flag_notes and the skill_id resolution of course_skills.
  */
-import type { Db } from './connection.ts'
+import { getSetting, setSetting, type Db } from './connection.ts'
 import { isMapped, readConceptLabelList, type CurveRow } from './curves.ts'
 import { conceptsByCode, decodeCodes } from './mention-lists.ts'
 
@@ -240,6 +240,29 @@ export function mentionCountsByMonth(db: Db, kind: 'posting' | 'request'): { con
        GROUP BY m.concept_id, d.month`,
     )
     .all(kind) as { concept_id: string; month: string; n: number }[]
+}
+
+const KEPT_COURSE_RESOLUTIONS = 'plan.courseResolutions'
+
+/** Course resolutions kept from the last plan run, with the digest of what they were made from. */
+interface KeptCourseResolutions<T> {
+  inputs: string
+  method: string
+  courses: readonly T[]
+}
+
+/** The course resolutions the last plan run kept, when they were made from `inputs` (a digest); else null. */
+export function readKeptCourseResolutions<T extends { courseId: string }>(db: Db, inputs: string): { method: string; courses: Map<string, T> } | null {
+  const text = getSetting(db, KEPT_COURSE_RESOLUTIONS)
+  if (text === undefined) return null
+  const kept = JSON.parse(text) as KeptCourseResolutions<T>
+  if (kept.inputs !== inputs) return null
+  return { method: kept.method, courses: new Map(kept.courses.map((c) => [c.courseId, c])) }
+}
+
+/** Keeps this run's course resolutions for the next run (inside the plan's transaction). */
+export function writeKeptCourseResolutions<T>(db: Db, inputs: string, method: string, courses: readonly T[]): void {
+  setSetting(db, KEPT_COURSE_RESOLUTIONS, JSON.stringify({ inputs, method, courses } satisfies KeptCourseResolutions<T>))
 }
 
 export interface CourseRecord {

@@ -37,6 +37,7 @@ export function runPlan(db: Db, config: Config, now: Date = new Date()): PlanRun
     const at = now.toISOString()
     const previous = new Map(store.readPlanOutputs<CourseFlag>(db, 'course-flag').map((r) => [r.key, r.payload.flag]))
 
+    store.writeKeptCourseResolutions(db, result.courseResolutionKey.inputs, result.courseResolutionKey.method, result.courseSkills)
     for (const c of result.courseSkills) {
       for (const r of c.resolved) store.setCourseSkillId(db, c.courseId, r.ref, r.skillId)
       if (c.untagged) {

@@ -6,6 +6,8 @@ import { main } from '../../src/cli.ts'
 import { REPORTS } from '../../src/commands/registry.ts'
 import { contentHash, openDb } from '../../src/db/connection.ts'
 import { readFlagNotes, readPlanOutputs, readCourseSkills } from '../../src/db/plan.ts'
+import { bumpTaxonomyVersion } from '../../src/db/taxonomy.ts'
+import { upsertCourses } from '../../src/db/workforce.ts'
 import { emit } from '../../src/events/outbox.ts'
 import { ripple, runPipeline } from '../../src/pipeline.ts'
 import type { CourseFlag } from '../../src/plan/course-flags.ts'
@@ -68,6 +70,41 @@ describe('plan stage on a small synthetic organisation', () => {
     // a second run keeps exactly one inferred row
     runPlan(db, testConfig())
     expect(readCourseSkills(db).filter((r) => r.course_id === 'c-untagged')).toHaveLength(1)
+  })
+
+  it('keeps the course resolutions while titles, tags and the taxonomy are unchanged, and resolves again when one changes', () => {
+    const db = freshDb()
+    loadScenario(db)
+    const config = testConfig()
+    runPlan(db, config)
+    const before = contentHash(db, ['plan_outputs', 'course_skills'])
+    const of = (c: string) => readCourseSkills(db).filter((r) => r.course_id === c).map((r) => [r.skill_ref, r.skill_id, r.inferred])
+    // the labels gone without the taxonomy version moving on: a run that resolved again would lose
+    // the tags given by label ('Adobe Flash', 'HTML'); the kept resolutions still have them
+    db.prepare('DELETE FROM labels').run()
+    runPlan(db, config)
+    expect(contentHash(db, ['plan_outputs', 'course_skills'])).toBe(before)
+    // a changed title resolves again (and meets the labels' loss)
+    db.prepare("UPDATE courses SET title = 'From jQuery to modern pages, again' WHERE course_id = 'c-untagged'").run()
+    runPlan(db, config)
+    expect(of('c-flash')).toEqual([['Adobe Flash', null, 0]])
+    expect(flags(db)['c-flash']).toBe('keep')
+    // so does a changed tag: the label back, kept until then
+    const html = () => of('c-jquery').find((r) => r[0] === 'HTML')![1]
+    db.prepare("INSERT INTO labels (concept_id, label, kind, case_sensitive) VALUES ('html', 'HTML', 'pref', 0)").run()
+    runPlan(db, config)
+    expect(html()).toBeNull()
+    upsertCourses(db, [{ course_id: 'c-flash', title: 'Animations in Flash', skills: ['Adobe Flash', 'adobe-flash'], last_reviewed: null, enrollments_12m: 12, enrollments_prev_12m: 40, owner: '' }])
+    runPlan(db, config)
+    expect(html()).toBe('html')
+    expect(of('c-flash')).toEqual([['Adobe Flash', null, 0], ['adobe-flash', 'adobe-flash', 0]])
+    // and a new taxonomy version: the label gone again, kept until then
+    db.prepare("DELETE FROM labels WHERE label = 'HTML'").run()
+    runPlan(db, config)
+    expect(html()).toBe('html')
+    bumpTaxonomyVersion(db)
+    runPlan(db, config)
+    expect(html()).toBeNull()
   })
 
   it('builds the taxonomy matcher only when a course is untagged', () => {
