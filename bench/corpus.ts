@@ -456,7 +456,8 @@ function zipfSampler(n: number, s: number, rng: Random): () => number {
  */
 export function generatePostings(opts: CorpusOptions, write: (chunk: Buffer) => void): CorpusTruth {
   const seed = opts.seed ?? 7
-  const rng = new Random(seed * 104729 + (opts.startIndex ?? 0))
+  const first = opts.startIndex ?? 0
+  const rng = new Random(seed * 104729 + first)
   const months = opts.months
   const textBytes = opts.textBytes ?? 2000
   const repostRate = opts.repostRate ?? 0.03
@@ -469,10 +470,14 @@ export function generatePostings(opts: CorpusOptions, write: (chunk: Buffer) => 
   const trendPatterns = trends.map((t) => new RegExp(`(?<![\\p{L}\\p{N}])${t.phrase.replace(/[.*+?^${}()|[\]\\]/g, '\\$&')}(?![\\p{L}\\p{N}])`, 'iu'))
   const mentionsPlanted = (text: string) => trendPatterns.some((re) => re.test(text))
   // background concepts: everything not planted whose labels never contain a planted phrase, in a
-  // seeded random popularity order; so the planted counts are the true counts of each phrase
+  // seeded random popularity order; so the planted counts are the true counts of each phrase. The
+  // order is the seed's alone, so that a continuation (startIndex > 0: the benchmark's increments)
+  // asks for the same skills as the corpus it continues (the order is the first thing the stream of
+  // a corpus from 0 draws, so the two agree, and a corpus from 0 is what it was)
+  const order = first > 0 ? new Random(seed * 104729) : rng
   const background = opts.taxonomy.concepts.filter((c) => !trendIds.has(c.id) && !mentionsPlanted(c.prefLabel))
   for (let i = background.length - 1; i > 0; i--) {
-    const j = rng.int(i + 1)
+    const j = order.int(i + 1)
     ;[background[i], background[j]] = [background[j]!, background[i]!]
   }
   // labels a posting writer would use: pref and alt labels mostly, a misspelt hidden label now and then
@@ -512,7 +517,6 @@ export function generatePostings(opts: CorpusOptions, write: (chunk: Buffer) => 
     write(buffer.subarray(0, used))
     used = 0
   }
-  const first = opts.startIndex ?? 0
   for (let i = 0; i < opts.n; i++) {
     const idx = first + i
     const month = opts.onlyMonths ? opts.onlyMonths[i % opts.onlyMonths.length]! : Math.min(months - 1, Math.floor((i * months) / opts.n))

@@ -26,6 +26,24 @@ describe('corpus generator', () => {
     expect(generate(300, 6).text).not.toBe(a)
   })
 
+  it('a continuation (startIndex) asks for the same popular skills as the corpus it continues', () => {
+    // the 20 background skills (not planted) named most often, by their preferred labels as whole words
+    const top = (text: string, taxonomy: ReturnType<typeof smallTaxonomy>) => {
+      const planted = new Set(plantedTrends(taxonomy, 5).map((t) => t.id))
+      const words = new Map<string, number>()
+      for (const w of text.toLowerCase().split(/[^\p{L}\p{N}+#.-]+/u)) words.set(w, (words.get(w) ?? 0) + 1)
+      const counts = taxonomy.concepts.filter((c) => !planted.has(c.id) && !/\s/.test(c.prefLabel)).map((c) => [c.id, words.get(c.prefLabel.toLowerCase()) ?? 0] as const)
+      return new Set(counts.sort((a, b) => b[1] - a[1] || (a[0] < b[0] ? -1 : 1)).slice(0, 20).map(([id]) => id))
+    }
+    const base = generate(2000, 5)
+    const next = generate(2000, 5, { startIndex: 1_000_000 })
+    expect(next.text).not.toBe(base.text)
+    const a = top(base.text, base.taxonomy)
+    const shared = [...top(next.text, next.taxonomy)].filter((id) => a.has(id))
+    // measured: 19 of 20 shared; 7 when a continuation drew its own popularity order
+    expect(shared.length).toBeGreaterThanOrEqual(16)
+  })
+
   it('writes valid JobPosting lines of about 2 KB of text, with unique identifiers', () => {
     const { text, truth } = generate(500, 5)
     const lines = text.trimEnd().split('\n')
