@@ -71,6 +71,8 @@ export function readCsv(text: string, file: string, required: readonly string[],
     parseError = err as Error & { code?: string }
   }
   const broken = parseError ? lines.at(rowStart(bytes, end, bytes.length)) : 0
+  // records of blank cells only before the header (a lone \r in a \n file is one) are blank lines
+  while (records.length > 0 && records[0]!.record.every((cell) => cell.trim() === '')) records.shift()
   if (records.length === 0) {
     if (parseError) return { rows: [], problems: [], warnings: [], fatal: { file, line: broken, reason: parseReason(parseError, bytes, end, lines, null) } }
     return { rows: [], problems: [], warnings: [], fatal: { file, line: 1, reason: 'empty file (a header row is required)' } }

@@ -60,6 +60,9 @@ describe('readCsv line numbers', () => {
   it('problems of a header after blank lines name the header’s line', () => {
     const missing = readCsv('\r\n\r\nid,txt\r\na,b\r\n', 'f.csv', ['id', 'text'])
     expect(missing.fatal).toEqual({ file: 'f.csv', line: 3, column: 'text', reason: 'missing required column(s); header has: id, txt' })
+    // a lone CR in an LF file is a record of one blank cell to the parser: before the header, a blank line
+    expect(readCsv('\n\r\nid,txt\na,b\n', 'f.csv', ['id', 'text']).fatal).toMatchObject({ line: 3, column: 'text' })
+    expect(readCsv('\n\n\r\n\n', 'f.csv', ['id']).fatal).toEqual({ file: 'f.csv', line: 1, reason: 'empty file (a header row is required)' })
     const unknown = readCsv('\n\nid,text,colour\na,b,c\n', 'f.csv', ['id', 'text'])
     expect(unknown.warnings).toEqual([{ file: 'f.csv', line: 3, column: 'colour', reason: 'unknown column(s) ignored' }])
     expect(unknown.rows.map((r) => r.line)).toEqual([4])
