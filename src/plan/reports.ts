@@ -21,6 +21,12 @@ function round(x: number | null | undefined, digits = 4): number | null {
   return Math.round(x * f) / f
 }
 
+/** A p-value to three significant digits: rounded to decimals, a p of 3e-15 would print as 0. */
+function pRound(p: number | null | undefined): number | null {
+  if (p === null || p === undefined || !Number.isFinite(p)) return null
+  return Number(p.toPrecision(3))
+}
+
 function notRunFooter(db: Db): string | undefined {
   return readPlanOutputs(db, 'plan-run').length === 0 ? 'the plan has not been computed yet: run `tides run plan`' : undefined
 }
@@ -95,7 +101,7 @@ export const PLAN_REPORTS: Record<string, Report> = {
     build(db, _config, opts): ReportOutput {
       const rows = limited(readPlanOutputs<RoleSuggestion>(db, 'role-suggestion').map((r) => r.payload), opts.limit)
       return {
-        rows: rows.map((s) => ({ role: s.role, id: s.skillId, label: s.label, recentShare: round(s.recentShare), earlierShare: round(s.earlierShare), recentPostings: s.recentPostings, pValue: round(s.pValue, 5), pAdjusted: round(s.pAdjusted, 5), state: s.state ?? '', reason: s.reason })),
+        rows: rows.map((s) => ({ role: s.role, id: s.skillId, label: s.label, recentShare: round(s.recentShare), earlierShare: round(s.earlierShare), recentPostings: s.recentPostings, pValue: pRound(s.pValue), pAdjusted: pRound(s.pAdjusted), state: s.state ?? '', reason: s.reason })),
         columns: ['role', 'id', 'label', 'recentShare', 'earlierShare', 'recentPostings', 'pValue', 'pAdjusted', 'state', 'reason'],
         json: rows,
         footer: notRunFooter(db),

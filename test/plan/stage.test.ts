@@ -5,7 +5,7 @@ import path from 'node:path'
 import { main } from '../../src/cli.ts'
 import { REPORTS } from '../../src/commands/registry.ts'
 import { contentHash, openDb } from '../../src/db/connection.ts'
-import { readFlagNotes, readPlanOutputs, readCourseSkills } from '../../src/db/plan.ts'
+import { readFlagNotes, readPlanOutputs, readCourseSkills, replacePlanOutputs } from '../../src/db/plan.ts'
 import { bumpTaxonomyVersion } from '../../src/db/taxonomy.ts'
 import { upsertCourses } from '../../src/db/workforce.ts'
 import { emit } from '../../src/events/outbox.ts'
@@ -259,6 +259,10 @@ describe('plan reports', () => {
       expect(() => toCsv(r.rows, r.columns)).not.toThrow()
     }
     expect(REPORTS['pathways']!.build(db, config, {}).rows.map((r) => [r['from'], r['to']])).toEqual([['adobe-flash', 'html5-canvas'], ['jquery', 'typescript']])
+    // p-values keep three significant digits (rounded to five decimals, 3e-15 printed as 0)
+    const suggestion = { role: 'Analyst', skillId: 'sql', label: 'SQL', recentPostings: 900, recentMentions: 300, recentShare: 1 / 3, earlierPostings: 800, earlierMentions: 80, earlierShare: 0.1, pValue: 3.00750229955946e-15, pAdjusted: 0.0123456, state: 'rising', reason: '' }
+    replacePlanOutputs(db, ['role-suggestion'], [{ kind: 'role-suggestion', key: '["Analyst","sql"]', rank: null, score: 0.23, payload: suggestion }], '2026-01-01T00:00:00Z')
+    expect(REPORTS['suggested-requirements']!.build(db, config, {}).rows[0]).toMatchObject({ pValue: 3.01e-15, pAdjusted: 0.0123, recentShare: 0.3333 })
   })
 
   it('through the CLI: run plan, then report needs --json parses and report courses --csv prints rows', async () => {
