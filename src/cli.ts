@@ -18,6 +18,9 @@ import { NotBuiltError, STAGE_ORDER } from './stage.ts'
 import { formatProblem, toCsv } from './util/csv.ts'
 import { printTable } from './util/table.ts'
 
+/** Every report name, the built ones and those planned (the usage lists them all). */
+const REPORT_NAMES = [...new Set([...PLANNED_REPORTS, ...Object.keys(REPORTS)])]
+
 /** A usage error: wrong command, option or argument (exit 2). */
 export class UsageError extends Error {
   override name = 'UsageError'
@@ -169,11 +172,11 @@ export const COMMANDS: Record<string, Command> = {
   },
   report: {
     summary: 'print a report as a table, --json or --csv',
-    usage: `tides report <${PLANNED_REPORTS.join('|')}> [--json|--csv] [--limit N] [--people]`,
+    usage: `tides report <${REPORT_NAMES.join('|')}> [--json|--csv] [--limit N] [--people]`,
     options: { ...OUTPUT_OPTIONS, limit: { type: 'string' }, people: { type: 'boolean' } },
     async run(ctx, values, positionals) {
       const [name] = positionals
-      if (!name) throw new UsageError(`report needs a name: ${[...new Set([...PLANNED_REPORTS, ...Object.keys(REPORTS)])].join(', ')}`)
+      if (!name) throw new UsageError(`report needs a name: ${REPORT_NAMES.join(', ')}`)
       if (values['json'] && values['csv']) throw new UsageError('choose one of --json and --csv')
       const report = REPORTS[name]
       if (!report) {
