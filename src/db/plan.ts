@@ -4,8 +4,8 @@
  * courses, people, roles and abilities, and writes plan_outputs, course_flag_notes and the skill_id resolution of course_skills.
  */
 import { getSetting, setSetting, type Db } from './connection.ts'
-import { isMapped, readConceptLabelList, type CurveRow } from './curves.ts'
-import { conceptsByCode, decodeCodes } from './mention-lists.ts'
+import { readConceptLabelList, type CurveRow } from './curves.ts'
+import { conceptsByCode } from './mention-lists.ts'
 
 /** A row of the curves table as the plan stage reads it. */
 export type CurveRecord = Omit<CurveRow, 'forecast_method' | 'change_month' | 'emerged_month'>

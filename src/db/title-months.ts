@@ -24,7 +24,7 @@
  */
 import type { Db } from './connection.ts'
 import { isMapped } from './curves.ts'
-import { conceptsByCode, encodeCodes } from './mention-lists.ts'
+import { conceptsByCode, decodeCodes, encodeCodes } from './mention-lists.ts'
 
 /**
  * The postings of one month with one title and occupation: how many there are, and for each
@@ -58,7 +58,7 @@ export function countsById(counts: TitleCounts, row: TitleMonth): Map<string, nu
 
 /** The posting months from `since` on whose kept counts are missing or older than their month's version. */
 export function staleTitleMonths(db: Db, since: string | null): string[] {
-  const rows = db
+  return db
     .prepare(
       `SELECT v.month FROM month_versions v LEFT JOIN title_month_marks m ON m.month = v.month
          WHERE v.kind = 'posting' AND v.month >= ? AND (m.version IS NULL OR m.version <> v.version)
@@ -69,7 +69,6 @@ export function staleTitleMonths(db: Db, since: string | null): string[] {
     )
     .pluck()
     .all(since ?? '', since ?? '') as string[]
-  return rows
 }
 
 /**
@@ -104,20 +103,7 @@ export function refreshTitleMonths(db: Db, since: string | null): { months: numb
       let g = groups.get(key)
       if (!g) groups.set(key, (g = { title, occupation, postings: 0, counts: new Map() }))
       g.postings++
-      if (!codes) continue
-      // decodeCodes (db/mention-lists.ts) inlined
-      let code = 0
-      let shift = 0
-      for (const x of codes) {
-        code |= (x & 127) << shift
-        if (x & 128) {
-          shift += 7
-          continue
-        }
-        g.counts.set(code, (g.counts.get(code) ?? 0) + 1)
-        code = 0
-        shift = 0
-      }
+      if (codes) for (const code of decodeCodes(codes)) g.counts.set(code, (g.counts.get(code) ?? 0) + 1)
     }
     for (const g of groups.values()) {
       const pairs = [...g.counts].sort((x, y) => x[0] - y[0])

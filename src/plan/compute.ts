@@ -2,7 +2,9 @@
  * @module plan/compute
  * Gathers the plan stage's inputs from the database and computes every planning output: needs
  * ranking (per skill and per role × skill), suggested role requirements, course flags, reskilling
- * pathways and candidates, and the reskilling forecast. Reads only; stage.ts writes.
+ * pathways and candidates, and the reskilling forecast. It reads, except that it brings the kept
+ * counts per month, title and occupation up to date (db/title-months.ts) inside the caller's
+ * transaction; stage.ts writes the outputs.
  */
 import crypto from 'node:crypto'
 import type { Config } from '../config.ts'
