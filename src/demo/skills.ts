@@ -38,8 +38,6 @@ interface Extra {
   internal?: number
 }
 
-const DEV: RoleKey[] = ['swe', 'qa', 'sre', 'cloud', 'lead']
-
 /** Roles and phrases of each planted skill (its phrase in planted.ts stays first). */
 const PLANTED_EXTRA: Record<string, Extra> = {
   'prompt-engineering': { phrases: ['prompt engineering', 'prompt design', 'prompt writing'], roles: ['swe', 'ds', 'da', 'pm', 'ba', 'cs'], internal: 1.4 },
