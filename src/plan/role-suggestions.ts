@@ -69,23 +69,30 @@ export function roleMatcher(keywords: readonly string[]): (doc: { title: string;
 }
 
 /**
- * Whether a document's title or occupation matches any of the roles (roleMatcher with each role's
- * configured occupations), remembered per distinct title and occupation: the kept counts repeat
- * titles month after month, and only the matching ones are decoded.
+ * The indices (into `roles`) of the roles a title and occupation match (roleMatcher with each
+ * role's configured occupations), remembered per distinct title and occupation: the kept counts
+ * repeat titles month after month.
  */
-export function anyRoleMatcher(roles: readonly string[], cfg: Pick<PlanConfig, 'roleOccupations'>): (title: string, occupation: string | null) => boolean {
+export function rolesMatching(roles: readonly string[], cfg: Pick<PlanConfig, 'roleOccupations'>): (title: string, occupation: string | null) => readonly number[] {
   const matchers = roles.map((role) => roleMatcher(cfg.roleOccupations[role] ?? [role]))
-  const seen = new Map<string, boolean>()
+  const seen = new Map<string, number[]>()
   return (title, occupation) => {
     const key = `${title}\u0000${occupation ?? ''}`
-    let hit = seen.get(key)
-    if (hit === undefined) {
+    let hits = seen.get(key)
+    if (!hits) {
       const doc = { title, occupation }
-      hit = matchers.some((matches) => matches(doc))
-      seen.set(key, hit)
+      hits = []
+      for (const [i, matches] of matchers.entries()) if (matches(doc)) hits.push(i)
+      seen.set(key, hits)
     }
-    return hit
+    return hits
   }
+}
+
+/** Whether a title and occupation match any of the roles (only the matching kept counts are decoded). */
+export function anyRoleMatcher(roles: readonly string[], cfg: Pick<PlanConfig, 'roleOccupations'>): (title: string, occupation: string | null) => boolean {
+  const matching = rolesMatching(roles, cfg)
+  return (title, occupation) => matching(title, occupation).length > 0
 }
 
 /** One-sided p-value of p1 > p0 (null when the pooled share is 0 or 1). */
@@ -119,20 +126,12 @@ export function suggestRequirements(input: SuggestionInput, cfg: Pick<PlanConfig
   // each role's postings of both windows, in one pass over the counts, summed per concept index;
   // the roles a title and occupation match are found once for all its months
   const size = input.titles.concepts.length
-  const matchers = input.roles.map((role) => roleMatcher(cfg.roleOccupations[role] ?? [role]))
+  const matching = rolesMatching(input.roles, cfg)
   const windows: ({ recentTotal: number; earlierTotal: number; recent: Uint32Array; earlier: Uint32Array } | undefined)[] = input.roles.map(() => undefined)
-  const rolesOf = new Map<string, number[]>()
   for (const group of input.titles.rows) {
     if (group.month < earlierStart || group.month > input.latestMonth) continue
-    const key = `${group.title}\u0000${group.occupation ?? ''}`
-    let hits = rolesOf.get(key)
-    if (!hits) {
-      hits = []
-      for (const [i, matches] of matchers.entries()) if (matches(group)) hits.push(i)
-      rolesOf.set(key, hits)
-    }
     const isRecent = group.month >= recentStart
-    for (const i of hits) {
+    for (const i of matching(group.title, group.occupation)) {
       const w = (windows[i] ??= { recentTotal: 0, earlierTotal: 0, recent: new Uint32Array(size), earlier: new Uint32Array(size) })
       if (isRecent) w.recentTotal += group.postings
       else w.earlierTotal += group.postings
