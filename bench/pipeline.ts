@@ -21,7 +21,8 @@
  * Sizes: env BENCH_N, comma-separated (default "10000,100000", a 10x step that finishes in a few
  * minutes). The issue's sizes, N = 100,000 and 1,000,000, are opt-in because the 1M corpus is 2.3 GB
  * and the run takes long on 2 cores: `BENCH_N=100000,1000000 npm run bench -- pipeline`.
- * BENCH_MONTHS (default 60), BENCH_INCREMENT (default 10000), BENCH_PEOPLE (default 20000, the
+ * BENCH_MONTHS (default 60), BENCH_INCREMENT (default 10000), BENCH_INCREMENTS (default 3: that many
+ * increments one after another, the goal judged on their median), BENCH_PEOPLE (default 20000, the
  * workforce's people; 0: none), BENCH_SCALED (default 10; 0: no
  * scaled fit), BENCH_KEEP=1 keeps each run's database
  * in bench/.work/pipeline-N/ (the corpus files are kept and reused either way).
@@ -53,6 +54,12 @@ const PROBE = pathToFileURL(path.join(here, 'rss-probe.mjs')).href
 const SIZES = (process.env['BENCH_N'] ?? '10000,100000').split(',').map((s) => Number(s.trim())).filter((n) => Number.isInteger(n) && n > 0)
 const MONTHS = Number(process.env['BENCH_MONTHS'] ?? 60)
 const INCREMENT = Number(process.env['BENCH_INCREMENT'] ?? 10_000)
+/**
+ * increments run one after another: one run's stages vary by a second or two on this machine (the
+ * same fit on the same database took 5.5 and 7.1 s minutes apart), so the goal is judged on the
+ * median, and every run is printed
+ */
+const INCREMENTS = Math.max(1, Number(process.env['BENCH_INCREMENTS'] ?? 3))
 /** the largest size's demand is also fitted with every count multiplied by this (scaledDemandFit; 0: not) */
 const SCALED_FACTOR = Number(process.env['BENCH_SCALED'] ?? 10)
 /** people of the workforce imported before the run (the demo generator's tables; 0: none) */
@@ -119,7 +126,8 @@ interface SizeResult {
   mentionRows: number
   endToEnd: number
   peakMiB: number
-  incremental?: { importStep: Step; runStep: Step; seconds: number; mapped: number; stages: Map<string, Outcome> }
+  /** the increments, in the order they ran */
+  incremental?: { importStep: Step; runStep: Step; seconds: number; mapped: number; stages: Map<string, Outcome> }[]
   /** the workforce tables' import (every kind, one process each), and what they hold */
   workforce?: { seconds: number; peakMiB: number; people: number; responses: number }
   /** the fit stage on copies of this size's demand, counts as they are and multiplied (scaledDemandFit) */
@@ -130,6 +138,13 @@ interface SizeResult {
   tested?: string[]
   planted?: { checked: number; agree: number }
   curves: number
+}
+
+/** The middle value (the mean of the two middle ones for an even count). */
+function median(values: readonly number[]): number {
+  const sorted = [...values].sort((a, b) => a - b)
+  const mid = sorted.length >> 1
+  return sorted.length % 2 ? sorted[mid]! : (sorted[mid - 1]! + sorted[mid]!) / 2
 }
 
 function sumStage(outcomes: Outcome[]): Map<string, Outcome> {
@@ -167,7 +182,7 @@ function sameSkillsFit(db: string, ids: readonly string[] | null): { skills: num
       times.push(performance.now() - started)
       tested = curves.filter((curve) => curve.pValue !== null && Number.isFinite(curve.pValue)).map((curve) => curve.id)
     }
-    return { skills: inputs.length, ms: times.sort((a, b) => a - b)[1]!, tested }
+    return { skills: inputs.length, ms: median(times), tested }
   } finally {
     d.close()
   }
@@ -349,22 +364,25 @@ async function runSize(n: number, sameSkillIds: readonly string[] | null): Promi
   }
 
   if (INCREMENT > 0) {
-    // new postings in the last two months, identifiers after the corpus's
-    const file = path.join(dir, `new-${INCREMENT}.jsonl`)
-    const chunks: Buffer[] = []
-    generatePostings({ n: INCREMENT, months: MONTHS, seed: 7, taxonomy: corpus.taxonomy, trends: corpus.trends, startIndex: n, onlyMonths: [MONTHS - 2, MONTHS - 1] }, (b) => chunks.push(Buffer.from(b)))
-    fs.writeFileSync(file, Buffer.concat(chunks))
-    const mappedBefore = count(db, COUNT_MAPPED)
-    log(`  incremental: import ${INCREMENT} new postings and run all`)
-    const importStep = await tides(config, ['import', 'postings', file])
-    const runStep = await tides(config, ['run', 'all', '--json'])
-    const mappedAfter = count(db, COUNT_MAPPED)
-    result.incremental = {
-      importStep,
-      runStep,
-      seconds: importStep.seconds + runStep.seconds,
-      mapped: mappedAfter - mappedBefore,
-      stages: sumStage(JSON.parse(runStep.stdout) as Outcome[]),
+    result.incremental = []
+    for (let k = 0; k < INCREMENTS; k++) {
+      // new postings in the last two months, identifiers after the corpus's and the earlier increments'
+      const file = path.join(dir, `new-${INCREMENT}-${k + 1}.jsonl`)
+      const chunks: Buffer[] = []
+      generatePostings({ n: INCREMENT, months: MONTHS, seed: 7, taxonomy: corpus.taxonomy, trends: corpus.trends, startIndex: n + k * INCREMENT, onlyMonths: [MONTHS - 2, MONTHS - 1] }, (b) => chunks.push(Buffer.from(b)))
+      fs.writeFileSync(file, Buffer.concat(chunks))
+      const mappedBefore = count(db, COUNT_MAPPED)
+      log(`  incremental ${k + 1} of ${INCREMENTS}: import ${INCREMENT} new postings and run all`)
+      const importStep = await tides(config, ['import', 'postings', file])
+      const runStep = await tides(config, ['run', 'all', '--json'])
+      const mappedAfter = count(db, COUNT_MAPPED)
+      result.incremental.push({
+        importStep,
+        runStep,
+        seconds: importStep.seconds + runStep.seconds,
+        mapped: mappedAfter - mappedBefore,
+        stages: sumStage(JSON.parse(runStep.stdout) as Outcome[]),
+      })
     }
   }
   if (!process.env['BENCH_KEEP']) fs.rmSync(dir, { recursive: true, force: true })
@@ -409,14 +427,21 @@ function stageFigures(r: SizeResult, limits: { tokenise: number; insert: number 
   figures.push({ figure: `${tag} end to end`, value: r.endToEnd, unit: 's', ...(big ? { goal: '< 300', met: r.endToEnd < 300 } : {}) })
   figures.push({ figure: `${tag} peak RSS of any step`, value: r.peakMiB, unit: 'MiB', ...(big ? { goal: '< 1536', met: r.peakMiB < 1536 } : {}) })
   if (r.planted) figures.push({ figure: `${tag} planted trends fitted in the right direction`, value: r.planted.agree, unit: `of ${r.planted.checked}`, goal: `= ${r.planted.checked}`, met: r.planted.agree === r.planted.checked })
-  if (r.incremental) {
-    const inc = r.incremental
-    figures.push({ figure: `${tag} incremental (+${INCREMENT} postings: import + run all)`, value: inc.seconds, unit: 's', goal: '< 15', met: inc.seconds < 15 })
+  if (r.incremental?.length) {
+    const runs = r.incremental
+    const of = runs.length > 1 ? `median of ${runs.length}` : 'one run'
+    const seconds = median(runs.map((inc) => inc.seconds))
+    figures.push({ figure: `${tag} incremental (+${INCREMENT} postings: import + run all), ${of}`, value: seconds, unit: 's', goal: '< 15', met: seconds < 15 })
+    if (runs.length > 1) figures.push({ figure: `${tag} incremental, slowest run`, value: Math.max(...runs.map((inc) => inc.seconds)), unit: `s (runs in order: ${runs.map((inc) => inc.seconds.toFixed(1)).join(', ')} s)` })
     // reposts among the new postings are stored but not mapped, so a few under INCREMENT is right
-    figures.push({ figure: `${tag} incremental: documents mapped`, value: inc.mapped, unit: 'docs', goal: `<= ${INCREMENT} (only the new ones)`, met: inc.mapped <= INCREMENT })
-    figures.push({ figure: `${tag} incremental: import`, value: inc.importStep.seconds, unit: 's' })
-    for (const [name, o] of inc.stages) if (o.ms >= 1) figures.push({ figure: `${tag} incremental ${name}`, value: o.ms / 1000, unit: 's' })
-    figures.push({ figure: `${tag} incremental run all peak RSS`, value: inc.runStep.peakMiB, unit: 'MiB' })
+    const mapped = Math.max(...runs.map((inc) => inc.mapped))
+    figures.push({ figure: `${tag} incremental: documents mapped (most of any run)`, value: mapped, unit: 'docs', goal: `<= ${INCREMENT} (only the new ones)`, met: mapped <= INCREMENT })
+    figures.push({ figure: `${tag} incremental: import, ${of}`, value: median(runs.map((inc) => inc.importStep.seconds)), unit: 's' })
+    for (const name of runs[0]!.stages.keys()) {
+      const ms = median(runs.map((inc) => inc.stages.get(name)?.ms ?? 0))
+      if (ms >= 1) figures.push({ figure: `${tag} incremental ${name}, ${of}`, value: ms / 1000, unit: 's' })
+    }
+    figures.push({ figure: `${tag} incremental run all peak RSS (most of any run)`, value: Math.max(...runs.map((inc) => inc.runStep.peakMiB)), unit: 'MiB' })
   }
   return figures
 }
