@@ -10,6 +10,7 @@
 import path from 'node:path'
 import { fileURLToPath } from 'node:url'
 import { build } from 'esbuild'
+import { fitSourceKey } from '../src/curves/source-key.ts'
 import { matcherSourceKey } from '../src/taxonomy/matcher-cache.ts'
 import type { BuildFacts } from '../src/util/build.ts'
 
@@ -25,7 +26,7 @@ export const ENTRIES: Record<string, string> = {
   'candidate-worker': 'src/taxonomy/candidate-worker.ts',
 }
 
-const facts: BuildFacts = { matcherSourceKey: matcherSourceKey() }
+const facts: BuildFacts = { matcherSourceKey: matcherSourceKey(), fitSourceKey: fitSourceKey() }
 const started = performance.now()
 await build({
   entryPoints: Object.fromEntries(Object.entries(ENTRIES).map(([name, file]) => [name, path.join(root, file)])),

@@ -20,6 +20,7 @@ import type { Db } from '../db/connection.ts'
 import crypto from 'node:crypto'
 import * as store from '../db/ability.ts'
 import { readAbilityInputs } from '../db/workforce.ts'
+import { readStageMark, writeStageMark } from '../db/runs.ts'
 import { emit } from '../events/outbox.ts'
 import { calibrate, type CalibrationResult } from './calibrate.ts'
 import { estimateAbilities, fallbackNote } from './estimate.ts'
@@ -93,7 +94,7 @@ export function runAbility(db: Db, config: Config, options: AbilityRunOptions = 
   const day = now.toISOString().slice(0, 10)
   const configHash = crypto.createHash('sha256').update(JSON.stringify(cfg)).digest('hex')
   if (!options.calibrate && !options.rebuild) {
-    const mark = store.readStageMark(db, 'ability')
+    const mark = readStageMark(db, 'ability')
     if (mark && mark.inputs === readAbilityInputs(db) && mark.day === day && mark.configHash === configHash) {
       return {
         summary: `inputs unchanged since the last run at ${mark.updatedAt}: abilities and coverage kept`,
@@ -246,7 +247,7 @@ export function runAbility(db: Db, config: Config, options: AbilityRunOptions = 
       stale,
     })
     // read after the writes above, so that they never make the next run recompute
-    store.writeStageMark(db, 'ability', { inputs: readAbilityInputs(db), day, configHash, counts, updatedAt: new Date().toISOString() })
+    writeStageMark(db, 'ability', { inputs: readAbilityInputs(db), day, configHash, counts, updatedAt: new Date().toISOString() })
   })()
 
   const parts = [

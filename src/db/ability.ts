@@ -134,33 +134,3 @@ export function readCoverageUpdatedAt(db: Db): string | null {
   const row = db.prepare('SELECT MAX(updated_at) AS at FROM coverage').get() as { at: string | null }
   return row.at
 }
-
-/** What a stage's last successful run was computed from (migration 12). */
-export interface StageMark {
-  /** the stage's input counter read after its own writes */
-  inputs: number
-  /** the UTC day (YYYY-MM-DD) it judged staleness by */
-  day: string
-  /** hash of its config section */
-  configHash: string
-  counts: Record<string, number>
-  /** when the run stored it */
-  updatedAt: string
-}
-
-export function readStageMark(db: Db, stage: string): StageMark | null {
-  const row = db.prepare('SELECT inputs, day, config_hash, counts_json, updated_at FROM stage_marks WHERE stage = ?').get(stage) as
-    | { inputs: number; day: string; config_hash: string; counts_json: string; updated_at: string }
-    | undefined
-  if (!row) return null
-  return { inputs: row.inputs, day: row.day, configHash: row.config_hash, counts: JSON.parse(row.counts_json) as Record<string, number>, updatedAt: row.updated_at }
-}
-
-/** Store a stage's mark; call it in the transaction of the results it describes. */
-export function writeStageMark(db: Db, stage: string, mark: StageMark): void {
-  db.prepare(
-    `INSERT INTO stage_marks(stage, inputs, day, config_hash, counts_json, updated_at) VALUES (?, ?, ?, ?, ?, ?)
-     ON CONFLICT(stage) DO UPDATE SET inputs = excluded.inputs, day = excluded.day, config_hash = excluded.config_hash,
-       counts_json = excluded.counts_json, updated_at = excluded.updated_at`,
-  ).run(stage, mark.inputs, mark.day, mark.configHash, JSON.stringify(mark.counts), mark.updatedAt)
-}

@@ -161,6 +161,16 @@ export function rebuildDemandCounts(db: Db): number {
   })()
 }
 
+/**
+ * A number that grows whenever the demand aggregates change: the sum of the month versions
+ * (migration 13), one of which every writer moves on with each change (DemandDelta.apply,
+ * clearDemandCounts, rebuildDemandCounts); no writer deletes a version. A hand-made SQL change of
+ * the aggregates is not seen (`tides run fit --rebuild` recomputes them).
+ */
+export function demandVersion(db: Db): number {
+  return db.prepare('SELECT COALESCE(SUM(version), 0) FROM month_versions').pluck().get() as number
+}
+
 /** Empties the demand aggregates (when every document becomes unmapped at once); every month's version moves on. */
 export function clearDemandCounts(db: Db): void {
   db.prepare('DELETE FROM demand_totals').run()

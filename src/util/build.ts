@@ -2,8 +2,8 @@
  * @module util/build
  * Whether this code runs from the bundled CLI (`dist/`, written by scripts/build.ts when the
  * project is installed) or from its TypeScript sources under tsx, and what differs: the project's
- * root directory, the worker threads' entry files, and the matcher cache's source key (the bundle
- * carries the one of the sources it was built from).
+ * root directory, the worker threads' entry files, and the source keys of the matcher cache and of
+ * the fit (the bundle carries the ones of the sources it was built from).
  */
 import fs from 'node:fs'
 import path from 'node:path'
@@ -13,6 +13,8 @@ import { fileURLToPath } from 'node:url'
 export interface BuildFacts {
   /** taxonomy/matcher-cache.ts matcherSourceKey() of the sources the bundle was built from */
   matcherSourceKey: string | null
+  /** curves/source-key.ts fitSourceKey() of the sources the bundle was built from */
+  fitSourceKey: string | null
 }
 
 declare const __TIDES_BUILD__: BuildFacts | undefined

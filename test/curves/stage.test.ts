@@ -14,7 +14,8 @@ import { readCurveDetails, readMonthSeries } from '../../src/server/payloads.ts'
 import { curveRowDetails, encodeSeries } from '../../src/curves/stored-series.ts'
 import { fitAll } from '../../src/curves/fit-all.ts'
 import { ForecastBands } from '../../src/curves/forecast.ts'
-import { CURVE_STATES_SQL, readCurveStates, rebuildDemandCounts, recomputeMonthlyDemand, type CurveRow } from '../../src/db/curves.ts'
+import { CURVE_STATES_SQL, DemandDelta, readCurveStates, rebuildDemandCounts, recomputeMonthlyDemand, type CurveRow } from '../../src/db/curves.ts'
+import { bumpTaxonomyVersion } from '../../src/db/taxonomy.ts'
 import { referenceInputs } from './reference-inputs.ts'
 import { demandFor } from '../../src/db/dashboard.ts'
 import { monthRange } from './simulate.ts'
@@ -128,11 +129,12 @@ describe('fit stage', () => {
     const db = openDb(':memory:')
     loadCorpus(db)
     runFit(db, config, { now: NOW })
-    runFit(db, config, { now: NOW })
+    // (rebuild: fit again though nothing changed, which a plain run keeps)
+    runFit(db, config, { now: NOW, rebuild: true })
     expect(events(db, 'skill.state-changed')).toHaveLength(2)
     // pretend jQuery was steady at the last fit
     db.prepare("UPDATE curves SET state = 'steady' WHERE concept_id = 'jquery'").run()
-    runFit(db, config, { now: NOW })
+    runFit(db, config, { now: NOW, rebuild: true })
     const last = events(db, 'skill.state-changed').at(-1)!
     expect(last).toMatchObject({ id: 'jquery', label: 'jQuery', before: 'steady', after: 'declining' })
     expect(events(db, 'curves.fitted')).toHaveLength(3)
@@ -140,6 +142,41 @@ describe('fit stage', () => {
     expect(readCurveStates(db).get('jquery')).toBe('declining')
     const plan = db.prepare(`EXPLAIN QUERY PLAN ${CURVE_STATES_SQL}`).all() as { detail: string }[]
     expect(plan.map((row) => row.detail).join(' ')).toMatch(/COVERING INDEX curves_state/)
+  })
+
+  it('keeps its curves while demand, taxonomy, settings and code are those of the last fit, and fits again when one changes', () => {
+    const db = openDb(':memory:')
+    loadCorpus(db)
+    const first = runFit(db, config, { now: NOW })
+    const stored = () => db.prepare('SELECT * FROM curves ORDER BY concept_id').all()
+    const curves = stored()
+    const fitted = () => events(db, 'curves.fitted').length
+    // nothing changed: no writes, no events, the first run's counts with nothing announced
+    const kept = runFit(db, config, { now: new Date('2026-02-01T00:00:00Z') })
+    expect(kept.summary).toBe(`demand, taxonomy and settings unchanged since the fit at ${NOW.toISOString()}: curves kept`)
+    expect(kept.counts).toEqual({ skills: first.counts['skills'], tested: first.counts['tested'], stateChanges: 0, failures: 0, badMonths: 0, skipped: 1 })
+    expect(stored()).toEqual(curves)
+    expect(fitted()).toBe(1)
+    // new demand, through the writer that keeps the aggregates: fitted again
+    const delta = new DemandDelta()
+    for (let i = 0; i < 40; i++) delta.document('posting', '2025-12', ['kubernetes'], 1)
+    db.transaction(() => delta.apply(db))()
+    const later = new Date('2026-03-01T00:00:00Z')
+    expect(runFit(db, config, { now: later }).counts['skipped']).toBeUndefined()
+    expect(fitted()).toBe(2)
+    expect(stored()).not.toEqual(curves)
+    expect(runFit(db, config, { now: later }).counts['skipped']).toBe(1)
+    // another setting, another taxonomy version: fitted again
+    expect(runFit(db, parseConfig({ curves: { q: 0.1 } }), { now: later }).counts['skipped']).toBeUndefined()
+    expect(runFit(db, parseConfig({ curves: { q: 0.1 } }), { now: later }).counts['skipped']).toBe(1)
+    bumpTaxonomyVersion(db)
+    expect(runFit(db, parseConfig({ curves: { q: 0.1 } }), { now: later }).counts['skipped']).toBeUndefined()
+    expect(fitted()).toBe(4)
+    // a hand-made SQL change of the aggregates is not seen; rebuild recomputes them and fits
+    db.prepare("UPDATE demand_counts SET n = n + 5 WHERE concept_id = 'sql' AND series = 'external'").run()
+    expect(runFit(db, parseConfig({ curves: { q: 0.1 } }), { now: later }).counts['skipped']).toBe(1)
+    expect(runFit(db, parseConfig({ curves: { q: 0.1 } }), { now: later, rebuild: true }).counts['skipped']).toBeUndefined()
+    expect(fitted()).toBe(5)
   })
 
   it('leaves out documents that are not mapped yet and months that are not YYYY-MM', () => {

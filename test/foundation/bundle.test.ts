@@ -1,7 +1,7 @@
 /**
  * The bundled CLI (scripts/build.ts, dist/ after `npm install`) must behave as the TypeScript
  * sources do: same results with the worker threads it starts (the import's parse worker, the map's
- * workers), the same matcher cache key, and the dashboard's files found from its own directory.
+ * workers), the same matcher cache key and fit code key, and the dashboard's files found from its own directory.
  */
 import { describe, it, expect, beforeAll, afterAll } from 'vitest'
 import { spawn, spawnSync } from 'node:child_process'
@@ -89,17 +89,20 @@ describe('the bundled CLI', () => {
       const db = new Database(path.join(dir, 't.db'), { readonly: true })
       const parsed = db.prepare("SELECT details_json FROM job_runs WHERE details_json LIKE '%parseWorker%'").pluck().all().map((d) => JSON.parse(d as string).parseWorker)
       const code = db.prepare('SELECT code FROM matcher_cache').pluck().all()
+      // the fit's mark carries the hash of its code: the bundle's key is the one of the sources it was built from
+      const fitMark = db.prepare("SELECT config_hash FROM stage_marks WHERE stage = 'fit'").pluck().all()
       db.close()
       fs.rmSync(dir, { recursive: true, force: true })
       // everything but the moment of the fit
       const reported = JSON.parse(skills.out, (key, value: unknown) => (key === 'fittedAt' ? undefined : value)) as { state: string }[]
-      return { reported, parsed, code }
+      return { reported, parsed, code, fitMark }
     })
     fs.rmSync(file, { force: true })
     expect(results[0]!.parsed).toEqual([true])
     expect(results[0]!.reported.some((s) => s.state !== 'insufficient-evidence')).toBe(true)
     expect(results[1]).toEqual(results[0])
     expect(results[1]!.code).toHaveLength(1)
+    expect(results[1]!.fitMark).toHaveLength(1)
   }, 120_000)
 
   it('serves the dashboard with its own files and uPlot', async () => {
