@@ -122,9 +122,9 @@ export function releaseLock(db: Db, name: string, holder: string): void {
 
 /** What a stage's last successful run was computed from (migration 12): the ability and fit stages skip while it holds. */
 export interface StageMark {
-  /** the stage's input counter read after its own writes */
+  /** the stage's input counter: the ability inputs' counter read after its own writes; the demand version the fit read */
   inputs: number
-  /** the UTC day (YYYY-MM-DD) it judged staleness by */
+  /** the UTC day (YYYY-MM-DD) it judged staleness by ('' for the fit, which does not depend on the day) */
   day: string
   /** hash of its config section */
   configHash: string
