@@ -7,6 +7,7 @@
  * and the totals, so a share is always "mapped original documents that mention the skill, of all
  * mapped original documents".
  */
+import { ROLL_UP } from './ancestry.ts'
 import type { Db } from './connection.ts'
 
 export type DemandSeries = 'external' | 'internal'
@@ -119,10 +120,12 @@ const MAPPED = isMapped('d')
 const TOTALS_FROM_DOCUMENTS = `SELECT CASE kind WHEN 'posting' THEN 'external' ELSE 'internal' END AS series, month, COUNT(*) AS total
   FROM documents d WHERE duplicate_of IS NULL AND kind IN ('posting','request') AND ${MAPPED}
   GROUP BY kind, month`
-const COUNTS_FROM_MENTIONS = `SELECT m.concept_id AS concept_id, CASE d.kind WHEN 'posting' THEN 'external' ELSE 'internal' END AS series, d.month AS month, COUNT(*) AS n
-  FROM mentions m JOIN documents d ON d.id = m.document_id
+// a document counts once for each concept it mentions and each concept above them (db/ancestry.ts)
+const COUNTS_FROM_MENTIONS = `${ROLL_UP}
+  SELECT r.counted_id AS concept_id, CASE d.kind WHEN 'posting' THEN 'external' ELSE 'internal' END AS series, d.month AS month, COUNT(DISTINCT d.id) AS n
+  FROM mentions m JOIN roll_up r ON r.concept_id = m.concept_id JOIN documents d ON d.id = m.document_id
   WHERE d.duplicate_of IS NULL AND d.kind IN ('posting','request') AND ${MAPPED}
-  GROUP BY m.concept_id, d.kind, d.month`
+  GROUP BY r.counted_id, d.kind, d.month`
 
 /**
  * Monthly demand of every concept recomputed from documents and mentions (a document

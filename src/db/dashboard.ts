@@ -5,6 +5,7 @@
  * database handle and reused, so a page costs a handful of indexed lookups.
  */
 import type { Statement } from 'better-sqlite3'
+import { CONCEPTS_UNDER } from './ancestry.ts'
 import type { Db } from './connection.ts'
 import { isMonth } from '../curves/months.ts'
 import type { CurveRow } from './curves.ts'
@@ -301,20 +302,17 @@ export function curveFor(db: Db, id: string): CurveRow | undefined {
  * (not broader skills filled in by roll-up, which would always co-occur).
  */
 export function coMentioned(db: Db, id: string, limit = 10, window = 2000): { id: string; label: string; state: string | null; together: number; base: number }[] {
-  const base = (
-    stmt(
-      db,
-      `SELECT COUNT(*) AS n FROM (SELECT d.id FROM mentions m JOIN documents d ON d.id = m.document_id
-        WHERE m.concept_id = ? AND d.kind = 'posting' AND d.duplicate_of IS NULL ORDER BY d.posted_at DESC LIMIT ?)`,
-    ).get(id, window) as { n: number }
-  ).n
+  // the skill's postings: those that mention it or a skill below it (roll-up, db/ancestry.ts)
+  const mine = `SELECT d.id FROM documents d
+    WHERE d.id IN (SELECT m.document_id FROM mentions m WHERE m.concept_id IN (SELECT id FROM under))
+      AND d.kind = 'posting' AND d.duplicate_of IS NULL ORDER BY d.posted_at DESC LIMIT ?`
+  const base = (stmt(db, `${CONCEPTS_UNDER} SELECT COUNT(*) AS n FROM (${mine})`).get(id, window) as { n: number }).n
   if (base === 0) return []
   const rows = stmt(
     db,
-    `WITH mine AS (SELECT d.id FROM mentions m JOIN documents d ON d.id = m.document_id
-        WHERE m.concept_id = ? AND d.kind = 'posting' AND d.duplicate_of IS NULL ORDER BY d.posted_at DESC LIMIT ?)
+    `${CONCEPTS_UNDER}, mine AS (${mine})
      SELECT o.concept_id AS id, c.pref_label AS label, cu.state, COUNT(*) AS together
-     FROM mine JOIN mentions o ON o.document_id = mine.id AND o.concept_id != ? AND o.via != 'rollup'
+     FROM mine JOIN mentions o ON o.document_id = mine.id AND o.concept_id != ?
      JOIN concepts c ON c.id = o.concept_id LEFT JOIN curves cu ON cu.concept_id = o.concept_id
      GROUP BY o.concept_id ORDER BY together DESC, o.concept_id LIMIT ?`,
   ).all(id, window, id, limit) as { id: string; label: string; state: string | null; together: number }[]
@@ -331,13 +329,15 @@ export interface PostingRow {
   source_id: string
 }
 
-/** The latest original postings that mention the skill. */
+/** The latest original postings that mention the skill or a skill below it (roll-up). */
 export function examplePostings(db: Db, id: string, limit = 5): PostingRow[] {
   return stmt(
     db,
-    `SELECT d.id, d.title, substr(d.body, 1, 600) AS body, d.posted_at, d.organisation, d.location, d.source_id
-     FROM mentions m JOIN documents d ON d.id = m.document_id
-     WHERE m.concept_id = ? AND d.kind = 'posting' AND d.duplicate_of IS NULL
+    `${CONCEPTS_UNDER}
+     SELECT d.id, d.title, substr(d.body, 1, 600) AS body, d.posted_at, d.organisation, d.location, d.source_id
+     FROM documents d
+     WHERE d.id IN (SELECT m.document_id FROM mentions m WHERE m.concept_id IN (SELECT id FROM under))
+       AND d.kind = 'posting' AND d.duplicate_of IS NULL
      ORDER BY d.posted_at DESC, d.id DESC LIMIT ?`,
   ).all(id, limit) as PostingRow[]
 }

@@ -3,6 +3,7 @@
  * SQL of the plan stage: it reads curves, coverage, mentions, documents, the demand aggregates,
  * courses, people, roles and abilities, and writes plan_outputs, course_flag_notes and the skill_id resolution of course_skills.
  */
+import { ROLL_UP } from './ancestry.ts'
 import { getSetting, setSetting, type Db } from './connection.ts'
 import { readConceptLabelList, type CurveRow } from './curves.ts'
 import { conceptsByCode } from './mention-lists.ts'
@@ -234,10 +235,11 @@ export function requestMentionCountsByMonth(db: Db): { concept_id: string; month
 export function mentionCountsByMonth(db: Db, kind: 'posting' | 'request'): { concept_id: string; month: string; n: number }[] {
   return db
     .prepare(
-      `SELECT m.concept_id, d.month, COUNT(DISTINCT d.id) AS n
-       FROM mentions m JOIN documents d ON d.id = m.document_id
+      `${ROLL_UP}
+       SELECT r.counted_id AS concept_id, d.month, COUNT(DISTINCT d.id) AS n
+       FROM mentions m JOIN roll_up r ON r.concept_id = m.concept_id JOIN documents d ON d.id = m.document_id
        WHERE d.kind = ? AND d.duplicate_of IS NULL
-       GROUP BY m.concept_id, d.month`,
+       GROUP BY r.counted_id, d.month`,
     )
     .all(kind) as { concept_id: string; month: string; n: number }[]
 }

@@ -7,6 +7,7 @@
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
 import { getSetting, setSetting } from './connection.ts'
+import { Ancestry, forgetAncestry, ROLL_UP } from './ancestry.ts'
 import { clearDemandCounts, DemandDelta, isMapped } from './curves.ts'
 import { clearMentionLists, mentionListWriter } from './mention-lists.ts'
 import type { Concept, SkillType } from '../taxonomy/types.ts'
@@ -97,10 +98,11 @@ export function replaceTaxonomy(db: Db, concepts: readonly Concept[], rules: Sto
   // every original becomes unmapped below, so nothing counts in the demand aggregates any more
   clearDemandCounts(db)
   stmt(db, 'DELETE FROM concept_broader').run()
+  forgetAncestry(db)
   stmt(db, 'DELETE FROM labels').run()
   stmt(db, 'DELETE FROM concepts').run()
   for (const c of concepts) insertConcept(db, c, origin, flags)
-  for (const c of concepts) for (const b of c.broader) stmt(db, 'INSERT OR IGNORE INTO concept_broader(concept_id, broader_id) VALUES (?, ?)').run(c.id, b)
+  for (const c of concepts) insertBroader(db, c.id, c.broader)
   if (rules) setSetting(db, RULES_KEY, JSON.stringify(rules))
   else stmt(db, 'DELETE FROM settings WHERE key = ?').run(RULES_KEY)
   setSetting(db, SOURCE_KEY, source)
@@ -114,6 +116,16 @@ export function insertConcept(db: Db, c: Concept, origin: string, flags: LabelFl
   insertLabel(db, c.id, c.prefLabel, 'pref', flags.caseSensitive(c.id, c.prefLabel))
   for (const l of c.altLabels) insertLabel(db, c.id, l, 'alt', flags.caseSensitive(c.id, l))
   for (const l of c.hiddenLabels) insertLabel(db, c.id, l, 'hidden', flags.caseSensitive(c.id, l))
+}
+
+/**
+ * Stores a concept's broader links (the taxonomy's validator, or the caller, has checked that they
+ * name stored concepts and make no cycle). Documents already counted for the concept's roll-up are
+ * not counted again: call it for a new concept, or re-map the documents of the concepts below.
+ */
+export function insertBroader(db: Db, conceptId: string, broader: readonly string[]): void {
+  for (const b of broader) stmt(db, 'INSERT OR IGNORE INTO concept_broader(concept_id, broader_id) VALUES (?, ?)').run(conceptId, b)
+  if (broader.length) forgetAncestry(db)
 }
 
 export function insertLabel(db: Db, conceptId: string, label: string, kind: 'pref' | 'alt' | 'hidden', caseSensitive: boolean): void {
@@ -233,42 +245,47 @@ export interface DocumentMapping {
   rows: readonly MentionRow[]
 }
 
-/** Removes a counted document's current mentions and total from the delta (before they change). */
-function uncount(db: Db, delta: DemandDelta, id: number, kind: string, month: string): void {
-  const concepts = stmt(db, 'SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(id) as string[]
-  delta.document(kind, month, concepts, -1)
+/** Removes a counted document's current mentions, rolled up, and its total from the delta (before they change). */
+function uncount(db: Db, delta: DemandDelta, ancestry: Ancestry, id: number, kind: string, month: string): void {
+  const direct = stmt(db, 'SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(id) as string[]
+  delta.document(kind, month, ancestry.rollUp(direct), -1)
 }
 
 /**
  * Replaces the mentions of a batch of documents (and their rows of mention_lists), takes them off
  * the map's queue, and keeps the demand aggregates in step (a document that counted before, a mapped
- * original, has its old mentions taken out; an original counts with its new ones). Documents
- * go in id order, each one's mentions in concept order (appends to the table's primary key). One
- * prepared single-row INSERT: measured on the N = 100,000 benchmark database, 100-row INSERT
- * statements stored 289,617 mention rows about 2.5 times slower than single-row ones. Call inside
- * the batch's transaction.
+ * original, has its old mentions taken out; an original counts with its new ones). Only the direct
+ * mentions are stored; a document counts for them and every concept broader than them
+ * (db/ancestry.ts), so roll-up rows in `docs` are not stored and not needed. Documents go in id
+ * order, each one's mentions in concept order (appends to the table's primary key). One prepared
+ * single-row INSERT: measured on the N = 100,000 benchmark database, 100-row INSERT statements
+ * stored 289,617 mention rows about 2.5 times slower than single-row ones. Call inside the batch's
+ * transaction.
  */
 export function saveMappings(db: Db, docs: readonly DocumentMapping[]): void {
   const delta = new DemandDelta()
+  const ancestry = Ancestry.of(db)
   const state = stmt(db, 'SELECT kind, month, duplicate_of FROM documents WHERE id = ?')
   const clear = stmt(db, 'DELETE FROM mentions WHERE document_id = ?')
   const insert = stmt(db, 'INSERT INTO mentions(document_id, concept_id, count, first_offset, via) VALUES (?, ?, ?, ?, ?)')
   const dequeue = stmt(db, 'DELETE FROM unmapped_documents WHERE id = ?')
   const sorted = [...docs].sort((a, b) => a.id - b.id)
+  const order = (a: MentionRow, b: MentionRow) => (a.conceptId < b.conceptId ? -1 : a.conceptId > b.conceptId ? 1 : 0)
+  const direct = sorted.map((d) => d.rows.filter((r) => r.via !== 'rollup').sort(order))
   // the documents' direct concepts, for their rows of mention_lists (db/mention-lists.ts)
-  const direct = sorted.map((d) => d.rows.filter((r) => r.via !== 'rollup').map((r) => r.conceptId).sort())
-  const writeList = mentionListWriter(db, new Set(direct.flat()))
+  const writeList = mentionListWriter(db, new Set(direct.flatMap((rows) => rows.map((r) => r.conceptId))))
   for (const [i, d] of sorted.entries()) {
     const doc = state.get(d.id) as { kind: string; month: string; duplicate_of: number | null } | undefined
     if (!doc) throw new Error(`saveMappings: document ${d.id} is not stored`)
     // an original that was not queued was mapped and counts: its old mentions come out first
     const wasQueued = dequeue.run(d.id).changes > 0
-    if (doc.duplicate_of === null && !wasQueued) uncount(db, delta, d.id, doc.kind, doc.month)
+    if (doc.duplicate_of === null && !wasQueued) uncount(db, delta, ancestry, d.id, doc.kind, doc.month)
     clear.run(d.id)
-    const rows = [...d.rows].sort((a, b) => (a.conceptId < b.conceptId ? -1 : a.conceptId > b.conceptId ? 1 : 0))
+    const rows = direct[i]!
     for (const r of rows) insert.run(d.id, r.conceptId, r.count, r.firstOffset, r.via)
-    writeList(doc.kind, doc.month, d.id, direct[i]!)
-    if (doc.duplicate_of === null) delta.document(doc.kind, doc.month, rows.map((r) => r.conceptId), 1)
+    const concepts = rows.map((r) => r.conceptId)
+    writeList(doc.kind, doc.month, d.id, concepts)
+    if (doc.duplicate_of === null) delta.document(doc.kind, doc.month, ancestry.rollUp(concepts), 1)
   }
   delta.apply(db)
 }
@@ -276,6 +293,7 @@ export function saveMappings(db: Db, docs: readonly DocumentMapping[]): void {
 /** Marks documents unmapped so that the map stage maps them again (they stop counting in demand until then). */
 export function markUnmapped(db: Db, ids: readonly number[]): number {
   const delta = new DemandDelta()
+  const ancestry = Ancestry.of(db)
   const state = stmt(db, 'SELECT kind, month, duplicate_of FROM documents WHERE id = ?')
   const queue = stmt(db, 'INSERT OR IGNORE INTO unmapped_documents (id) VALUES (?)')
   let n = 0
@@ -283,19 +301,11 @@ export function markUnmapped(db: Db, ids: readonly number[]): number {
     const doc = state.get(id) as { kind: string; month: string; duplicate_of: number | null } | undefined
     // reposts are never mapped; a mapped original stops counting until it is mapped again
     if (!doc || doc.duplicate_of !== null) continue
-    if (queue.run(id).changes > 0) uncount(db, delta, id, doc.kind, doc.month)
+    if (queue.run(id).changes > 0) uncount(db, delta, ancestry, id, doc.kind, doc.month)
     n++
   }
   delta.apply(db)
   return n
-}
-
-/** Documents currently mentioning one of the concepts (directly or by rollup). */
-export function documentsMentioning(db: Db, conceptIds: readonly string[]): number[] {
-  const s = stmt(db, 'SELECT document_id FROM mentions WHERE concept_id = ?')
-  const out = new Set<number>()
-  for (const id of conceptIds) for (const r of s.all(id) as { document_id: number }[]) out.add(r.document_id)
-  return [...out]
 }
 
 export interface MentionSummary {
@@ -305,12 +315,15 @@ export interface MentionSummary {
   direct: number
 }
 
-/** Per concept: documents mentioning it, and how many of them directly (not by rollup). */
+/** Per concept: documents mentioning it (directly or by roll-up), and how many of them directly. */
 export function mentionSummary(db: Db, limit = 1000): MentionSummary[] {
   return stmt(
     db,
-    `SELECT m.concept_id, c.pref_label, COUNT(*) AS documents, SUM(m.via != 'rollup') AS direct
-     FROM mentions m JOIN concepts c ON c.id = m.concept_id GROUP BY m.concept_id ORDER BY documents DESC, m.concept_id LIMIT ?`,
+    `${ROLL_UP}
+     SELECT r.counted_id AS concept_id, c.pref_label, COUNT(DISTINCT m.document_id) AS documents,
+       COUNT(DISTINCT CASE WHEN m.concept_id = r.counted_id THEN m.document_id END) AS direct
+     FROM mentions m JOIN roll_up r ON r.concept_id = m.concept_id JOIN concepts c ON c.id = r.counted_id
+     GROUP BY r.counted_id ORDER BY documents DESC, r.counted_id LIMIT ?`,
   ).all(limit) as MentionSummary[]
 }
 

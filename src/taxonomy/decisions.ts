@@ -13,6 +13,7 @@ import {
   decideCandidate,
   documentsAfter,
   getCandidate,
+  insertBroader,
   insertConcept,
   insertLabel,
   markUnmapped,
@@ -101,6 +102,7 @@ export function acceptAsConcept(db: Db, term: string, choice: { id?: string; lab
   const concept: Concept = { id, prefLabel: label, altLabels: label === term ? [] : [term], hiddenLabels: [], broader: choice.broader ?? [], type }
   return changeTaxonomy(db, term, label, type, { reason: 'candidate-accepted', conceptId: id, as: 'concept', actor }, () => {
     insertConcept(db, concept, 'candidate', { caseSensitive: () => false })
+    insertBroader(db, id, concept.broader)
     decideCandidate(db, term, 'accepted', { as: 'concept', conceptId: id, label, type, actor, at: new Date().toISOString() })
   })
 }

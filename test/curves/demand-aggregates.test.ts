@@ -12,6 +12,7 @@ import os from 'node:os'
 import path from 'node:path'
 import Database from 'better-sqlite3'
 import { loadConfig } from '../../src/config.ts'
+import { CONCEPTS_UNDER } from '../../src/db/ancestry.ts'
 import { openDb, schemaVersion, type Db } from '../../src/db/connection.ts'
 import { rebuildDemandCounts, recomputeMonthlyDemand, type MonthlyDemand } from '../../src/db/curves.ts'
 import { isMonth } from '../../src/curves/months.ts'
@@ -188,14 +189,22 @@ describe('demand aggregates kept by the map stage', () => {
     await map(db)
     expectInStep(db)
     replaceOpenCandidates(db, [{ term: 'quillstream', score: 40, recentDf: 5, earlierDf: 0, trend: [], examples: [] }])
-    const accepted = acceptAsConcept(db, 'quillstream', { label: 'Quillstream', type: 'hard' }, 'curator')
+    // accepted under a broader concept: its documents count there too once they are mapped again
+    const accepted = acceptAsConcept(db, 'quillstream', { label: 'Quillstream', type: 'hard', broader: ['cloud-computing'] }, 'curator')
     expect(accepted.affected).toBeGreaterThan(0)
+    expect(db.prepare("SELECT broader_id FROM concept_broader WHERE concept_id = 'quillstream'").pluck().all()).toEqual(['cloud-computing'])
     // the affected documents are out of the counts until they are mapped again
     const between = expectInStep(db)
     expect(between.totals.external.get('2024-01')! + accepted.affected).toBeGreaterThanOrEqual(10)
     await map(db)
     const remapped = expectInStep(db)
     expect(ext(remapped, 'quillstream', '2024-01')).toBeGreaterThan(0)
+    // every quillstream document counts for cloud computing and for what is above it
+    for (const up of ['cloud-computing', 'information-technology']) expect(ext(remapped, up, '2024-01')).toBeGreaterThanOrEqual(ext(remapped, 'quillstream', '2024-01'))
+    const quill = db.prepare("SELECT document_id FROM mentions WHERE concept_id = 'quillstream'").pluck().all() as number[]
+    const underCloud = new Set(db.prepare(`${CONCEPTS_UNDER} SELECT m.document_id FROM mentions m WHERE m.concept_id IN (SELECT id FROM under)`).pluck().all('information-technology') as number[])
+    expect(quill.length).toBeGreaterThan(0)
+    for (const id of quill) expect(underCloud.has(id)).toBe(true)
     expect(remapped.totals.external.get('2024-01')).toBe(10)
     fit(db)
     expectDemandTable(db)
@@ -297,6 +306,8 @@ describe('migration 3', () => {
     v2.transaction(() => {
       v2.prepare("INSERT INTO sources (id, kind, location) VALUES ('fern', 'import', 'test')").run()
       for (const id of ['sql', 'python', 'data']) v2.prepare("INSERT INTO concepts (id, pref_label, type) VALUES (?, ?, 'hard')").run(id, id.toUpperCase())
+      // the roll-up rows below follow these links (migration 14 drops them and derives them from the links)
+      v2.prepare("INSERT INTO concept_broader (concept_id, broader_id) VALUES ('sql', 'data'), ('python', 'data')").run()
       const doc = v2.prepare(
         `INSERT INTO documents (source_id, external_id, kind, posted_at, month, text_hash, duplicate_of, mapped_version) VALUES ('fern', ?, ?, ?, ?, ?, ?, ?)`,
       )

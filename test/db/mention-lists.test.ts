@@ -26,7 +26,7 @@ import { keptTitleRows, referenceTitleRows } from './title-counts-reference.ts'
 import { recomputeMonthlyDemand } from '../../src/db/curves.ts'
 import { demandInputs } from '../../src/curves/stage.ts'
 import { referenceInputs } from '../curves/reference-inputs.ts'
-import { insertConcept, markUnmapped, replaceOpenCandidates, replaceTaxonomy, saveMappings, type MentionRow } from '../../src/db/taxonomy.ts'
+import { insertBroader, insertConcept, markUnmapped, replaceOpenCandidates, replaceTaxonomy, saveMappings, type MentionRow } from '../../src/db/taxonomy.ts'
 import { importDocuments } from '../../src/ingest/import.ts'
 import { countCoOccurrence, support } from '../../src/plan/adjacency.ts'
 import { acceptAsConcept } from '../../src/taxonomy/decisions.ts'
@@ -158,7 +158,13 @@ describe('mention_lists kept by every writer of mentions', () => {
         db.prepare("INSERT INTO sources (id, kind, location) VALUES ('fern', 'import', 'test')").run()
         let serial = 0
         const fresh = () => `k${serial++}`
-        for (let i = 0; i < 12; i++) insertConcept(db, concept(fresh()), 'import', noFlags)
+        // a tree of broader links (k1 and k2 under k0, ...): the demand aggregates count each
+        // document for its concepts' roll-up too, and must equal the recomputation below
+        for (let i = 0; i < 12; i++) {
+          const id = fresh()
+          insertConcept(db, concept(id), 'import', noFlags)
+          if (i > 0) insertBroader(db, id, [`k${(i - 1) >> 1}`])
+        }
         const insertDoc = db.prepare(
           "INSERT INTO documents (source_id, external_id, kind, title, body, posted_at, month, text_hash, duplicate_of, occupation) VALUES ('fern', ?, ?, ?, 'text', ?, ?, ?, ?, ?)",
         )
@@ -220,12 +226,18 @@ describe('mention_lists kept by every writer of mentions', () => {
                   const known = concepts()
                   const keep = [...new Set(o.keep.map((k) => known[k % Math.max(known.length, 1)]).filter((c): c is string => c !== undefined))]
                   const added = Array.from({ length: o.add }, fresh)
-                  replaceTaxonomy(db, [...keep, ...added].map((id) => concept(id)), null, 'test', 'import', noFlags)
+                  const list = [...keep, ...added]
+                  replaceTaxonomy(db, list.map((id, j) => concept(id, j > 0 ? [list[(j - 1) >> 1]!] : [])), null, 'test', 'import', noFlags)
                   break
                 }
-                case 'concept':
-                  insertConcept(db, concept(fresh()), 'accepted', noFlags)
+                case 'concept': {
+                  // a new concept under the first one, as a curator accepts it
+                  const first = concepts()[0]
+                  const id = fresh()
+                  insertConcept(db, concept(id), 'accepted', noFlags)
+                  if (first) insertBroader(db, id, [first])
                   break
+                }
                 case 'rollback': {
                   // a new concept mapped, then the transaction fails: its code must not survive in
                   // any cache; the same concept is added again afterwards, then another one

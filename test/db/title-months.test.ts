@@ -9,6 +9,7 @@ import os from 'node:os'
 import path from 'node:path'
 import { afterAll, describe, expect, it } from 'vitest'
 import { openDb, schemaVersion, type Db } from '../../src/db/connection.ts'
+import { SCHEMA_VERSION } from '../../src/db/migrations.ts'
 import { rebuildMentionLists } from '../../src/db/mention-lists.ts'
 import { readTitleMonths, refreshTitleMonths, staleTitleMonths } from '../../src/db/title-months.ts'
 import { referenceTitleRows, titleRows } from './title-counts-reference.ts'
@@ -51,7 +52,7 @@ describe('kept counts per month, title and occupation', () => {
     corpus(old)
     old.close()
     const db = openDb(file)
-    expect(schemaVersion(db)).toBe(13)
+    expect(schemaVersion(db)).toBe(SCHEMA_VERSION)
     expect(db.prepare('SELECT kind, month, version FROM month_versions ORDER BY kind, month').raw().all()).toEqual([
       ['posting', '2024-01', 1],
       ['posting', '2024-02', 1],

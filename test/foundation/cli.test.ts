@@ -78,7 +78,7 @@ describe('tides CLI', () => {
     expect(told).toEqual([])
     openDb(path.join(dir, 'older.db'), { upTo: 7 }).close()
     openDb(path.join(dir, 'older.db'), { onMigrate: (m) => told.push({ from: m.from, version: m.version }) }).close()
-    expect(told).toEqual([{ from: 7, version: 8 }, { from: 8, version: 9 }, { from: 9, version: 10 }, { from: 10, version: 11 }, { from: 11, version: 12 }, { from: 12, version: 13 }])
+    expect(told).toEqual([{ from: 7, version: 8 }, { from: 8, version: 9 }, { from: 9, version: 10 }, { from: 10, version: 11 }, { from: 11, version: 12 }, { from: 12, version: 13 }, { from: 13, version: 14 }])
   })
 
   it('--json prints exactly one parseable JSON document on stdout', async () => {

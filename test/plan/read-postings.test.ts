@@ -29,7 +29,9 @@ function corpus() {
     return id
   }
   add('posting', '2023-12', [['python', 'text']]) // before the window
-  const a = add('posting', '2024-01', [['python', 'text'], ['sql', 'text'], ['data', 'rollup']])
+  // data is broader than python: a roll-up, counted in demand, never a direct concept (db/ancestry.ts)
+  db.prepare("INSERT INTO concept_broader (concept_id, broader_id) VALUES ('python', 'data')").run()
+  const a = add('posting', '2024-01', [['python', 'text'], ['sql', 'text']])
   add('posting', '2024-01', [['python', 'text']], a) // a repost of a
   add('posting', '2024-02', [['excel', 'text']])
   add('posting', '2024-03', []) // mapped, no skill
