@@ -54,6 +54,7 @@ export class Ancestry {
    */
   static of(db: Db): Ancestry {
     const links = db.prepare('SELECT COUNT(*) FROM concept_broader').pluck().get() as number
+    // taxonomyVersion's setting (db/taxonomy.ts, which imports this module: read here, not imported)
     const key = `${getSetting(db, 'taxonomy.version') ?? 0}:${links}`
     const kept = cache.get(db)
     if (kept?.key === key) return kept.ancestry

@@ -239,7 +239,7 @@ export function documentsAfter(db: Db, afterId: number, limit: number): Document
 
 export type { MentionRow } from '../taxonomy/rows.ts'
 
-/** A document's mapping: its mention rows (direct and roll-up), at most one per concept. */
+/** A document's mapping: its mention rows, at most one per concept. */
 export interface DocumentMapping {
   id: number
   rows: readonly MentionRow[]
@@ -254,15 +254,15 @@ function uncount(db: Db, delta: DemandDelta, ancestry: Ancestry, id: number, kin
 /**
  * Replaces the mentions of a batch of documents (and their rows of mention_lists), takes them off
  * the map's queue, and keeps the demand aggregates in step (a document that counted before, a mapped
- * original, has its old mentions taken out; an original counts with its new ones). Only the direct
- * mentions are stored; a document counts for them and every concept broader than them
- * (db/ancestry.ts), so roll-up rows in `docs` are not stored and not needed. Documents go in id
+ * original, has its old mentions taken out; an original counts with its new ones, and with every
+ * concept broader than them (db/ancestry.ts). Documents go in id
  * order, each one's mentions in concept order (appends to the table's primary key). One prepared
  * single-row INSERT: measured on the N = 100,000 benchmark database, 100-row INSERT statements
  * stored 289,617 mention rows about 2.5 times slower than single-row ones. Call inside the batch's
  * transaction.
+ * @returns the number of roll-ups: broader concepts the documents count for without mentioning them
  */
-export function saveMappings(db: Db, docs: readonly DocumentMapping[]): void {
+export function saveMappings(db: Db, docs: readonly DocumentMapping[]): number {
   const delta = new DemandDelta()
   const ancestry = Ancestry.of(db)
   const state = stmt(db, 'SELECT kind, month, duplicate_of FROM documents WHERE id = ?')
@@ -271,7 +271,8 @@ export function saveMappings(db: Db, docs: readonly DocumentMapping[]): void {
   const dequeue = stmt(db, 'DELETE FROM unmapped_documents WHERE id = ?')
   const sorted = [...docs].sort((a, b) => a.id - b.id)
   const order = (a: MentionRow, b: MentionRow) => (a.conceptId < b.conceptId ? -1 : a.conceptId > b.conceptId ? 1 : 0)
-  const direct = sorted.map((d) => d.rows.filter((r) => r.via !== 'rollup').sort(order))
+  const direct = sorted.map((d) => [...d.rows].sort(order))
+  let rollups = 0
   // the documents' direct concepts, for their rows of mention_lists (db/mention-lists.ts)
   const writeList = mentionListWriter(db, new Set(direct.flatMap((rows) => rows.map((r) => r.conceptId))))
   for (const [i, d] of sorted.entries()) {
@@ -285,9 +286,12 @@ export function saveMappings(db: Db, docs: readonly DocumentMapping[]): void {
     for (const r of rows) insert.run(d.id, r.conceptId, r.count, r.firstOffset, r.via)
     const concepts = rows.map((r) => r.conceptId)
     writeList(doc.kind, doc.month, d.id, concepts)
-    if (doc.duplicate_of === null) delta.document(doc.kind, doc.month, ancestry.rollUp(concepts), 1)
+    const counted = ancestry.rollUp(concepts)
+    rollups += counted.length - concepts.length
+    if (doc.duplicate_of === null) delta.document(doc.kind, doc.month, counted, 1)
   }
   delta.apply(db)
+  return rollups
 }
 
 /** Marks documents unmapped so that the map stage maps them again (they stop counting in demand until then). */

@@ -25,7 +25,7 @@ parentPort!.on('message', (req: WorkerRequest) => {
       ids = new Float64Array(docs.map((d) => d.id))
       inputs = docs.map(documentInput)
     }
-    const rows = encodeRows(matcher, inputs.map((input) => mentionRows(matcher.map(input, { spans: false }))))
+    const rows = encodeRows(matcher, inputs.map((input) => mentionRows(matcher.map(input, { spans: false, rollups: false }))))
     const res: WorkerResponse = { id: req.id, rows, ...(ids ? { ids } : {}) }
     parentPort!.postMessage(res, ids ? [rows.buffer as ArrayBuffer, ids.buffer as ArrayBuffer] : [rows.buffer as ArrayBuffer])
   } catch (err) {

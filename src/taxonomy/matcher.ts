@@ -76,6 +76,8 @@ export interface MapOptions {
   explain?: boolean
   /** build the span objects (default true); presence, counts and first offsets come either way */
   spans?: boolean
+  /** list the broader concepts of the roll-up (default true); the map stage derives them itself (db/ancestry.ts) */
+  rollups?: boolean
 }
 
 export interface MapInput {
@@ -172,7 +174,7 @@ export class Matcher {
         if (ci !== undefined && !agg.has(ci)) agg.set(ci, this.mention(ci, -1, 'skills'))
       }
     }
-    return this.finish(agg, rejected)
+    return this.finish(agg, rejected, options.rollups !== false)
   }
 
   /** Shorthand for `map({ text })`. */
@@ -318,10 +320,10 @@ export class Matcher {
     return this.d.conceptIndex.get(id) ?? -1
   }
 
-  private finish(agg: Map<number, ConceptMention>, rejected: RejectedMatch[] | undefined): DocumentMapping {
+  private finish(agg: Map<number, ConceptMention>, rejected: RejectedMatch[] | undefined, withRollups: boolean): DocumentMapping {
     const mentions = [...agg.values()].sort((a, b) => (a.firstOffset < 0 ? 1e15 : a.firstOffset) - (b.firstOffset < 0 ? 1e15 : b.firstOffset))
     const rollups = new Map<number, RollupMention>()
-    for (const [ci, mention] of agg) {
+    if (withRollups) for (const [ci, mention] of agg) {
       for (const ai of this.d.ancestors[ci]!) {
         if (agg.has(ai)) continue
         let r = rollups.get(ai)

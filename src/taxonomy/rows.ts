@@ -1,8 +1,9 @@
 /**
  * @module taxonomy/rows
- * A document's mapping as the rows the mentions table stores (presence per concept, direct via
- * `text` or `skills`, broader concepts via `rollup`), and a compact integer encoding of them that
- * worker threads send back without cloning thousands of small objects.
+ * A document's mapping as the rows the mentions table stores (presence per concept mentioned, via
+ * `text` or `skills`; not the broader concepts of the matcher's roll-up, which the counts derive
+ * from the taxonomy's links, db/ancestry.ts), and a compact integer encoding of them that worker
+ * threads send back without cloning thousands of small objects.
  */
 import type { DocumentToMap } from '../db/taxonomy.ts'
 import type { DocumentMapping, MapInput, Matcher } from './matcher.ts'
@@ -11,14 +12,12 @@ export interface MentionRow {
   conceptId: string
   count: number
   firstOffset: number | null
-  via: 'text' | 'skills' | 'rollup'
+  via: 'text' | 'skills'
 }
 
 /** The mention rows of one document's mapping. */
 export function mentionRows(mapping: DocumentMapping): MentionRow[] {
-  const rows: MentionRow[] = mapping.mentions.map((m) => ({ conceptId: m.conceptId, count: m.count, firstOffset: m.via === 'text' ? m.firstOffset : null, via: m.via }))
-  for (const r of mapping.rollups) rows.push({ conceptId: r.conceptId, count: r.via.length, firstOffset: null, via: 'rollup' })
-  return rows
+  return mapping.mentions.map((m) => ({ conceptId: m.conceptId, count: m.count, firstOffset: m.via === 'text' ? m.firstOffset : null, via: m.via }))
 }
 
 /** The text a document is mapped as: its title, a line break, its body. Offsets refer to this. */
@@ -34,7 +33,7 @@ export function documentInput(d: Pick<DocumentToMap, 'title' | 'body' | 'skills_
   return { text: d.title ? `${d.title}\n${d.body}` : d.body, ...(skills !== undefined ? { skills } : {}) }
 }
 
-const VIA = ['text', 'skills', 'rollup'] as const
+const VIA = ['text', 'skills'] as const
 
 /**
  * Encodes the rows of several documents as one Int32Array:

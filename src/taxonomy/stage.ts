@@ -1,8 +1,8 @@
 /**
  * @module taxonomy/stage
  * The `map` stage: maps every original document not yet mapped against the stored taxonomy
- * (loading the configured or shipped one on first use), writes its mentions (direct ones via
- * `text` or `skills`, broader concepts via `rollup`) and emits `documents.mapped` in the
+ * (loading the configured or shipped one on first use), writes its mentions (via `text` or
+ * `skills`; the broader concepts of their roll-up are counted, not stored) and emits `documents.mapped` in the
  * transaction of the last batch. It runs on `documents.ingested` and on `taxonomy.changed`,
  * whose writer has already marked the affected documents unmapped. Large runs are spread over
  * worker threads. Afterwards it recomputes the candidate terms.
@@ -149,7 +149,7 @@ export async function mapUnmapped(
       after = docs[docs.length - 1]!.id
       const inputs = docs.map(documentInput)
       const ids = docs.map((d) => d.id)
-      track(pool ? pool.mapRows(inputs).then((rows) => ({ ids, rows })) : Promise.resolve({ ids, rows: inputs.map((i) => mentionRows(matcher!.map(i, { spans: false }))) }))
+      track(pool ? pool.mapRows(inputs).then((rows) => ({ ids, rows })) : Promise.resolve({ ids, rows: inputs.map((i) => mentionRows(matcher!.map(i, { spans: false, rollups: false }))) }))
       return true
     }
     while (inflight.length < ahead && fetchNext());
@@ -173,13 +173,8 @@ export async function mapUnmapped(
         // mentions and the demand aggregates they feed, in one transaction per group
         markCandidatesOwed(db)
         for (const { ids, rows: perDoc } of group) {
-          saveMappings(db, ids.map((id, i) => ({ id, rows: perDoc[i]! })))
-          for (const rows of perDoc) {
-            for (const r of rows) {
-              if (r.via === 'rollup') counts.rollups++
-              else counts.mentions++
-            }
-          }
+          counts.rollups += saveMappings(db, ids.map((id, i) => ({ id, rows: perDoc[i]! })))
+          for (const rows of perDoc) counts.mentions += rows.length
           counts.mapped += ids.length
         }
         if (counts.mapped >= total || inflight.length === 0) emit(db, 'documents.mapped', { mapped: counts.mapped, version, mentions: counts.mentions, rollups: counts.rollups })

@@ -89,9 +89,14 @@ describe('the roll-up closure', () => {
         // the matcher rolls a document up to the same concepts (taxonomy/matcher-build.ts)
         const matcher = Matcher.build({ concepts, byId: new Map(concepts.map((c) => [c.id, c])) })
         const direct = mentioned.map((i) => ids[i]!)
-        const mapping = matcher.mapText(direct.map((id) => label(Number(id.slice(1)))).join(', '))
+        const text = direct.map((id) => label(Number(id.slice(1)))).join(', ')
+        const mapping = matcher.mapText(text)
         expect(sorted(mapping.mentions.map((m) => m.conceptId))).toEqual(sorted(direct))
         expect(sorted(mapping.rollups.map((r) => r.conceptId))).toEqual(sorted(ancestry.rollUp(direct).filter((c) => !direct.includes(c))))
+        // as the map stage asks for it: the same mentions, no roll-up list
+        const bare = matcher.mapText(text, { rollups: false })
+        expect(bare.mentions).toEqual(mapping.mentions)
+        expect(bare.rollups).toEqual([])
         db.close()
       }),
       { numRuns: 80, seed: 20261203 },
