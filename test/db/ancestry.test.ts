@@ -13,7 +13,7 @@ import { afterAll, describe, expect, it } from 'vitest'
 import { Ancestry, CONCEPTS_UNDER, ROLL_UP } from '../../src/db/ancestry.ts'
 import { openDb, schemaVersion, type Db } from '../../src/db/connection.ts'
 import { recomputeMonthlyDemand, rebuildDemandCounts } from '../../src/db/curves.ts'
-import { coMentioned, examplePostings } from '../../src/db/dashboard.ts'
+import { coMentioned, examplePostings, latestPostingsWay } from '../../src/db/dashboard.ts'
 import { SCHEMA_VERSION } from '../../src/db/migrations.ts'
 import { replaceTaxonomy, saveMappings } from '../../src/db/taxonomy.ts'
 import { Matcher } from '../../src/taxonomy/matcher.ts'
@@ -197,6 +197,24 @@ describe('a broader skill on the dashboard', () => {
       ['sql', 2, 3],
       ['excel', 1, 3],
     ])
+    // both ways of reading a skill's latest postings give the same rows, from every first month
+    // that the demand counts choose (worked by hand: data-skills is in 2 of January's 2 originals and
+    // 1 of February's 2, so its one latest posting is read from February's postings)
+    expect(latestPostingsWay(db, 'data-skills', 1)).toEqual({ since: '2024-02', way: 'by-month' })
+    expect(latestPostingsWay(db, 'data-skills', 3)).toEqual({ since: '2024-01', way: 'by-skill' })
+    expect(latestPostingsWay(db, 'data-skills', 4)).toEqual({ since: '', way: 'by-skill' })
+    for (const c of hierarchy.map((h) => h.id)) {
+      for (const want of [1, 2, 3, 5]) {
+        const every = { since: '', way: 'by-skill' } as const
+        const chosen = latestPostingsWay(db, c, want)
+        const posts = examplePostings(db, c, want, every)
+        const neighbours = coMentioned(db, c, 10, want, every)
+        for (const way of ['by-skill', 'by-month'] as const) {
+          expect(examplePostings(db, c, want, { since: chosen.since, way }), `${c} ${want} ${way}`).toEqual(posts)
+          expect(coMentioned(db, c, 10, want, { since: chosen.since, way }), `${c} ${want} ${way}`).toEqual(neighbours)
+        }
+      }
+    }
     // saveMappings counts a re-mapped posting's roll-up, and takes the old one out
     db.transaction(() => saveMappings(db, [{ id: ids[0]!, rows: [{ conceptId: 'excel', count: 1, firstOffset: 0, via: 'text' }] }]))()
     const demand = recomputeMonthlyDemand(db)
