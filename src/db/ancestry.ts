@@ -5,7 +5,8 @@
  * Only direct mentions are stored (migration 14); the roll-up is derived where it is needed, from
  * the same links the matcher rolls up by (taxonomy/matcher-build.ts), so the demand aggregates count
  * a document for the same concepts whichever path counted it:
- * - in JavaScript, {@link Ancestry} (the map's counts, and taking a document out of them again);
+ * - in JavaScript, {@link Ancestry} (the map's counts, and {@link countedConcepts} for taking a
+ *   stored document out of them again);
  * - in SQL, {@link CONCEPTS_UNDER} (a broader concept's documents) and {@link ROLL_UP} (every
  *   concept's documents), recursive common table expressions over the same table.
  *
@@ -103,4 +104,10 @@ export class Ancestry {
     for (const id of [...out]) for (const a of this.broaderOf(id)) out.add(a)
     return [...out]
   }
+}
+
+/** The concepts a stored document counts for: its stored (direct) mentions, rolled up. */
+export function countedConcepts(db: Db, documentId: number, ancestry: Ancestry = Ancestry.of(db)): string[] {
+  const direct = db.prepare('SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(documentId) as string[]
+  return ancestry.rollUp(direct)
 }

@@ -5,7 +5,7 @@
  */
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
-import { Ancestry } from './ancestry.ts'
+import { countedConcepts } from './ancestry.ts'
 import { DemandDelta, isMapped } from './curves.ts'
 import { deleteMentionList } from './mention-lists.ts'
 
@@ -271,8 +271,7 @@ interface CountState {
 /** Takes a document out of the demand aggregates when it counts there (a mapped original): its direct mentions rolled up. */
 function uncountDocument(db: Db, delta: DemandDelta, doc: CountState): void {
   if (doc.duplicate_of !== null || !doc.mapped) return
-  const direct = db.prepare('SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(doc.id) as string[]
-  delta.document(doc.kind, doc.month, Ancestry.of(db).rollUp(direct), -1)
+  delta.document(doc.kind, doc.month, countedConcepts(db, doc.id), -1)
 }
 
 function countState(db: Db, id: number): CountState | undefined {

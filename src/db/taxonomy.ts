@@ -7,7 +7,7 @@
 import type { Statement } from 'better-sqlite3'
 import type { Db } from './connection.ts'
 import { getSetting, setSetting } from './connection.ts'
-import { Ancestry, forgetAncestry, ROLL_UP } from './ancestry.ts'
+import { Ancestry, countedConcepts, forgetAncestry, ROLL_UP } from './ancestry.ts'
 import { clearDemandCounts, DemandDelta, isMapped } from './curves.ts'
 import { clearMentionLists, mentionListWriter } from './mention-lists.ts'
 import type { Concept, SkillType } from '../taxonomy/types.ts'
@@ -245,21 +245,14 @@ export interface DocumentMapping {
   rows: readonly MentionRow[]
 }
 
-/** Removes a counted document's current mentions, rolled up, and its total from the delta (before they change). */
-function uncount(db: Db, delta: DemandDelta, ancestry: Ancestry, id: number, kind: string, month: string): void {
-  const direct = stmt(db, 'SELECT concept_id FROM mentions WHERE document_id = ?').pluck().all(id) as string[]
-  delta.document(kind, month, ancestry.rollUp(direct), -1)
-}
-
 /**
  * Replaces the mentions of a batch of documents (and their rows of mention_lists), takes them off
  * the map's queue, and keeps the demand aggregates in step (a document that counted before, a mapped
  * original, has its old mentions taken out; an original counts with its new ones, and with every
- * concept broader than them (db/ancestry.ts). Documents go in id
- * order, each one's mentions in concept order (appends to the table's primary key). One prepared
- * single-row INSERT: measured on the N = 100,000 benchmark database, 100-row INSERT statements
- * stored 289,617 mention rows about 2.5 times slower than single-row ones. Call inside the batch's
- * transaction.
+ * concept broader than them (db/ancestry.ts). Documents go in id order, each one's mentions in
+ * concept order (appends to the table's primary key). One prepared single-row INSERT: measured on
+ * the N = 100,000 benchmark database, 100-row INSERT statements stored 289,617 mention rows about
+ * 2.5 times slower than single-row ones. Call inside the batch's transaction.
  * @returns the number of roll-ups: broader concepts the documents count for without mentioning them
  */
 export function saveMappings(db: Db, docs: readonly DocumentMapping[]): number {
@@ -280,7 +273,7 @@ export function saveMappings(db: Db, docs: readonly DocumentMapping[]): number {
     if (!doc) throw new Error(`saveMappings: document ${d.id} is not stored`)
     // an original that was not queued was mapped and counts: its old mentions come out first
     const wasQueued = dequeue.run(d.id).changes > 0
-    if (doc.duplicate_of === null && !wasQueued) uncount(db, delta, ancestry, d.id, doc.kind, doc.month)
+    if (doc.duplicate_of === null && !wasQueued) delta.document(doc.kind, doc.month, countedConcepts(db, d.id, ancestry), -1)
     clear.run(d.id)
     const rows = direct[i]!
     for (const r of rows) insert.run(d.id, r.conceptId, r.count, r.firstOffset, r.via)
@@ -305,7 +298,7 @@ export function markUnmapped(db: Db, ids: readonly number[]): number {
     const doc = state.get(id) as { kind: string; month: string; duplicate_of: number | null } | undefined
     // reposts are never mapped; a mapped original stops counting until it is mapped again
     if (!doc || doc.duplicate_of !== null) continue
-    if (queue.run(id).changes > 0) uncount(db, delta, ancestry, id, doc.kind, doc.month)
+    if (queue.run(id).changes > 0) delta.document(doc.kind, doc.month, countedConcepts(db, id, ancestry), -1)
     n++
   }
   delta.apply(db)
