@@ -16,7 +16,7 @@ import { Matcher, type MapInput } from '../src/taxonomy/matcher.ts'
 import { MapperPool, mapperSource } from '../src/taxonomy/parallel.ts'
 import { defaultThreads } from '../src/util/ts-worker.ts'
 import { buildTaxonomy } from '../src/taxonomy/validate.ts'
-import { mentionRows } from '../src/taxonomy/rows.ts'
+import { storedRows } from '../src/taxonomy/rows.ts'
 import type { Taxonomy } from '../src/taxonomy/types.ts'
 
 const { values } = parseArgs({ options: { mb: { type: 'string' } } })
@@ -51,7 +51,7 @@ function bytesOf(texts: readonly string[]): number {
 
 /**
  * Best of `rounds` timings of mapping every text: `core` counts matches only; `rows` builds what
- * the map stage stores (presence, counts, first offsets, rollups); `spans` builds the full result
+ * the map stage stores (presence, counts, first offsets; no roll-up); `spans` builds the full result
  * with every span (what `tides map` prints).
  */
 function mapMBps(matcher: Matcher, texts: readonly string[], bytes: number, mode: 'core' | 'rows' | 'spans', rounds = 3): number {
@@ -60,7 +60,7 @@ function mapMBps(matcher: Matcher, texts: readonly string[], bytes: number, mode
   for (let r = 0; r < rounds; r++) {
     const t0 = performance.now()
     if (mode === 'spans') for (const t of texts) sink += matcher.mapText(t).mentions.length
-    else if (mode === 'rows') for (const t of texts) sink += mentionRows(matcher.mapText(t, { spans: false })).length
+    else if (mode === 'rows') for (const t of texts) sink += storedRows(matcher, { text: t }).length
     else for (const t of texts) sink += matcher.countMatches(t)
     best = Math.min(best, performance.now() - t0)
   }

@@ -8,7 +8,7 @@ import { parentPort, workerData } from 'node:worker_threads'
 import Database from 'better-sqlite3'
 import { unmappedBetween } from '../db/taxonomy.ts'
 import { matcherFromSource, type MapperSource, type WorkerRequest, type WorkerResponse } from './parallel.ts'
-import { documentInput, encodeRows, mentionRows } from './rows.ts'
+import { documentInput, encodeRows, storedRows } from './rows.ts'
 
 const source = workerData as MapperSource
 const matcher = matcherFromSource(source)
@@ -25,7 +25,7 @@ parentPort!.on('message', (req: WorkerRequest) => {
       ids = new Float64Array(docs.map((d) => d.id))
       inputs = docs.map(documentInput)
     }
-    const rows = encodeRows(matcher, inputs.map((input) => mentionRows(matcher.map(input, { spans: false, rollups: false }))))
+    const rows = encodeRows(matcher, inputs.map((input) => storedRows(matcher, input)))
     const res: WorkerResponse = { id: req.id, rows, ...(ids ? { ids } : {}) }
     parentPort!.postMessage(res, ids ? [rows.buffer as ArrayBuffer, ids.buffer as ArrayBuffer] : [rows.buffer as ArrayBuffer])
   } catch (err) {

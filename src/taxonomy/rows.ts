@@ -6,7 +6,7 @@
  * threads send back without cloning thousands of small objects.
  */
 import type { DocumentToMap } from '../db/taxonomy.ts'
-import type { DocumentMapping, MapInput, Matcher } from './matcher.ts'
+import type { MapInput, Matcher } from './matcher.ts'
 
 export interface MentionRow {
   conceptId: string
@@ -15,9 +15,10 @@ export interface MentionRow {
   via: 'text' | 'skills'
 }
 
-/** The mention rows of one document's mapping. */
-export function mentionRows(mapping: DocumentMapping): MentionRow[] {
-  return mapping.mentions.map((m) => ({ conceptId: m.conceptId, count: m.count, firstOffset: m.via === 'text' ? m.firstOffset : null, via: m.via }))
+/** The mention rows a document is stored with: its mentions, mapped without spans and without the roll-up list. */
+export function storedRows(matcher: Matcher, input: MapInput): MentionRow[] {
+  const { mentions } = matcher.map(input, { spans: false, rollups: false })
+  return mentions.map((m) => ({ conceptId: m.conceptId, count: m.count, firstOffset: m.via === 'text' ? m.firstOffset : null, via: m.via }))
 }
 
 /** The text a document is mapped as: its title, a line break, its body. Offsets refer to this. */

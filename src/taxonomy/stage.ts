@@ -2,8 +2,8 @@
  * @module taxonomy/stage
  * The `map` stage: maps every original document not yet mapped against the stored taxonomy
  * (loading the configured or shipped one on first use), writes its mentions (via `text` or
- * `skills`; the broader concepts of their roll-up are counted, not stored) and emits `documents.mapped` in the
- * transaction of the last batch. It runs on `documents.ingested` and on `taxonomy.changed`,
+ * `skills`; the broader concepts of their roll-up are counted, not stored) and emits
+ * `documents.mapped` in the transaction of the last batch. It runs on `documents.ingested` and on `taxonomy.changed`,
  * whose writer has already marked the affected documents unmapped. Large runs are spread over
  * worker threads. Afterwards it recomputes the candidate terms.
  */
@@ -33,7 +33,7 @@ import type { Stage, StageContext, StageResult } from '../stage.ts'
 import type { Config } from '../config.ts'
 import { findCandidateTerms, type CandidateResult } from './candidates.ts'
 import type { Matcher } from './matcher.ts'
-import { documentInput, mentionRows, type MentionRow } from './rows.ts'
+import { documentInput, storedRows, type MentionRow } from './rows.ts'
 import { candidatesInBackground, MapperPool, mapperSource, type BackgroundCandidates, type MapperSource } from './parallel.ts'
 import { defaultThreads } from '../util/ts-worker.ts'
 import { ensureTaxonomy, matcherFromDb, packedMatcherFromDb } from './store.ts'
@@ -149,7 +149,7 @@ export async function mapUnmapped(
       after = docs[docs.length - 1]!.id
       const inputs = docs.map(documentInput)
       const ids = docs.map((d) => d.id)
-      track(pool ? pool.mapRows(inputs).then((rows) => ({ ids, rows })) : Promise.resolve({ ids, rows: inputs.map((i) => mentionRows(matcher!.map(i, { spans: false, rollups: false }))) }))
+      track(pool ? pool.mapRows(inputs).then((rows) => ({ ids, rows })) : Promise.resolve({ ids, rows: inputs.map((i) => storedRows(matcher!, i)) }))
       return true
     }
     while (inflight.length < ahead && fetchNext());
