@@ -11,6 +11,7 @@ import fs from 'node:fs'
 import path from 'node:path'
 import Database from 'better-sqlite3'
 import { DEFAULT_CURVES_CONFIG as config } from '../src/curves/config.ts'
+import { fitAll } from '../src/curves/fit-all.ts'
 import { analyseSkill } from '../src/curves/fit-skill.ts'
 import { buildGrid } from '../src/curves/series.ts'
 import type { SkillGrid, SkillSeriesInput } from '../src/curves/series.ts'
@@ -33,13 +34,9 @@ db.close()
 
 const gridOf = (input: SkillSeriesInput): SkillGrid => buildGrid(input, { weights: config.weights, windowMonths: config.windowMonths, minMonths: config.minMonths })
 const grids = inputs.map(gridOf)
-// the skills the analysis tests: the data-volume checks of analyseSkill
-const tested = grids.flatMap((grid, k) => {
-  let observed = 0
-  for (let t = 0; t < grid.length; t++) if (!Number.isNaN(grid.combined[t]!)) observed++
-  const mentions = grid.sources.reduce((sum, source) => sum + source.mentions, 0)
-  return grid.sources.length > 0 && observed >= config.minMonths && mentions >= config.minMentions ? [k] : []
-})
+// the skills the fit tests (a p-value in the cross-skill family), as the stage counts them
+const testedIds = new Set(fitAll(inputs, config).curves.filter((curve) => curve.pValue !== null && Number.isFinite(curve.pValue)).map((curve) => curve.id))
+const tested = inputs.flatMap((input, k) => (testedIds.has(input.id) ? [k] : []))
 
 /** µs per tested skill, the third of three passes */
 function perSkill(part: (k: number) => void): number {
