@@ -252,7 +252,9 @@ export async function main(argv: string[], io: Io): Promise<number> {
       return 0
     }
     io.err(helpText())
-    io.err('tides: a command is required\n')
+    // an option this level does not know (the command's own options need the command first)
+    const unknown = globalParsed.tokens.find((t) => t.kind === 'option' && !(t.name in GLOBAL_OPTIONS))
+    io.err(unknown?.kind === 'option' ? `tides: unknown option '${unknown.rawName}' (before a command: --db, --config, --help)\n` : 'tides: a command is required\n')
     return 2
   }
   const command = COMMANDS[name]

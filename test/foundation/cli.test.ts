@@ -35,6 +35,10 @@ describe('tides CLI', () => {
 
   it('answers a usage error with one line and exit 2', async () => {
     expect(await tides()).toMatchObject({ code: 2 })
+    const unknownGlobal = await tides('--frobnicate')
+    expect(unknownGlobal.code).toBe(2)
+    expect(unknownGlobal.err).toMatch(/unknown option '--frobnicate'/)
+    expect((await tides('--db', 'x.db')).err).toMatch(/a command is required/)
     expect((await tides('frobnicate')).err).toMatch(/unknown command "frobnicate"/)
     const r = await tides('report', 'skills', '--colour')
     expect(r.code).toBe(2)
