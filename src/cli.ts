@@ -184,7 +184,8 @@ export const COMMANDS: Record<string, Command> = {
         throw new UsageError(`unknown report "${name}" (reports: ${Object.keys(REPORTS).join(', ')})`)
       }
       // arguments first: a usage error is reported as one, whether or not the database is there
-      const limit = values['limit'] === undefined ? undefined : intArg('--limit', values['limit'])
+      // a limit of 0 would print an empty report that reads as "nothing there"
+      const limit = values['limit'] === undefined ? undefined : intArg('--limit', values['limit'], 1)
       const { db, config } = ctx.open({ existing: true })
       printReport(ctx.io, name, report.build(db, config, { limit, people: Boolean(values['people']) }), values)
     },
@@ -192,9 +193,11 @@ export const COMMANDS: Record<string, Command> = {
   ...EXTRA_COMMANDS,
 }
 
-function intArg(name: string, value: unknown): number {
+function intArg(name: string, value: unknown, min = 0): number {
   const n = Number(value)
-  if (typeof value !== 'string' || !/^\d+$/.test(value) || !Number.isSafeInteger(n)) throw new UsageError(`${name} needs a whole number, got "${String(value)}"`)
+  if (typeof value !== 'string' || !/^\d+$/.test(value) || !Number.isSafeInteger(n) || n < min) {
+    throw new UsageError(`${name} needs a whole number${min > 0 ? ` of at least ${min}` : ''}, got "${String(value)}"`)
+  }
   return n
 }
 

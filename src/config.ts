@@ -14,6 +14,7 @@ import { ingestConfigSchema, sourceSchema, webhookSchema } from './ingest/config
 import { planConfigSchema } from './plan/config.ts'
 import { serverConfigSchema } from './server/config.ts'
 import { taxonomyConfigSchema } from './taxonomy/config.ts'
+import { readFailure } from './errors.ts'
 
 export const DEFAULT_CONFIG_FILE = 'tides.config.json'
 export const DEFAULT_DB_FILE = '.tides/tides.db'
@@ -94,7 +95,7 @@ export function loadConfig(options: LoadOptions = {}): Config & { configFile: st
     try {
       text = fs.readFileSync(file, 'utf8')
     } catch (err) {
-      throw new ConfigError(`${file}: cannot read config file: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}`)
+      throw new ConfigError(`${file}: cannot read config file: ${readFailure(err)}`)
     }
     try {
       raw = JSON.parse(text)

@@ -21,3 +21,25 @@ export class BusyError extends Error {
 export class LockLostError extends Error {
   override name = 'LockLostError'
 }
+
+const READ_FAILURES: Record<string, string> = {
+  ENOENT: 'no such file or folder',
+  EACCES: 'permission denied',
+  EPERM: 'permission denied',
+  EISDIR: 'a folder, not a file',
+  ENOTDIR: 'a part of the path is not a folder',
+}
+
+/**
+ * Why a file could not be read, in words, with the system's code (`cannot read: ${readFailure(err)}`).
+ *
+ * @example
+ * ```ts
+ * readFailure(Object.assign(new Error('x'), { code: 'ENOENT' })) // => 'no such file or folder (ENOENT)'
+ * ```
+ */
+export function readFailure(err: unknown): string {
+  const code = (err as NodeJS.ErrnoException | null)?.code
+  if (code && READ_FAILURES[code]) return `${READ_FAILURES[code]} (${code})`
+  return code ?? (err instanceof Error ? err.message : String(err))
+}

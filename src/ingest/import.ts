@@ -25,6 +25,7 @@ import { createProgress } from './progress.ts'
 import { type LineKind, documentFromLine, requestsFromCsv } from './readers.ts'
 import { decodeBytes } from './text.ts'
 import { BatchWriter } from './writer.ts'
+import { readFailure } from '../errors.ts'
 
 type Kind = 'postings' | 'requests'
 
@@ -150,7 +151,7 @@ export async function importDocuments(db: Db, config: Config, kind: Kind, file: 
   try {
     stat = fs.statSync(file)
   } catch (err) {
-    return refuse([{ file, line: 0, reason: `cannot read: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}` }])
+    return refuse([{ file, line: 0, reason: `cannot read: ${readFailure(err)}` }])
   }
   if (!stat.isFile()) return refuse([{ file, line: 0, reason: 'not a file' }])
   const ext = path.extname(file).toLowerCase()

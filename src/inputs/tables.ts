@@ -9,6 +9,7 @@ import type { Db } from '../db/connection.ts'
 import * as store from '../db/workforce.ts'
 import { type InputProblem, readCsv } from '../util/csv.ts'
 import { FieldError, date, list, number, text } from './fields.ts'
+import { readFailure } from '../errors.ts'
 
 export type TableKind = 'items' | 'responses' | 'abilities' | 'people' | 'roles' | 'courses'
 
@@ -114,7 +115,7 @@ export function importTableFile(db: Db, kind: TableKind, file: string, opts: { s
   try {
     content = fs.readFileSync(file, 'utf8')
   } catch (err) {
-    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [{ file, line: 0, reason: `cannot read: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}` }] }
+    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [{ file, line: 0, reason: `cannot read: ${readFailure(err)}` }] }
   }
   return importTableText(db, kind, content, file, opts)
 }

@@ -7,6 +7,7 @@
  */
 import { CliError, UsageError, type CommandContext } from '../cli.ts'
 import { mappingJson, mappingText, matcherForCommand, readPostingLines } from './commands.ts'
+import { readFailure } from '../errors.ts'
 
 export async function runMapCommand(ctx: CommandContext, values: Record<string, unknown>, positionals: string[]): Promise<void> {
   const text = values['text']
@@ -26,7 +27,7 @@ export async function runMapCommand(ctx: CommandContext, values: Record<string, 
   try {
     read = readPostingLines(file)
   } catch (err) {
-    throw new CliError(`${file}: cannot read: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}`)
+    throw new CliError(`${file}: cannot read: ${readFailure(err)}`)
   }
   for (const p of read.problems) ctx.io.err(`${p.file}:${p.line}: ${p.reason}\n`)
   const docs = read.docs.map((d) =>

@@ -18,6 +18,7 @@ import { matcherCodeKey, packMatcher, unpackMatcher } from './matcher-cache.ts'
 import { emptyRules, parseRules } from './rules.ts'
 import type { Concept, ConceptRecord, Problem, Taxonomy } from './types.ts'
 import { buildTaxonomy } from './validate.ts'
+import { readFailure } from '../errors.ts'
 
 /** Problems in the input format the import command prints. */
 export function toInputProblem(p: Problem): InputProblem {
@@ -99,7 +100,7 @@ export async function importTaxonomy(db: Db, file: string, opts: { skipBad: bool
   try {
     text = fs.readFileSync(file, 'utf8')
   } catch (err) {
-    return { ...base, refused: true, problems: [{ file, line: 0, reason: `cannot read: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}` }] }
+    return { ...base, refused: true, problems: [{ file, line: 0, reason: `cannot read: ${readFailure(err)}` }] }
   }
   const loaded = await loadTaxonomyText(text, file, format)
   const rulesFile = rulesFileFor(file)

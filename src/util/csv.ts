@@ -13,7 +13,8 @@ export interface InputProblem {
 }
 
 export function formatProblem(p: InputProblem): string {
-  return `${p.file}:${p.line}${p.column ? `: column ${p.column}` : ''}: ${p.reason}`
+  // line 0: the whole file (it could not be read, or its kind is wrong), so no line is named
+  return `${p.file}${p.line > 0 ? `:${p.line}` : ''}${p.column ? `: column ${p.column}` : ''}: ${p.reason}`
 }
 
 export interface CsvRow {

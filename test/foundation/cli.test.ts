@@ -47,6 +47,9 @@ describe('tides CLI', () => {
     expect((await tides('run', 'teleport')).err).toMatch(/unknown stage "teleport"/)
     expect((await tides('import', 'gossip', 'x.csv')).err).toMatch(/import needs a kind/)
     expect((await tides('report', 'runs', '--limit', 'ten')).err).toMatch(/--limit needs a whole number/)
+    const folder = tmpDir()
+    expect(await tides('--db', path.join(folder, 't.db'), 'import', 'people', folder)).toMatchObject({ code: 1, err: expect.stringContaining(`${folder}: cannot read: a folder, not a file (EISDIR)`) })
+    expect(await tides('report', 'needs', '--limit', '0')).toMatchObject({ code: 2, err: expect.stringMatching(/--limit needs a whole number of at least 1, got "0"/) })
   })
 
   it('imports a CSV, refuses a bad one with file:line, and accepts the good rows with --skip-bad', async () => {

@@ -49,7 +49,7 @@ describe('config', () => {
     const file = writeConfig('{ "db": ')
     expect(() => loadConfig({ file, env: {} })).toThrow(ConfigError)
     expect(() => loadConfig({ file, env: {} })).toThrow(new RegExp(`${path.basename(file)}: not valid JSON`))
-    expect(() => loadConfig({ file: '/nonexistent/tides.json', env: {} })).toThrow(/cannot read config file: ENOENT/)
+    expect(() => loadConfig({ file: '/nonexistent/tides.json', env: {} })).toThrow(/cannot read config file: no such file or folder \(ENOENT\)/)
   })
 
   it('resolves the database path against the config folder; TIDES_DB and --db override it', () => {

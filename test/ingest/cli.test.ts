@@ -39,7 +39,7 @@ describe('tides import postings | requests', () => {
     // a file that cannot be read is not called a file with bad rows
     const missing = await tides('--db', db, 'import', 'postings', path.join(dir, 'no-such.jsonl'))
     expect(missing.code).toBe(1)
-    expect(missing.err).toContain('no-such.jsonl:0: cannot read: ENOENT')
+    expect(missing.err).toContain('no-such.jsonl: cannot read: no such file or folder (ENOENT)')
     expect(missing.err).toMatch(/nothing imported from a file that could not be read as postings/)
     expect(missing.err).not.toMatch(/bad rows/)
 
