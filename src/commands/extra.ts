@@ -2,8 +2,7 @@
  * @module commands/extra
  * `serve` and `map`: the long-running server with its schedules, and the taxonomy tuning command.
  */
-import type { Command } from '../cli.ts'
-import { NotBuiltError } from '../stage.ts'
+import { UsageError, type Command } from '../cli.ts'
 
 export const COMMANDS: Record<string, Command> = {
   serve: {
@@ -11,14 +10,15 @@ export const COMMANDS: Record<string, Command> = {
     usage: 'tides serve [--host HOST] [--port PORT] [--no-schedules]',
     options: { host: { type: 'string' }, port: { type: 'string' }, 'no-schedules': { type: 'boolean' } },
     async run(ctx, values) {
+      // arguments first: a usage error opens (and creates) no database
+      const port = values['port'] === undefined ? undefined : Number(values['port'])
+      if (port !== undefined && !(/^\d+$/.test(String(values['port'])) && port <= 65535)) {
+        throw new UsageError(`--port needs a port number (0 to 65535), got "${String(values['port'])}"`)
+      }
       const { serve } = await import('../serve.ts')
       const { db, config } = ctx.open()
       if (values['host']) config.server.host = String(values['host'])
-      if (values['port']) {
-        const port = Number(values['port'])
-        if (!Number.isInteger(port) || port < 0 || port > 65535) throw new NotBuiltError(`--port needs a port number, got "${String(values['port'])}"`)
-        config.server.port = port
-      }
+      if (port !== undefined) config.server.port = port
       const running = await serve(db, config, { schedules: !values['no-schedules'], log: (m) => ctx.io.err(m + '\n') })
       ctx.io.err(`dashboard: ${running.url}\n`)
       await running.closed

@@ -49,6 +49,11 @@ describe('tides CLI', () => {
     expect((await tides('report', 'runs', '--limit', 'ten')).err).toMatch(/--limit needs a whole number/)
     const folder = tmpDir()
     expect(await tides('--db', path.join(folder, 't.db'), 'import', 'people', folder)).toMatchObject({ code: 1, err: expect.stringContaining(`${folder}: cannot read: a folder, not a file (EISDIR)`) })
+    for (const port of ['99999', 'abc', '-1', '80.5']) {
+      const db = path.join(folder, `serve-${port}.db`)
+      expect(await tides('--db', db, 'serve', `--port=${port}`)).toMatchObject({ code: 2, err: expect.stringContaining(`--port needs a port number (0 to 65535), got "${port}"`) })
+      expect(fs.existsSync(db), 'a usage error creates no database').toBe(false)
+    }
     expect(await tides('report', 'needs', '--limit', '0')).toMatchObject({ code: 2, err: expect.stringMatching(/--limit needs a whole number of at least 1, got "0"/) })
   })
 
