@@ -91,10 +91,10 @@ export const COMMANDS: Record<string, Command> = {
     options: { seed: { type: 'string' }, months: { type: 'string' }, 'per-month': { type: 'string' }, 'as-of': { type: 'string' }, 'no-run': { type: 'boolean' } },
     async run(ctx, values) {
       const { runDemo, DemoError } = await import('./demo/load.ts')
-      const { db, config } = ctx.open()
       const seed = values['seed'] === undefined ? undefined : intArg('--seed', values['seed'])
       const months = values['months'] === undefined ? undefined : intArg('--months', values['months'])
       const perMonth = values['per-month'] === undefined ? undefined : intArg('--per-month', values['per-month'])
+      const { db, config } = ctx.open()
       const asOf = values['as-of'] as string | undefined
       try {
         await runDemo(db, config, { seed, months, perMonth, asOf, run: !values['no-run'], log: (m) => ctx.io.err(m + '\n') })
@@ -155,12 +155,12 @@ export const COMMANDS: Record<string, Command> = {
       for (const p of positionals) {
         if (p !== 'all' && !(STAGE_ORDER as readonly string[]).includes(p)) throw new UsageError(`unknown stage "${p}" (stages: ${STAGE_ORDER.join(', ')}, all)`)
       }
+      const waitMs = values['wait'] === undefined ? 0 : intArg('--wait', values['wait']) * 1000
       const { db, config } = ctx.open()
       const options: Record<string, unknown> = {}
       if (values['source']) options['source'] = values['source']
       if (values['calibrate']) options['calibrate'] = true
       if (values['rebuild']) options['rebuild'] = true
-      const waitMs = values['wait'] === undefined ? 0 : intArg('--wait', values['wait']) * 1000
       // the stages' modules load here, not for every command
       const { runPipeline } = await import('./pipeline.ts')
       const outcomes = await runPipeline(db, config, positionals, { log: (m) => ctx.io.err(m + '\n'), options, ripple: !values['only'], waitMs })

@@ -49,6 +49,12 @@ describe('tides CLI', () => {
     expect((await tides('report', 'runs', '--limit', 'ten')).err).toMatch(/--limit needs a whole number/)
     const folder = tmpDir()
     expect(await tides('--db', path.join(folder, 't.db'), 'import', 'people', folder)).toMatchObject({ code: 1, err: expect.stringContaining(`${folder}: cannot read: a folder, not a file (EISDIR)`) })
+    // arguments are checked before the database is opened: a usage error creates none
+    for (const args of [['run', 'all', '--wait', 'soon'], ['demo', '--seed', 'x']]) {
+      const db = path.join(folder, `${args[0]}.db`)
+      expect(await tides('--db', db, ...args)).toMatchObject({ code: 2, err: expect.stringMatching(/needs a whole number/) })
+      expect(fs.existsSync(db), args.join(' ')).toBe(false)
+    }
     for (const port of ['99999', 'abc', '-1', '80.5']) {
       const db = path.join(folder, `serve-${port}.db`)
       expect(await tides('--db', db, 'serve', `--port=${port}`)).toMatchObject({ code: 2, err: expect.stringContaining(`--port needs a port number (0 to 65535), got "${port}"`) })
