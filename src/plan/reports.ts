@@ -50,7 +50,7 @@ function needRow(n: RankedNeed): Record<string, unknown> {
     latestShare: round(n.parts.momentum.inputs['latestShare'] as number | null, 5),
     baseShare: round((n.parts.momentum.inputs['baseShare'] as number | null | undefined) ?? null, 5),
     forecastShare12: round(n.parts.momentum.inputs['forecastShare12'] as number | null, 5),
-    pAdjusted: round(n.parts.momentum.inputs['pAdjusted'] as number | null, 5),
+    pAdjusted: pRound(n.parts.momentum.inputs['pAdjusted'] as number | null),
     gapPeople: round(n.parts.gap.inputs['expectedGap'] as number | null, 2),
     unknownPeople: n.parts.gap.inputs['unknown'] ?? null,
     exposedHeadcount: ((n.parts.exposure.inputs['requiredHeadcount'] as number) ?? 0) + ((n.parts.exposure.inputs['futureHeadcount'] as number) ?? 0),

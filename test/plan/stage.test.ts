@@ -239,6 +239,11 @@ describe('plan reports', () => {
     expect(csv[0]).toBe(out.columns.join(','))
     expect(csv).toHaveLength(json.length + 1)
     expect(REPORTS['needs']!.build(db, config, { limit: 3 }).rows).toHaveLength(3)
+    // the table's adjusted p keeps three significant digits (rounded to five decimals, 4.76e-23 printed as 0)
+    const [first] = readPlanOutputs<{ parts: { momentum: { inputs: Record<string, unknown> } } }>(db, 'need')
+    first!.payload.parts.momentum.inputs['pAdjusted'] = 4.764141940892603e-23
+    replacePlanOutputs(db, ['need'], [{ kind: 'need', key: first!.key, rank: first!.rank, score: first!.score, payload: first!.payload }], '2026-01-01T00:00:00Z')
+    expect(REPORTS['needs']!.build(db, config, {}).rows[0]).toMatchObject({ pAdjusted: 4.76e-23 })
   })
 
   it('reskilling candidates are counts unless --people is given', () => {
