@@ -133,8 +133,8 @@ export const COMMANDS: Record<string, Command> = {
               for (const p of r.problems.slice(0, 50)) ctx.io.err(formatProblem(p) + '\n')
               if (r.problems.length > 50) ctx.io.err(`... and ${r.problems.length - 50} more problems\n`)
             }
-            // refused for the file as a whole (missing, not a file, wrong format: line 0) or for bad rows
-            if (r.refused && r.problems.every((p) => p.line === 0)) unreadable = true
+            // refused for the file as a whole (missing, not a file, wrong format or header) or for bad rows
+            if (r.refused && r.whole) unreadable = true
             else if (r.refused) badRows = true
             else if (!values['json']) ctx.io.err(`${file}: ${r.imported} ${kind} imported of ${r.read} read${r.skipped ? `, ${r.skipped} bad rows skipped` : ''}\n`)
           }

@@ -146,7 +146,7 @@ async function checkWhole(file: string, kind: Kind, maxTextChars: number): Promi
 
 /** Imports one postings or requests file. */
 export async function importDocuments(db: Db, config: Config, kind: Kind, file: string, opts: Pick<ImportOptions, 'skipBad'> & { log?: (m: string) => void }): Promise<ImportResult> {
-  const refuse = (problems: InputProblem[], read = 0): ImportResult => ({ kind, file, read, imported: 0, skipped: 0, problems, refused: true })
+  const refuse = (problems: InputProblem[]): ImportResult => ({ kind, file, read: 0, imported: 0, skipped: 0, problems, refused: true, whole: true })
   let stat: fs.Stats
   try {
     stat = fs.statSync(file)
@@ -176,7 +176,7 @@ async function importChecked(db: Db, config: Config, kind: Kind, file: string, o
   const maxText = config.ingest.maxTextChars
   // JSON Lines below the parse worker's size are parsed once, in the check, and kept for the write
   const checked = !lines ? await checkWhole(file, kind, maxText) : parser ? await checkJsonLinesInParallel(parser, file, size, kind, maxText) : checkJsonLines(file, kind, maxText, null, true)
-  if (checked.fatal) return refuse([toInputProblem(checked.fatal)])
+  if (checked.fatal) return { ...refuse([toInputProblem(checked.fatal)]), whole: true }
   const bad = checked.problems.filter((p) => !p.warning).length
   const problems = checked.problems.map(toInputProblem)
   if (bad > 0 && !opts.skipBad) return refuse(problems, checked.read)

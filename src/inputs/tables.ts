@@ -107,6 +107,11 @@ export interface ImportResult {
   problems: InputProblem[]
   /** true when nothing was stored because of bad rows (and skipBad was not set) */
   refused: boolean
+  /**
+   * refused as a whole (it cannot be read, is of the wrong kind, or its header or format is wrong):
+   * skipping bad rows cannot help
+   */
+  whole?: boolean
 }
 
 /** Validates and stores one CSV file of a table kind. */
@@ -115,7 +120,7 @@ export function importTableFile(db: Db, kind: TableKind, file: string, opts: { s
   try {
     content = fs.readFileSync(file, 'utf8')
   } catch (err) {
-    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [{ file, line: 0, reason: `cannot read: ${readFailure(err)}` }] }
+    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, whole: true, problems: [{ file, line: 0, reason: `cannot read: ${readFailure(err)}` }] }
   }
   return importTableText(db, kind, content, file, opts)
 }
@@ -124,10 +129,10 @@ export function importTableText(db: Db, kind: TableKind, content: string, file: 
   const spec = SPECS[kind]
   if (content.includes('\uFFFD')) {
     const line = content.slice(0, content.indexOf('\uFFFD')).split('\n').length
-    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [{ file, line, reason: 'not valid UTF-8 text' }] }
+    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, whole: true, problems: [{ file, line, reason: 'not valid UTF-8 text' }] }
   }
   const parsed = readCsv(content, file, spec.required, spec.optional ?? [])
-  if (parsed.fatal) return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, problems: [parsed.fatal] }
+  if (parsed.fatal) return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, whole: true, problems: [parsed.fatal] }
   const problems = [...parsed.problems]
   const good: unknown[] = []
   const run = db.transaction(() => {

@@ -83,6 +83,8 @@ export interface TaxonomyImportResult {
   skipped: number
   problems: InputProblem[]
   refused: boolean
+  /** refused as a whole: no concept could be read from it, so skipping bad rows cannot help */
+  whole?: boolean
   /** documents marked for re-mapping */
   affected: number
 }
@@ -95,12 +97,12 @@ export interface TaxonomyImportResult {
 export async function importTaxonomy(db: Db, file: string, opts: { skipBad: boolean; log?: (m: string) => void }): Promise<TaxonomyImportResult> {
   const format = formatOf(file)
   const base = { kind: 'taxonomy' as const, file, read: 0, imported: 0, skipped: 0, affected: 0 }
-  if (!format) return { ...base, refused: true, problems: [{ file, line: 0, reason: 'unknown taxonomy format (expected .csv or .ttl)' }] }
+  if (!format) return { ...base, refused: true, whole: true, problems: [{ file, line: 0, reason: 'unknown taxonomy format (expected .csv or .ttl)' }] }
   let text: string
   try {
     text = fs.readFileSync(file, 'utf8')
   } catch (err) {
-    return { ...base, refused: true, problems: [{ file, line: 0, reason: `cannot read: ${readFailure(err)}` }] }
+    return { ...base, refused: true, whole: true, problems: [{ file, line: 0, reason: `cannot read: ${readFailure(err)}` }] }
   }
   const loaded = await loadTaxonomyText(text, file, format)
   const rulesFile = rulesFileFor(file)
@@ -113,7 +115,7 @@ export async function importTaxonomy(db: Db, file: string, opts: { skipBad: bool
   if ((errors.length > 0 && !opts.skipBad) || concepts.length === 0) {
     // a refusal always says why, also for an empty file or one with only a header
     const why = concepts.length === 0 && errors.length === 0 ? [{ file, line: 1, reason: 'no concepts in the file (empty, or a header without rows)' }] : []
-    return { ...base, read, refused: true, problems: [...problems.map(toInputProblem), ...why] }
+    return { ...base, read, refused: true, ...(concepts.length === 0 ? { whole: true } : {}), problems: [...problems.map(toInputProblem), ...why] }
   }
   const affected = db.transaction(() => {
     const n = replaceTaxonomy(db, concepts, rules, file, 'import', caseFlags(loaded.taxonomy, rules))

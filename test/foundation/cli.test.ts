@@ -63,6 +63,24 @@ describe('tides CLI', () => {
     expect(await tides('report', 'needs', '--limit', '0')).toMatchObject({ code: 2, err: expect.stringMatching(/--limit needs a whole number of at least 1, got "0"/) })
   })
 
+  it('refuses a file with a wrong header as a whole, without advising --skip-bad (which cannot help)', async () => {
+    const dir = tmpDir()
+    const db = path.join(dir, 't.db')
+    const people = path.join(dir, 'people.csv')
+    fs.writeFileSync(people, 'person_id,team\np1,north\n')
+    const taxonomy = path.join(dir, 'tax.csv')
+    fs.writeFileSync(taxonomy, 'id,label\nfoo,Foo\n')
+    for (const [kind, file, column] of [['people', people, 'role'], ['taxonomy', taxonomy, 'prefLabel']] as const) {
+      for (const extra of [[], ['--skip-bad']]) {
+        const r = await tides('--db', db, 'import', kind, file, ...extra)
+        expect(r.code, `${kind} ${extra.join(' ')}`).toBe(1)
+        expect(r.err).toContain(`${file}:1: column ${column}`)
+        expect(r.err).toContain(`nothing imported from a file that could not be read as ${kind}`)
+        expect(r.err).not.toMatch(/--skip-bad/)
+      }
+    }
+  })
+
   it('imports a CSV, refuses a bad one with file:line, and accepts the good rows with --skip-bad', async () => {
     const dir = tmpDir()
     const db = path.join(dir, 't.db')
