@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest'
 import * as f from '../../src/server/format.ts'
 import { readCurveDetails, readForecast, readMonthSeries, scoreParts } from '../../src/server/payloads.ts'
 import { describeCurve, type CurveSummary } from '../../src/server/pages/skill-words.ts'
+import { RESKILLING_TABLES } from '../../src/server/pages/reskilling.ts'
 import { redactLocation } from '../../src/server/pages/sources.ts'
 import { readExamples, readTrend } from '../../src/server/pages/taxonomy.ts'
 import { sparkPoints, sparkline } from '../../src/server/sparkline.ts'
@@ -21,6 +22,16 @@ describe('sparkPoints', () => {
   it('names first and last value in its accessible label', async () => {
     expect(String(await sparkline([0.01, 0.02], 'SQL'))).toContain('aria-label="SQL: share of postings from 1.00% to 2.00% over 2 months"')
     expect(String(await sparkline([], 'SQL'))).toContain('no data')
+  })
+})
+
+describe('the reskilling forecast table', () => {
+  it('shows expected counts of people to the whole person, the same way in every row', () => {
+    const { columns } = RESKILLING_TABLES.forecast({} as never)
+    const cell = (key: string, row: Record<string, unknown>) => String(columns.find((c) => c.key === key)!.cell!(row as never))
+    expect([781.96, 794, 113.3].map((need) => cell('need', { need }))).toEqual(['782', '794', '113'])
+    expect(cell('supply', { supply: 75.5 })).toBe('76')
+    expect(cell('need', { need: null })).toBe('–')
   })
 })
 

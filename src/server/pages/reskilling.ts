@@ -166,8 +166,10 @@ const FORECAST_COLUMNS: Column<ForecastRow>[] = [
   { key: 'reskill', label: 'People to reskill (median)', numeric: true, value: (r) => r.reskill, cell: (r) => (r.note ? r.note : f.num(r.reskill)) },
   { key: 'low', label: 'Interval low', numeric: true, value: (r) => r.low, cell: (r) => f.num(r.low) },
   { key: 'high', label: 'Interval high', numeric: true, value: (r) => r.high, cell: (r) => f.num(r.high) },
-  { key: 'need', label: 'Needing it', numeric: true, value: (r) => r.need, cell: (r) => f.num(r.need) },
-  { key: 'supply', label: 'Meeting it', numeric: true, value: (r) => r.supply, cell: (r) => f.num(r.supply) },
+  // expected counts of people: shown to the whole person (the CSV keeps them as computed), so a
+  // column does not mix 782.0, 794 and 113.3
+  { key: 'need', label: 'Needing it', numeric: true, value: (r) => r.need, cell: (r) => f.num(r.need, 0) },
+  { key: 'supply', label: 'Meeting it', numeric: true, value: (r) => r.supply, cell: (r) => f.num(r.supply, 0) },
   { key: 'headcountNow', label: 'Headcount now', numeric: true, value: (r) => r.headcountNow, cell: (r) => f.num(r.headcountNow) },
 ]
 
