@@ -49,10 +49,14 @@ export function pValue(p: number | null | undefined): string {
   return p.toFixed(3)
 }
 
-/** A plain number with up to `digits` decimals. */
-export function num(x: number | null | undefined, digits = 1): string {
+/**
+ * A plain number: with `digits`, always that many decimals (a column of θ reads 0.00, -0.20, 0.30,
+ * not 0, -0.20, 0.30); without, a whole number as it is and any other to one decimal (counts).
+ */
+export function num(x: number | null | undefined, digits?: number): string {
   if (!ok(x)) return DASH
-  return Number.isInteger(x) ? String(x) : x.toFixed(digits)
+  if (digits !== undefined) return x.toFixed(digits)
+  return Number.isInteger(x) ? String(x) : x.toFixed(1)
 }
 
 /** An ISO timestamp shortened to minutes, UTC: "2025-03-04 12:30 UTC". */

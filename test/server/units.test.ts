@@ -46,6 +46,9 @@ describe('format', () => {
     expect(f.pValue(0.0004)).toBe('< 0.001')
     expect(f.month('2024-03')).toBe('Mar 2024')
     expect(f.when('2025-03-04T12:30:59Z')).toBe('2025-03-04 12:30 UTC')
+    // counts: whole numbers as they are, others to one decimal; with digits, always that many
+    expect([207, 44.44, 0].map((x) => f.num(x))).toEqual(['207', '44.4', '0'])
+    expect([0, -0.2, 0.3, 1].map((x) => f.num(x, 2))).toEqual(['0.00', '-0.20', '0.30', '1.00'])
     for (const bad of [null, undefined, NaN, Infinity]) {
       expect(f.share(bad)).toBe('–')
       expect(f.growth(bad)).toBe('–')
