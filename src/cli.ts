@@ -257,7 +257,8 @@ export async function main(argv: string[], io: Io): Promise<number> {
     io.err(helpText())
     // an option this level does not know (the command's own options need the command first)
     const unknown = globalParsed.tokens.find((t) => t.kind === 'option' && !(t.name in GLOBAL_OPTIONS))
-    io.err(unknown?.kind === 'option' ? `tides: unknown option '${unknown.rawName}' (before a command: --db, --config, --help)\n` : 'tides: a command is required\n')
+    const known = Object.keys(GLOBAL_OPTIONS).map((o) => `--${o}`).join(', ')
+    io.err(unknown?.kind === 'option' ? `tides: unknown option '${unknown.rawName}' (before a command: ${known})\n` : 'tides: a command is required\n')
     return 2
   }
   const command = COMMANDS[name]

@@ -144,9 +144,14 @@ async function checkWhole(file: string, kind: Kind, maxTextChars: number): Promi
   return { docs: good, problems, read: good.length + bad, fatal: null }
 }
 
+/** Nothing imported: for bad rows (`read` lines read), or for the file as a whole (`whole`). */
+function refusal(kind: Kind, file: string, problems: InputProblem[], how: { read: number } | 'whole'): ImportResult {
+  return { kind, file, read: how === 'whole' ? 0 : how.read, imported: 0, skipped: 0, problems, refused: true, ...(how === 'whole' ? { whole: true } : {}) }
+}
+
 /** Imports one postings or requests file. */
 export async function importDocuments(db: Db, config: Config, kind: Kind, file: string, opts: Pick<ImportOptions, 'skipBad'> & { log?: (m: string) => void }): Promise<ImportResult> {
-  const refuse = (problems: InputProblem[]): ImportResult => ({ kind, file, read: 0, imported: 0, skipped: 0, problems, refused: true, whole: true })
+  const refuse = (problems: InputProblem[]): ImportResult => refusal(kind, file, problems, 'whole')
   let stat: fs.Stats
   try {
     stat = fs.statSync(file)
@@ -172,14 +177,13 @@ export async function importDocuments(db: Db, config: Config, kind: Kind, file: 
 }
 
 async function importChecked(db: Db, config: Config, kind: Kind, file: string, opts: Pick<ImportOptions, 'skipBad'> & { log?: (m: string) => void }, parser: LineParser | null, size: number, lines: boolean): Promise<ImportResult> {
-  const refuse = (problems: InputProblem[], read = 0): ImportResult => ({ kind, file, read, imported: 0, skipped: 0, problems, refused: true })
   const maxText = config.ingest.maxTextChars
   // JSON Lines below the parse worker's size are parsed once, in the check, and kept for the write
   const checked = !lines ? await checkWhole(file, kind, maxText) : parser ? await checkJsonLinesInParallel(parser, file, size, kind, maxText) : checkJsonLines(file, kind, maxText, null, true)
-  if (checked.fatal) return { ...refuse([toInputProblem(checked.fatal)]), whole: true }
+  if (checked.fatal) return refusal(kind, file, [toInputProblem(checked.fatal)], 'whole')
   const bad = checked.problems.filter((p) => !p.warning).length
   const problems = checked.problems.map(toInputProblem)
-  if (bad > 0 && !opts.skipBad) return refuse(problems, checked.read)
+  if (bad > 0 && !opts.skipBad) return refusal(kind, file, problems, { read: checked.read })
 
   const sourceId = `import:${kind}`
   upsertSource(db, { id: sourceId, kind: 'import', location: `tides import ${kind}` })
