@@ -100,7 +100,11 @@ export function loadConfig(options: LoadOptions = {}): Config & { configFile: st
     try {
       raw = JSON.parse(text)
     } catch (err) {
-      throw new ConfigError(`${file}: not valid JSON: ${(err as Error).message}`)
+      // Node 20's message gives a character position only: name the line (and column) as for any file
+      const message = (err as Error).message
+      const at = /at position (\d+)/.exec(message)
+      const before = at ? text.slice(0, Number(at[1])).split('\n') : null
+      throw new ConfigError(`${file}${before ? `:${before.length}: column ${before.at(-1)!.length + 1}` : ''}: not valid JSON: ${message}`)
     }
   }
   const config = parseConfig(raw, file ?? DEFAULT_CONFIG_FILE)

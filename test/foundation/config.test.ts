@@ -49,6 +49,11 @@ describe('config', () => {
     const file = writeConfig('{ "db": ')
     expect(() => loadConfig({ file, env: {} })).toThrow(ConfigError)
     expect(() => loadConfig({ file, env: {} })).toThrow(new RegExp(`${path.basename(file)}: not valid JSON`))
+    const dir = fs.mkdtempSync(path.join(os.tmpdir(), 'tides-config-'))
+    const broken = path.join(dir, 'broken.json')
+    fs.writeFileSync(broken, '{\n  "curves": {\n    "q": 0.05,\n  }\n}\n')
+    // the trailing comma: line 4, where the next property name was expected
+    expect(() => loadConfig({ file: broken, env: {} })).toThrow(`${broken}:4: column 3: not valid JSON`)
     expect(() => loadConfig({ file: '/nonexistent/tides.json', env: {} })).toThrow(/cannot read config file: no such file or folder \(ENOENT\)/)
   })
 
