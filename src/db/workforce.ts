@@ -52,13 +52,29 @@ export function upsertItems(db: Db, rows: readonly ItemRow[]): void {
   if (rows.length > 0) bumpAbilityInputs(db)
 }
 
-const itemLookups = new WeakMap<Db, Database.Statement>()
+const lookups = new WeakMap<Db, Map<string, Database.Statement>>()
 
-/** Whether an item is stored (called once per imported response row, so the statement is kept). */
+/** A kept statement: the lookups below run once per imported row (or per distinct name). */
+function lookup(db: Db, sql: string): Database.Statement {
+  let kept = lookups.get(db)
+  if (!kept) lookups.set(db, (kept = new Map()))
+  let st = kept.get(sql)
+  if (!st) kept.set(sql, (st = db.prepare(sql)))
+  return st
+}
+
+/** Whether an item is stored. */
 export function itemExists(db: Db, itemId: string): boolean {
-  let st = itemLookups.get(db)
-  if (!st) itemLookups.set(db, (st = db.prepare('SELECT 1 FROM items WHERE item_id = ?')))
-  return st.get(itemId) !== undefined
+  return lookup(db, 'SELECT 1 FROM items WHERE item_id = ?').get(itemId) !== undefined
+}
+
+/** Whether a person is stored, and whether any is (the import's reference notes check against a table only once it has rows). */
+export function personExists(db: Db, personId: string): boolean {
+  return lookup(db, 'SELECT 1 FROM people WHERE person_id = ?').get(personId) !== undefined
+}
+
+export function hasPeople(db: Db): boolean {
+  return db.prepare('SELECT 1 FROM people LIMIT 1').get() !== undefined
 }
 
 export function upsertResponses(db: Db, rows: readonly ResponseRow[]): void {

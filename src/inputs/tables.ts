@@ -9,6 +9,7 @@ import type { Db } from '../db/connection.ts'
 import * as store from '../db/workforce.ts'
 import { type InputProblem, readCsv } from '../util/csv.ts'
 import { FieldError, date, list, number, text } from './fields.ts'
+import { conceptCount, conceptExists } from '../db/taxonomy.ts'
 import { readFailure } from '../errors.ts'
 
 export type TableKind = 'items' | 'responses' | 'abilities' | 'people' | 'roles' | 'courses'
@@ -19,6 +20,11 @@ interface TableSpec<R> {
   row(values: Record<string, string>): R
   /** checks against what is already stored or earlier in the file; returns a problem reason or null */
   check?(db: Db, row: R): { column: string; reason: string } | null
+  /**
+   * columns that name a skill of the taxonomy or a person of the people table: a name that is not
+   * there keeps its row (the order of imports is free) but is noted once per column (referenceNotes)
+   */
+  references?: { column: string; of: 'skill' | 'person'; ids(row: R): readonly string[] }[]
   store(db: Db, rows: R[]): void
 }
 
@@ -38,6 +44,7 @@ const SPECS: Record<TableKind, TableSpec<unknown>> = {
         b: number(v, 'b', { required: false, min: -10, max: 10 }),
         c: number(v, 'c', { required: false, min: 0, max: 0.99 }),
       }),
+    references: [{ column: 'skill_id', of: 'skill', ids: (r) => [r.skill_id] }],
     store: (db, rows) => store.upsertItems(db, rows),
   }),
   responses: spec<store.ResponseRow>({
@@ -50,6 +57,7 @@ const SPECS: Record<TableKind, TableSpec<unknown>> = {
         taken_at: date(v, 'taken_at'),
       }),
     check: (db, row) => (store.itemExists(db, row.item_id) ? null : { column: 'item_id', reason: `unknown item "${row.item_id}" (import items first)` }),
+    references: [{ column: 'person_id', of: 'person', ids: (r) => [r.person_id] }],
     store: (db, rows) => store.upsertResponses(db, rows),
   }),
   abilities: spec<store.AbilityRow>({
@@ -62,6 +70,10 @@ const SPECS: Record<TableKind, TableSpec<unknown>> = {
         se: number(v, 'se', { min: 0.0001, max: 10 }),
         assessed_at: date(v, 'assessed_at'),
       }),
+    references: [
+      { column: 'person_id', of: 'person', ids: (r) => [r.person_id] },
+      { column: 'skill_id', of: 'skill', ids: (r) => [r.skill_id] },
+    ],
     store: (db, rows) => store.upsertImportedAbilities(db, rows),
   }),
   people: spec<store.PersonRow>({
@@ -73,6 +85,7 @@ const SPECS: Record<TableKind, TableSpec<unknown>> = {
   roles: spec<store.RoleRow>({
     required: ['role', 'skill_id', 'required_theta'],
     row: (v) => ({ role: text(v, 'role', { max: 200 }), skill_id: text(v, 'skill_id', { max: 200 }), required_theta: number(v, 'required_theta', { min: -6, max: 6 }) }),
+    references: [{ column: 'skill_id', of: 'skill', ids: (r) => [r.skill_id] }],
     store: (db, rows) => store.upsertRoles(db, rows),
   }),
   courses: spec<store.CourseRow>({
@@ -88,6 +101,7 @@ const SPECS: Record<TableKind, TableSpec<unknown>> = {
         enrollments_prev_12m: number(v, 'enrollments_prev_12m', { required: false, min: 0, integer: true }),
         owner: text(v, 'owner', { required: false, max: 200 }),
       }),
+    // (no reference note: a course's skills may be labels, resolved by the plan)
     store: (db, rows) => store.upsertCourses(db, rows),
   }),
 }
@@ -135,13 +149,17 @@ export function importTableText(db: Db, kind: TableKind, content: string, file: 
   if (parsed.fatal) return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, whole: true, problems: [parsed.fatal] }
   const problems = [...parsed.problems]
   const good: unknown[] = []
+  const goodLines: number[] = []
   const run = db.transaction(() => {
     for (const { line, values } of parsed.rows) {
       try {
         const row = spec.row(values)
         const bad = spec.check?.(db, row)
         if (bad) problems.push({ file, line, column: bad.column, reason: bad.reason })
-        else good.push(row)
+        else {
+          good.push(row)
+          goodLines.push(line)
+        }
       } catch (err) {
         if (err instanceof FieldError) problems.push({ file, line, column: err.column, reason: err.message })
         else throw err
@@ -153,5 +171,40 @@ export function importTableText(db: Db, kind: TableKind, content: string, file: 
   })
   const stored = run()
   const read = parsed.rows.length + parsed.problems.length
-  return { kind, file, read, imported: stored ? good.length : 0, skipped: stored ? read - good.length : 0, refused: !stored, problems: [...parsed.warnings, ...problems] }
+  const notes = referenceNotes(db, spec, good, goodLines, file)
+  return { kind, file, read, imported: stored ? good.length : 0, skipped: stored ? read - good.length : 0, refused: !stored, problems: [...parsed.warnings, ...notes, ...problems] }
+}
+
+/**
+ * One note per reference column whose names are not stored: how many rows, how many names, the
+ * first of them with its line. Such rows are kept (items may come before the taxonomy has their
+ * skill, responses before their people), but a skill id spelt differently from the taxonomy's
+ * would otherwise count toward no skill shown, silently. A people table with no rows yet is not
+ * checked against, nor is an empty taxonomy. Each name is looked up once.
+ */
+function referenceNotes(db: Db, spec: TableSpec<unknown>, rows: readonly unknown[], lines: readonly number[], file: string): InputProblem[] {
+  const notes: InputProblem[] = []
+  for (const ref of spec.references ?? []) {
+    if (ref.of === 'person' ? !store.hasPeople(db) : conceptCount(db) === 0) continue
+    const known = new Map<string, boolean>()
+    const isKnown = (id: string): boolean => {
+      let k = known.get(id)
+      if (k === undefined) known.set(id, (k = ref.of === 'skill' ? conceptExists(db, id) : store.personExists(db, id)))
+      return k
+    }
+    let naming = 0
+    let first: { line: number; id: string } | null = null
+    for (let i = 0; i < rows.length; i++) {
+      const unknown = ref.ids(rows[i]).filter((id) => !isKnown(id))
+      if (unknown.length === 0) continue
+      naming++
+      first ??= { line: lines[i]!, id: unknown[0]! }
+    }
+    if (!first) continue
+    const names = [...known.values()].filter((k) => !k).length
+    const what = ref.of === 'skill' ? `skill${names === 1 ? '' : 's'} not in the taxonomy` : `${names === 1 ? 'person' : 'people'} not in the people table`
+    const until = ref.of === 'skill' ? 'count toward a skill once the taxonomy has its id' : 'count in a role once the person is imported'
+    notes.push({ file, line: first.line, column: ref.column, reason: `${naming} row${naming === 1 ? ' names' : 's name'} ${names} ${what} (first "${first.id}"); the rows are kept, and ${until}` })
+  }
+  return notes
 }

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest'
 import { openDb } from '../../src/db/connection.ts'
+import { insertConcept } from '../../src/db/taxonomy.ts'
 import { workforceCounts } from '../../src/db/workforce.ts'
 import { importTableText } from '../../src/inputs/tables.ts'
 import { formatProblem } from '../../src/util/csv.ts'
@@ -102,5 +103,27 @@ describe('table imports: warnings reject nothing', () => {
     const r = importTableText(fresh(), 'people', 'person_id,role,team,shoe_size\np1,analyst,north,44\n', 'p.csv')
     expect(r).toMatchObject({ refused: false, imported: 1 })
     expect(formatProblem(r.problems[0]!)).toBe('p.csv:1: column shoe_size: unknown column(s) ignored')
+  })
+
+  it('names of skills the taxonomy lacks, and of people not imported, are noted once per column; the rows are kept', () => {
+    const db = fresh()
+    const notes = (r: ReturnType<typeof importTableText>) => r.problems.map(formatProblem)
+    // nothing to check against yet: an empty taxonomy and no people
+    expect(importTableText(db, 'items', 'item_id,skill_id,a,b,c\ni0,SQL,1,0,0\n', 'i.csv').problems).toEqual([])
+    expect(importTableText(db, 'responses', 'person_id,item_id,response,taken_at\nghost,i0,1,2026-01-01\n', 'r.csv').problems).toEqual([])
+    for (const id of ['sql', 'python']) insertConcept(db, { id, prefLabel: id, altLabels: [], hiddenLabels: [], broader: [], type: 'hard' }, 'import', { caseSensitive: () => false })
+    importTableText(db, 'people', 'person_id,role,team\np1,analyst,north\n', 'p.csv')
+    const items = importTableText(db, 'items', 'item_id,skill_id,a,b,c\ni1,sql,1,0,0\ni2,SQL,1,0,0\ni3,SQL,1,0,0\ni4,Python,1,0,0\n', 'i.csv')
+    expect(items).toMatchObject({ refused: false, imported: 4 })
+    expect(notes(items)).toEqual(['i.csv:3: column skill_id: 3 rows name 2 skills not in the taxonomy (first "SQL"); the rows are kept, and count toward a skill once the taxonomy has its id'])
+    const responses = importTableText(db, 'responses', 'person_id,item_id,response,taken_at\np1,i1,1,2026-01-01\np2,i1,0,2026-01-01\n', 'r.csv')
+    expect(responses).toMatchObject({ refused: false, imported: 2 })
+    expect(notes(responses)).toEqual(['r.csv:3: column person_id: 1 row names 1 person not in the people table (first "p2"); the rows are kept, and count in a role once the person is imported'])
+    const abilities = importTableText(db, 'abilities', 'person_id,skill_id,theta,se,assessed_at\np1,sql,0,0.3,2026-01-01\np3,Sql,0,0.3,2026-01-01\n', 'a.csv')
+    expect(notes(abilities).map((n) => n.split(':').slice(0, 3).join(':'))).toEqual(['a.csv:3: column person_id', 'a.csv:3: column skill_id'])
+    // a course's skills may be labels (the plan resolves them): not noted
+    expect(importTableText(db, 'courses', 'course_id,title,skills,last_reviewed,enrollments_12m,owner\nc1,SQL,SQL|Python,,,\n', 'c.csv').problems).toEqual([])
+    // every name known: no note
+    expect(importTableText(db, 'roles', 'role,skill_id,required_theta\nanalyst,python,0\n', 'roles.csv').problems).toEqual([])
   })
 })
