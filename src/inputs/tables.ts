@@ -24,7 +24,7 @@ interface TableSpec<R> {
    * columns that name a skill of the taxonomy or a person of the people table: a name that is not
    * there keeps its row (the order of imports is free) but is noted once per column (referenceNotes)
    */
-  references?: { column: string; of: 'skill' | 'person'; ids(row: R): readonly string[] }[]
+  references?: { column: string; of: 'skill' | 'person'; id(row: R): string }[]
   store(db: Db, rows: R[]): void
 }
 
@@ -44,7 +44,7 @@ const SPECS: Record<TableKind, TableSpec<unknown>> = {
         b: number(v, 'b', { required: false, min: -10, max: 10 }),
         c: number(v, 'c', { required: false, min: 0, max: 0.99 }),
       }),
-    references: [{ column: 'skill_id', of: 'skill', ids: (r) => [r.skill_id] }],
+    references: [{ column: 'skill_id', of: 'skill', id: (r) => r.skill_id }],
     store: (db, rows) => store.upsertItems(db, rows),
   }),
   responses: spec<store.ResponseRow>({
@@ -57,7 +57,7 @@ const SPECS: Record<TableKind, TableSpec<unknown>> = {
         taken_at: date(v, 'taken_at'),
       }),
     check: (db, row) => (store.itemExists(db, row.item_id) ? null : { column: 'item_id', reason: `unknown item "${row.item_id}" (import items first)` }),
-    references: [{ column: 'person_id', of: 'person', ids: (r) => [r.person_id] }],
+    references: [{ column: 'person_id', of: 'person', id: (r) => r.person_id }],
     store: (db, rows) => store.upsertResponses(db, rows),
   }),
   abilities: spec<store.AbilityRow>({
@@ -71,8 +71,8 @@ const SPECS: Record<TableKind, TableSpec<unknown>> = {
         assessed_at: date(v, 'assessed_at'),
       }),
     references: [
-      { column: 'person_id', of: 'person', ids: (r) => [r.person_id] },
-      { column: 'skill_id', of: 'skill', ids: (r) => [r.skill_id] },
+      { column: 'person_id', of: 'person', id: (r) => r.person_id },
+      { column: 'skill_id', of: 'skill', id: (r) => r.skill_id },
     ],
     store: (db, rows) => store.upsertImportedAbilities(db, rows),
   }),
@@ -85,7 +85,7 @@ const SPECS: Record<TableKind, TableSpec<unknown>> = {
   roles: spec<store.RoleRow>({
     required: ['role', 'skill_id', 'required_theta'],
     row: (v) => ({ role: text(v, 'role', { max: 200 }), skill_id: text(v, 'skill_id', { max: 200 }), required_theta: number(v, 'required_theta', { min: -6, max: 6 }) }),
-    references: [{ column: 'skill_id', of: 'skill', ids: (r) => [r.skill_id] }],
+    references: [{ column: 'skill_id', of: 'skill', id: (r) => r.skill_id }],
     store: (db, rows) => store.upsertRoles(db, rows),
   }),
   courses: spec<store.CourseRow>({
@@ -195,10 +195,10 @@ function referenceNotes(db: Db, spec: TableSpec<unknown>, rows: readonly unknown
     let naming = 0
     let first: { line: number; id: string } | null = null
     for (let i = 0; i < rows.length; i++) {
-      const unknown = ref.ids(rows[i]).filter((id) => !isKnown(id))
-      if (unknown.length === 0) continue
+      const id = ref.id(rows[i])
+      if (isKnown(id)) continue
       naming++
-      first ??= { line: lines[i]!, id: unknown[0]! }
+      first ??= { line: lines[i]!, id }
     }
     if (!first) continue
     const names = [...known.values()].filter((k) => !k).length
