@@ -68,11 +68,12 @@ export function itemExists(db: Db, itemId: string): boolean {
   return lookup(db, 'SELECT 1 FROM items WHERE item_id = ?').get(itemId) !== undefined
 }
 
-/** Whether a person is stored, and whether any is (the import's reference notes check against a table only once it has rows). */
+/** Whether a person is stored. */
 export function personExists(db: Db, personId: string): boolean {
   return lookup(db, 'SELECT 1 FROM people WHERE person_id = ?').get(personId) !== undefined
 }
 
+/** Whether any person is stored (the import's reference notes check against the table only once it has rows). */
 export function hasPeople(db: Db): boolean {
   return db.prepare('SELECT 1 FROM people LIMIT 1').get() !== undefined
 }

@@ -15,7 +15,7 @@ import type { Config } from '../config.ts'
 import type { Db } from '../db/connection.ts'
 import { upsertSource } from '../db/documents.ts'
 import { finishRun, startRun } from '../db/runs.ts'
-import type { ImportResult } from '../inputs/tables.ts'
+import { refusal, type ImportResult } from '../inputs/tables.ts'
 import type { InputProblem } from '../util/csv.ts'
 import { checkDocument, type DocumentInput, ItemError, type ItemProblem } from './document.ts'
 import { readFeed } from './feed.ts'
@@ -142,11 +142,6 @@ async function checkWhole(file: string, kind: Kind, maxTextChars: number): Promi
   }
   const bad = problems.filter((p) => !p.warning).length
   return { docs: good, problems, read: good.length + bad, fatal: null }
-}
-
-/** Nothing imported: for bad rows (`read` lines read), or for the file as a whole (`whole`). */
-function refusal(kind: Kind, file: string, problems: InputProblem[], how: { read: number } | 'whole'): ImportResult {
-  return { kind, file, read: how === 'whole' ? 0 : how.read, imported: 0, skipped: 0, problems, refused: true, ...(how === 'whole' ? { whole: true } : {}) }
 }
 
 /** Imports one postings or requests file. */

@@ -128,13 +128,18 @@ export interface ImportResult {
   whole?: boolean
 }
 
+/** Nothing imported: for bad rows (`read` rows read), or for the file as a whole (`whole`). */
+export function refusal(kind: string, file: string, problems: InputProblem[], how: { read: number } | 'whole'): ImportResult {
+  return { kind, file, read: how === 'whole' ? 0 : how.read, imported: 0, skipped: 0, problems, refused: true, ...(how === 'whole' ? { whole: true } : {}) }
+}
+
 /** Validates and stores one CSV file of a table kind. */
 export function importTableFile(db: Db, kind: TableKind, file: string, opts: { skipBad?: boolean } = {}): ImportResult {
   let content: string
   try {
     content = fs.readFileSync(file, 'utf8')
   } catch (err) {
-    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, whole: true, problems: [{ file, line: 0, reason: `cannot read: ${readFailure(err)}` }] }
+    return refusal(kind, file, [{ file, line: 0, reason: `cannot read: ${readFailure(err)}` }], 'whole')
   }
   return importTableText(db, kind, content, file, opts)
 }
@@ -143,10 +148,10 @@ export function importTableText(db: Db, kind: TableKind, content: string, file: 
   const spec = SPECS[kind]
   if (content.includes('\uFFFD')) {
     const line = content.slice(0, content.indexOf('\uFFFD')).split('\n').length
-    return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, whole: true, problems: [{ file, line, reason: 'not valid UTF-8 text' }] }
+    return refusal(kind, file, [{ file, line, reason: 'not valid UTF-8 text' }], 'whole')
   }
   const parsed = readCsv(content, file, spec.required, spec.optional ?? [])
-  if (parsed.fatal) return { kind, file, read: 0, imported: 0, skipped: 0, refused: true, whole: true, problems: [parsed.fatal] }
+  if (parsed.fatal) return refusal(kind, file, [parsed.fatal], 'whole')
   const problems = [...parsed.problems]
   const good: unknown[] = []
   const goodLines: number[] = []
